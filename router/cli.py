@@ -1,0 +1,249 @@
+"""The command line: parse, call, map errors to exit status 2.
+
+Every command reads a board file, calls one function of the package and prints
+its result. Bad input of any kind is a :class:`~router.errors.BoardError`,
+printed as one line with exit status 2; nothing here writes a file except
+through :mod:`router.safefile`.
+"""
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+from pathlib import Path
+
+from .errors import BoardError, ElbowroomError
+
+__all__ = ["main", "build_parser"]
+
+EXIT_OK, EXIT_FINDINGS, EXIT_BAD_INPUT = 0, 1, 2
+
+
+class _Parser(argparse.ArgumentParser):
+    """argparse that exits with status 2 and one line on a usage error (it does already) ..."""
+
+    def error(self, message):
+        self.print_usage(sys.stderr)
+        sys.stderr.write(f"elbowroom: error: {message}\n")
+        raise SystemExit(EXIT_BAD_INPUT)
+
+
+def _not_ready(what: str):
+    raise BoardError(None, what, "this command is not built yet in this version")
+
+
+# ------------------------------------------------------------------ commands
+
+def cmd_demo(args) -> int:
+    from .demo import run_demo
+    return run_demo(Path(args.output), quiet=args.quiet)
+
+
+def cmd_place(args) -> int:
+    from . import load_board, save_board
+    try:
+        from placement import place
+    except ImportError:
+        _not_ready("place")
+    board = load_board(args.board)
+    result = place(board, seed=args.seed, all_parts=args.all, gap=args.gap)
+    save_board(result.board, args.output)
+    if not args.quiet:
+        print(result.summary())
+        print(f"wrote {args.output}")
+    return EXIT_OK
+
+
+def cmd_route(args) -> int:
+    from . import load_board, save_board, route
+    from .rules import CAUTION, needs_caution
+    board = load_board(args.board)
+    progress = (not args.quiet) and (not args.json) and sys.stderr.isatty()
+    result = route(board, bend_penalty=args.bend_penalty, via_penalty=args.via_penalty,
+                   seed=args.seed, reroute=args.reroute, progress=progress, passes=args.passes)
+    save_board(result.board, args.output)
+    if args.json:
+        figs = dict(result.figures)
+        figs["totals"] = dict(figs["totals"], seconds=round(result.seconds, 3))
+        if result.failed:
+            figs["failed"] = [{"net": n, "reason": r} for n, r in result.failed.items()]
+        print(json.dumps(figs, indent=2))
+    elif not args.quiet:
+        t = result.figures["totals"]
+        print(f"routed {t['routed']} of {t['nets']} nets in {result.seconds:.1f} s: "
+              f"{t['bends']} bends, {t['length']:.1f} mm, {t['vias']} vias, {t['jumpers']} jumpers")
+        for net, reason in result.failed.items():
+            print(f"  not routed: {net}: {reason}")
+        print(f"wrote {args.output}")
+        if needs_caution(result.board):
+            print(CAUTION)
+    return EXIT_OK if not result.failed else EXIT_FINDINGS
+
+
+def cmd_check(args) -> int:
+    from . import load_board
+    try:
+        from .check import check, format_violations, violations_json
+    except ImportError:
+        _not_ready("check")
+    board = load_board(args.board)
+    violations = check(board)
+    if args.json:
+        print(json.dumps(violations_json(violations), indent=2))
+    else:
+        print(format_violations(violations, board))
+    return EXIT_FINDINGS if violations else EXIT_OK
+
+
+def cmd_report(args) -> int:
+    from . import load_board
+    from .figures import board_figures, format_report
+    board = load_board(args.board)
+    figs = board_figures(board)
+    print(json.dumps(figs, indent=2) if args.json else format_report(figs))
+    return EXIT_OK
+
+
+def cmd_compare(args) -> int:
+    from . import load_board
+    try:
+        from .figures import board_figures, compare_figures, format_compare
+    except ImportError:
+        _not_ready("compare")
+    boards = [(str(p), load_board(p)) for p in args.boards]
+    comp = compare_figures([(label, board_figures(b)) for label, b in boards])
+    if args.plot:
+        from .draw import plot_compare
+        plot_compare(comp, args.plot)
+    print(json.dumps(comp, indent=2) if args.json else format_compare(comp))
+    return EXIT_OK
+
+
+def cmd_render(args) -> int:
+    from . import load_board
+    board = load_board(args.board)
+    out = Path(args.output)
+    suffix = out.suffix.lower()
+    if suffix not in (".png", ".svg", ".html"):
+        raise BoardError(str(out), "-o", f"unknown picture type '{suffix}'; use .png, .svg or .html")
+    violations = None
+    if args.check:
+        from .check import check
+        violations = check(board)
+    try:
+        if suffix == ".html":
+            from .page import write_page
+            write_page(board, out, violations=violations)
+        else:
+            from .draw import render
+            render(board, out, violations=violations)
+    except ImportError:
+        _not_ready("render")
+    if not args.quiet:
+        print(f"wrote {out}")
+    return EXIT_OK
+
+
+def cmd_export(args) -> int:
+    from . import load_board
+    try:
+        from .fabfiles import export
+    except ImportError:
+        _not_ready("export")
+    board = load_board(args.board)
+    files = export(board, Path(args.output))
+    if not args.quiet:
+        for f in files:
+            print(f"wrote {f}")
+        from .rules import CAUTION
+        print(CAUTION)
+    return EXIT_OK
+
+
+# ------------------------------------------------------------------ parser
+
+def build_parser() -> argparse.ArgumentParser:
+    p = _Parser(prog="elbowroom",
+                description="Route, check, report, draw and export small one- and two-layer boards.",
+                epilog="A rough route is not a certified design: fabrication follows the board house's "
+                       "rules and the local electrical codes; mains or high-voltage work needs licensed practice.")
+    sub = p.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+
+    def add(name, help_, func):
+        sp = sub.add_parser(name, help=help_, description=help_)
+        sp.set_defaults(func=func)
+        sp.add_argument("-q", "--quiet", action="store_true", help="print nothing but errors")
+        return sp
+
+    sp = add("demo", "write the bundled demo board, place, route, check and draw it", cmd_demo)
+    sp.add_argument("-o", "--output", default="elbowroom-demo", metavar="DIR",
+                    help="folder for the demo's files (default ./elbowroom-demo)")
+
+    sp = add("place", "place the parts that have no place", cmd_place)
+    sp.add_argument("board", help="board file")
+    sp.add_argument("-o", "--output", required=True, metavar="OUT", help="placed board file to write")
+    sp.add_argument("--seed", type=int, default=0, help="random seed (default 0)")
+    sp.add_argument("--all", action="store_true", help="place every part that is not fixed")
+    sp.add_argument("--gap", type=float, default=None, metavar="MM",
+                    help="body-to-body gap (default rules.part_gap, 0.5 mm)")
+
+    sp = add("route", "route every net that is not yet routed", cmd_route)
+    sp.add_argument("board", help="board file")
+    sp.add_argument("-o", "--output", required=True, metavar="OUT", help="routed board file to write")
+    sp.add_argument("--bend-penalty", type=float, default=None, metavar="B",
+                    help="cost of one bend, in mm of trace (default 2 grid steps x 4)")
+    sp.add_argument("--via-penalty", type=float, default=None, metavar="V",
+                    help="cost of one via or jumper, in mm of trace")
+    sp.add_argument("--seed", type=int, default=0, help="random seed for the net order (default 0)")
+    sp.add_argument("--reroute", action="store_true", help="remove the copper that is not fixed first")
+    sp.add_argument("--passes", type=int, default=None, metavar="N",
+                    help="most negotiated-congestion passes")
+    sp.add_argument("--json", action="store_true", help="print the figures as JSON")
+
+    sp = add("check", "clearance, connectivity and manufacturing checks", cmd_check)
+    sp.add_argument("board", help="board file")
+    sp.add_argument("--json", action="store_true", help="print the violations as JSON")
+
+    sp = add("report", "bends, length, vias and jumpers per net and in total", cmd_report)
+    sp.add_argument("board", help="board file")
+    sp.add_argument("--json", action="store_true", help="print the figures as JSON")
+
+    sp = add("compare", "the same figures for several boards side by side", cmd_compare)
+    sp.add_argument("boards", nargs="+", metavar="BOARD", help="board files")
+    sp.add_argument("--json", action="store_true", help="print the comparison as JSON")
+    sp.add_argument("--plot", metavar="FILE", help="write a bar chart (.png or .svg)")
+
+    sp = add("render", "draw the board: .png, .svg or an interactive .html page", cmd_render)
+    sp.add_argument("board", help="board file")
+    sp.add_argument("-o", "--output", required=True, metavar="FILE", help="picture to write")
+    sp.add_argument("--check", action="store_true", help="mark the check's violations")
+
+    sp = add("export", "fabrication files: Gerber and drill", cmd_export)
+    sp.add_argument("board", help="board file")
+    sp.add_argument("-o", "--output", required=True, metavar="DIR", help="folder for the files")
+    return p
+
+
+def main(argv=None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if not getattr(args, "command", None):
+        parser.print_help()
+        return EXIT_BAD_INPUT
+    try:
+        return args.func(args)
+    except BoardError as exc:
+        print(f"elbowroom: {exc}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except ElbowroomError as exc:
+        print(f"elbowroom: {exc}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except KeyboardInterrupt:
+        print("elbowroom: interrupted; no file was changed", file=sys.stderr)
+        return 130
+    except BrokenPipeError:
+        return EXIT_OK
+
+
+if __name__ == "__main__":
+    sys.exit(main())
