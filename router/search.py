@@ -1,0 +1,537 @@
+"""A* search over (cell, layer, direction) on the routing grid.
+
+The router's one search: from many source cells (a net's tree so far) to the
+cells of one pin, minimising
+
+    cost = STEP * steps + bend * bends + via * vias + jump * jumpers + sum(extra)
+
+where a *bend* is a change of direction between two grid steps at a cell, a
+*via* is a change of layer at a cell, a *jumper* (one-layer boards) is a straight
+wire over ``k`` cells, and ``extra`` is a per-cell cost of entering a cell (the
+negotiated-congestion terms). A turn at a via or at a jumper end is free, as the
+contract does not count a corner inside a via or pad as a bend.
+
+The public wrapper is :func:`find_path`; the engine ``_astar`` is a
+numba-compiled A* with a binary heap, reusable work arrays stamped with a search
+number (so a search costs what it explores, not the grid size), and an
+admissible heuristic: the Manhattan gap to the targets' box, the turns still
+needed (each at least ``min(bend, via)`` since a via can hide a corner), and a
+via when the current layer holds no target.
+
+References
+----------
+.. [1] C. Y. Lee, "An algorithm for path connections and its applications",
+   IRE Trans. Electronic Computers, 1961.
+.. [2] P. E. Hart, N. J. Nilsson, B. Raphael, "A formal basis for the heuristic
+   determination of minimum cost paths", IEEE Trans. SSC, 1968.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Optional
+
+import numpy as np
+from numba import njit
+
+__all__ = ["STEP", "SearchSpace", "Path", "find_path", "reference_graph", "path_cost"]
+
+#: Cost of one grid step; penalties are in the same unit (a bend of B mm is round(STEP * B / pitch)).
+STEP = 100
+
+# directions: 0 east (+i), 1 north (+j), 2 west (-i), 3 south (-j); 4 = none (at a source, after a via or jumper)
+_DI = np.array([1, 0, -1, 0], dtype=np.int64)
+_DJ = np.array([0, 1, 0, -1], dtype=np.int64)
+NONE = 4
+NDIR = 5
+
+
+@dataclass
+class SearchSpace:
+    """Where one net may go: the arrays of one search problem (see the module docstring).
+
+    Parameters
+    ----------
+    open_cell, open_h, open_v : uint8 arrays [L, ny, nx]
+        Cells a centreline may use; steps (i, j) -> (i+1, j) and (i, j) -> (i, j+1) that are allowed.
+    via_ok : uint8 array [ny, nx]
+        Where a via may stand (all layers checked by the caller).
+    extra : int32 array [L, ny, nx]
+        Non-negative cost added on entering a cell.
+    jump_ok, wire_block : uint8 arrays [ny, nx] or None
+        One-layer boards: where a jumper end may stand, and where a jumper wire may not pass.
+    jump_cells : int64 array [K] or None
+        Allowed jumper lengths in whole cells.
+    """
+    open_cell: np.ndarray
+    open_h: np.ndarray
+    open_v: np.ndarray
+    via_ok: np.ndarray
+    extra: np.ndarray
+    jump_ok: Optional[np.ndarray] = None
+    wire_block: Optional[np.ndarray] = None
+    jump_cells: Optional[np.ndarray] = None
+    _wire_rows: Optional[np.ndarray] = field(default=None, repr=False, compare=False)
+    _wire_cols: Optional[np.ndarray] = field(default=None, repr=False, compare=False)
+
+    def __post_init__(self):
+        L, ny, nx = self.open_cell.shape
+        for name in ("open_h", "open_v", "extra"):
+            if getattr(self, name).shape != (L, ny, nx):
+                raise ValueError(f"{name} has shape {getattr(self, name).shape}, expected {(L, ny, nx)}")
+        if self.via_ok.shape != (ny, nx):
+            raise ValueError(f"via_ok has shape {self.via_ok.shape}, expected {(ny, nx)}")
+        if self.extra.min(initial=0) < 0:
+            raise ValueError("extra costs must be non-negative (A* needs them so)")
+        self.open_cell = np.ascontiguousarray(self.open_cell, dtype=np.uint8)
+        self.open_h = np.ascontiguousarray(self.open_h, dtype=np.uint8)
+        self.open_v = np.ascontiguousarray(self.open_v, dtype=np.uint8)
+        self.via_ok = np.ascontiguousarray(self.via_ok, dtype=np.uint8)
+        self.extra = np.ascontiguousarray(self.extra, dtype=np.int32)
+
+    @property
+    def shape(self) -> tuple[int, int, int]:
+        return self.open_cell.shape
+
+    @property
+    def has_jumpers(self) -> bool:
+        return self.jump_ok is not None and self.jump_cells is not None and len(self.jump_cells) > 0
+
+    def jumper_arrays(self):
+        """jump_ok, wire prefix sums along rows and columns, and the lengths (empty when no jumpers)."""
+        L, ny, nx = self.shape
+        if not self.has_jumpers:
+            z = np.zeros((1, 1), dtype=np.uint8)
+            zi = np.zeros((1, 1), dtype=np.int32)
+            return z, zi, zi, np.zeros(0, dtype=np.int64)
+        if self._wire_rows is None:
+            wb = np.zeros((ny, nx), dtype=np.int32) if self.wire_block is None else self.wire_block.astype(np.int32)
+            rows = np.zeros((ny, nx + 1), dtype=np.int32)
+            rows[:, 1:] = np.cumsum(wb, axis=1)
+            cols = np.zeros((ny + 1, nx), dtype=np.int32)
+            cols[1:, :] = np.cumsum(wb, axis=0)
+            self._wire_rows, self._wire_cols = rows, cols
+        return (np.ascontiguousarray(self.jump_ok, dtype=np.uint8), self._wire_rows, self._wire_cols,
+                np.ascontiguousarray(self.jump_cells, dtype=np.int64))
+
+
+@dataclass
+class Path:
+    """A found path: cells (l, j, i) from a source to a target, and its figures."""
+    cells: np.ndarray
+    cost: int
+    bends: int
+    vias: int
+    jumpers: int
+    expanded: int = 0
+
+
+class _Workspace:
+    """Work arrays reused across searches on grids of one size."""
+
+    def __init__(self, n_states: int):
+        self.stamp_of = np.zeros(n_states, dtype=np.int32)
+        self.g = np.zeros(n_states, dtype=np.int64)
+        self.parent = np.zeros(n_states, dtype=np.int64)
+        self.stamp = 0
+
+    def next_stamp(self) -> int:
+        self.stamp += 1
+        if self.stamp >= 2**31 - 2:
+            self.stamp_of[:] = 0
+            self.stamp = 1
+        return self.stamp
+
+
+_WORKSPACES: dict[int, _Workspace] = {}
+
+
+def _workspace(n_states: int) -> _Workspace:
+    ws = _WORKSPACES.get(n_states)
+    if ws is None:
+        if len(_WORKSPACES) > 4:
+            _WORKSPACES.clear()
+        ws = _WORKSPACES[n_states] = _Workspace(n_states)
+    return ws
+
+
+@njit(cache=True, inline="always")
+def _heuristic(l, j, i, d, tx0, ty0, tx1, ty1, tlayer, step, turn, via_need_cost):
+    gx = 0
+    need_e = False
+    need_w = False
+    if i < tx0:
+        gx = tx0 - i
+        need_e = True
+    elif i > tx1:
+        gx = i - tx1
+        need_w = True
+    gy = 0
+    need_n = False
+    need_s = False
+    if j < ty0:
+        gy = ty0 - j
+        need_n = True
+    elif j > ty1:
+        gy = j - ty1
+        need_s = True
+    nneed = (1 if (need_e or need_w) else 0) + (1 if (need_n or need_s) else 0)
+    if d == 4:
+        turns = nneed - 1 if nneed > 0 else 0
+    else:
+        ahead = (d == 0 and need_e) or (d == 1 and need_n) or (d == 2 and need_w) or (d == 3 and need_s)
+        behind = (d == 0 and need_w) or (d == 1 and need_s) or (d == 2 and need_e) or (d == 3 and need_n)
+        if ahead:
+            turns = nneed - 1
+        elif behind:
+            turns = 2 if nneed == 1 else nneed
+        else:
+            turns = nneed
+    h = step * (gx + gy)
+    if tlayer[l] == 0:
+        # a via is needed anyway, and it can absorb one of the turns
+        h += via_need_cost
+        if turns > 0:
+            turns -= 1
+    return h + turn * turns
+
+
+@njit(cache=True)
+def _heap_push(hk, hs, n, key, s):
+    if n == hk.shape[0]:
+        nk = np.empty(hk.shape[0] * 2, dtype=np.int64)
+        ns = np.empty(hk.shape[0] * 2, dtype=np.int64)
+        nk[:n] = hk[:n]
+        ns[:n] = hs[:n]
+        hk = nk
+        hs = ns
+    k = n
+    hk[k] = key
+    hs[k] = s
+    while k > 0:
+        p = (k - 1) >> 1
+        if hk[p] > hk[k] or (hk[p] == hk[k] and hs[p] > hs[k]):
+            hk[p], hk[k] = hk[k], hk[p]
+            hs[p], hs[k] = hs[k], hs[p]
+            k = p
+        else:
+            break
+    return hk, hs, n + 1
+
+
+@njit(cache=True)
+def _heap_pop(hk, hs, n):
+    key = hk[0]
+    s = hs[0]
+    n -= 1
+    hk[0] = hk[n]
+    hs[0] = hs[n]
+    k = 0
+    while True:
+        a = 2 * k + 1
+        if a >= n:
+            break
+        b = a + 1
+        c = a
+        if b < n and (hk[b] < hk[a] or (hk[b] == hk[a] and hs[b] < hs[a])):
+            c = b
+        if hk[c] < hk[k] or (hk[c] == hk[k] and hs[c] < hs[k]):
+            hk[c], hk[k] = hk[k], hk[c]
+            hs[c], hs[k] = hs[k], hs[c]
+            k = c
+        else:
+            break
+    return key, s, n
+
+
+@njit(cache=True)
+def _astar(open_cell, open_h, open_v, via_ok, extra, jump_ok, wire_rows, wire_cols, jump_cells,
+           sources, tmask, tx0, ty0, tx1, ty1, tlayer, step, bend, via, jump,
+           stamp_of, gbest, parent, stamp):
+    L, ny, nx = open_cell.shape
+    turn = bend
+    if L == 2 and via < turn:
+        turn = via
+    if jump_cells.shape[0] > 0 and jump < turn:
+        turn = jump
+    via_need = via if L == 2 else 0
+    hk = np.empty(4096, dtype=np.int64)
+    hs = np.empty(4096, dtype=np.int64)
+    n = 0
+    for r in range(sources.shape[0]):
+        l = sources[r, 0]
+        j = sources[r, 1]
+        i = sources[r, 2]
+        if l < 0 or l >= L or j < 0 or j >= ny or i < 0 or i >= nx:
+            continue
+        s = ((l * ny + j) * nx + i) * 5 + 4
+        if stamp_of[s] == stamp:
+            continue
+        stamp_of[s] = stamp
+        gbest[s] = 0
+        parent[s] = -1
+        h = _heuristic(l, j, i, 4, tx0, ty0, tx1, ty1, tlayer, step, turn, via_need)
+        hk, hs, n = _heap_push(hk, hs, n, h, s)
+    expanded = 0
+    while n > 0:
+        key, s, n = _heap_pop(hk, hs, n)
+        d = s % 5
+        c = s // 5
+        i = c % nx
+        j = (c // nx) % ny
+        l = c // (nx * ny)
+        g = gbest[s]
+        h = _heuristic(l, j, i, d, tx0, ty0, tx1, ty1, tlayer, step, turn, via_need)
+        if key != g + h:
+            continue            # a stale entry
+        expanded += 1
+        if tmask[l, j, i]:
+            return s, expanded
+        # grid steps on this layer
+        for nd in range(4):
+            if d != 4 and nd == (d + 2) % 4:
+                continue        # no U-turn
+            ni = i + (1 if nd == 0 else (-1 if nd == 2 else 0))
+            nj = j + (1 if nd == 1 else (-1 if nd == 3 else 0))
+            if ni < 0 or ni >= nx or nj < 0 or nj >= ny:
+                continue
+            if open_cell[l, nj, ni] == 0:
+                continue
+            if nd == 0 and open_h[l, j, i] == 0:
+                continue
+            if nd == 2 and open_h[l, j, ni] == 0:
+                continue
+            if nd == 1 and open_v[l, j, i] == 0:
+                continue
+            if nd == 3 and open_v[l, nj, i] == 0:
+                continue
+            ng = g + step + extra[l, nj, ni]
+            if d != 4 and nd != d:
+                ng += bend
+            t = ((l * ny + nj) * nx + ni) * 5 + nd
+            if stamp_of[t] != stamp or ng < gbest[t]:
+                stamp_of[t] = stamp
+                gbest[t] = ng
+                parent[t] = s
+                hn = _heuristic(l, nj, ni, nd, tx0, ty0, tx1, ty1, tlayer, step, turn, via_need)
+                hk, hs, n = _heap_push(hk, hs, n, ng + hn, t)
+        # a via to the other layer
+        if L == 2 and via_ok[j, i] != 0:
+            ol = 1 - l
+            if open_cell[ol, j, i] != 0:
+                ng = g + via + extra[ol, j, i]
+                t = ((ol * ny + j) * nx + i) * 5 + 4
+                if stamp_of[t] != stamp or ng < gbest[t]:
+                    stamp_of[t] = stamp
+                    gbest[t] = ng
+                    parent[t] = s
+                    hn = _heuristic(ol, j, i, 4, tx0, ty0, tx1, ty1, tlayer, step, turn, via_need)
+                    hk, hs, n = _heap_push(hk, hs, n, ng + hn, t)
+        # jumpers (one-layer boards)
+        if jump_cells.shape[0] > 0 and jump_ok[j, i] != 0:
+            for kk in range(jump_cells.shape[0]):
+                k = jump_cells[kk]
+                for nd in range(4):
+                    ni = i + k * (1 if nd == 0 else (-1 if nd == 2 else 0))
+                    nj = j + k * (1 if nd == 1 else (-1 if nd == 3 else 0))
+                    if ni < 0 or ni >= nx or nj < 0 or nj >= ny:
+                        continue
+                    if jump_ok[nj, ni] == 0 or open_cell[l, nj, ni] == 0:
+                        continue
+                    if nd == 0 or nd == 2:
+                        lo = i if i < ni else ni
+                        hi = ni if i < ni else i
+                        if wire_rows[j, hi + 1] - wire_rows[j, lo] != 0:
+                            continue
+                    else:
+                        lo = j if j < nj else nj
+                        hi = nj if j < nj else j
+                        if wire_cols[hi + 1, i] - wire_cols[lo, i] != 0:
+                            continue
+                    ng = g + jump + step * k + extra[l, nj, ni]
+                    t = ((l * ny + nj) * nx + ni) * 5 + 4
+                    if stamp_of[t] != stamp or ng < gbest[t]:
+                        stamp_of[t] = stamp
+                        gbest[t] = ng
+                        parent[t] = s
+                        hn = _heuristic(l, nj, ni, 4, tx0, ty0, tx1, ty1, tlayer, step, turn, via_need)
+                        hk, hs, n = _heap_push(hk, hs, n, ng + hn, t)
+    return -1, expanded
+
+
+def _as_cells(rows, L, ny, nx, what) -> np.ndarray:
+    a = np.asarray(rows, dtype=np.int64).reshape(-1, 3)
+    if a.size and ((a[:, 0] < 0).any() or (a[:, 0] >= L).any() or (a[:, 1] < 0).any() or (a[:, 1] >= ny).any()
+                   or (a[:, 2] < 0).any() or (a[:, 2] >= nx).any()):
+        raise ValueError(f"{what} has a cell outside the grid {(L, ny, nx)}")
+    return np.ascontiguousarray(a)
+
+
+def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump: int = 0,
+              step: int = STEP) -> Optional[Path]:
+    """The cheapest path from any source cell to any target cell, or None.
+
+    Parameters
+    ----------
+    space : SearchSpace
+    sources, targets : array-like of int rows (l, j, i)
+        Source cells are left in any direction at no bend cost; the path ends on
+        the first target cell reached. Sources and targets need not be open cells
+        themselves (a pad's own cells are usually open for its net anyway).
+    bend, via, jump, step : int
+        Costs, all non-negative integers in one unit (see :data:`STEP`).
+
+    Returns
+    -------
+    Path or None
+
+    Notes
+    -----
+    Costs are integers so that ties and results are exact and repeatable. A jumper
+    of ``k`` cells costs ``jump + step * k`` so that the distance part of the heuristic
+    stays admissible.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> L, ny, nx = 1, 3, 4
+    >>> ones = np.ones((L, ny, nx), np.uint8)
+    >>> sp = SearchSpace(ones, ones, ones, np.zeros((ny, nx), np.uint8), np.zeros((L, ny, nx), np.int32))
+    >>> p = find_path(sp, [(0, 0, 0)], [(0, 2, 3)], bend=50, via=0)
+    >>> p.cost, p.bends, len(p.cells)
+    (550, 1, 6)
+    """
+    for name, v in (("bend", bend), ("via", via), ("jump", jump), ("step", step)):
+        if int(v) != v or v < 0:
+            raise ValueError(f"{name} cost must be a non-negative integer, not {v!r}")
+    L, ny, nx = space.shape
+    src = _as_cells(sources, L, ny, nx, "sources")
+    tgt = _as_cells(targets, L, ny, nx, "targets")
+    if len(src) == 0 or len(tgt) == 0:
+        return None
+    tmask = np.zeros((L, ny, nx), dtype=np.uint8)
+    tmask[tgt[:, 0], tgt[:, 1], tgt[:, 2]] = 1
+    tlayer = np.zeros(L, dtype=np.uint8)
+    tlayer[np.unique(tgt[:, 0])] = 1
+    tx0, tx1 = int(tgt[:, 2].min()), int(tgt[:, 2].max())
+    ty0, ty1 = int(tgt[:, 1].min()), int(tgt[:, 1].max())
+    jump_ok, wire_rows, wire_cols, jump_cells = space.jumper_arrays()
+    ws = _workspace(L * ny * nx * NDIR)
+    stamp = ws.next_stamp()
+    end, expanded = _astar(space.open_cell, space.open_h, space.open_v, space.via_ok, space.extra,
+                           jump_ok, wire_rows, wire_cols, jump_cells, src, tmask, tx0, ty0, tx1, ty1,
+                           tlayer, int(step), int(bend), int(via), int(jump),
+                           ws.stamp_of, ws.g, ws.parent, stamp)
+    if end < 0:
+        return None
+    states = []
+    s = end
+    while s >= 0:
+        states.append(s)
+        s = int(ws.parent[s])
+    states.reverse()
+    st = np.array(states, dtype=np.int64)
+    c = st // NDIR
+    cells = np.stack([c // (nx * ny), (c // nx) % ny, c % nx], axis=1)
+    bends, vias, jumpers = _count(cells, st % NDIR)
+    return Path(cells, int(ws.g[end]), bends, vias, jumpers, int(expanded))
+
+
+def _count(cells: np.ndarray, dirs: np.ndarray) -> tuple[int, int, int]:
+    """Bends, vias and jumpers of a state path (dirs: the direction each state was entered with)."""
+    bends = vias = jumpers = 0
+    for k in range(1, len(cells)):
+        if cells[k, 0] != cells[k - 1, 0]:
+            vias += 1
+        elif abs(cells[k, 1] - cells[k - 1, 1]) + abs(cells[k, 2] - cells[k - 1, 2]) > 1:
+            jumpers += 1
+        elif dirs[k - 1] != NONE and dirs[k] != dirs[k - 1]:
+            bends += 1
+    return bends, vias, jumpers
+
+
+def path_cost(space: SearchSpace, cells, *, bend: int, via: int, jump: int = 0, step: int = STEP) -> int:
+    """The cost of a given cell path under the same rules (for tests and tidy-up)."""
+    cells = np.asarray(cells, dtype=np.int64)
+    cost = 0
+    d_prev = NONE
+    for k in range(1, len(cells)):
+        (l0, j0, i0), (l1, j1, i1) = cells[k - 1], cells[k]
+        cost += int(space.extra[l1, j1, i1])
+        if l0 != l1:
+            cost += via
+            d_prev = NONE
+            continue
+        dist = abs(j1 - j0) + abs(i1 - i0)
+        if dist > 1:
+            cost += jump + step * dist
+            d_prev = NONE
+            continue
+        d = {(1, 0): 0, (0, 1): 1, (-1, 0): 2, (0, -1): 3}[(int(i1 - i0), int(j1 - j0))]
+        cost += step + (bend if d_prev != NONE and d != d_prev else 0)
+        d_prev = d
+    return cost
+
+
+def reference_graph(space: SearchSpace, sources, targets, *, bend: int, via: int, jump: int = 0,
+                    step: int = STEP):
+    """The same expanded state graph as a networkx DiGraph, for tests and benchmarks.
+
+    Nodes are (l, j, i, d) plus "S" (joined to every source state at cost 0) and "T"
+    (joined from every state of every target cell at cost 0); edge attribute
+    ``weight``. Built with plain Python loops, independently of the compiled
+    engine, so that networkx's Dijkstra or A* on it is an outside reference.
+    """
+    import networkx as nx_
+
+    L, ny, nx = space.shape
+    G = nx_.DiGraph()
+    jump_cells = [] if not space.has_jumpers else [int(k) for k in space.jump_cells]
+    wire = None if space.wire_block is None else space.wire_block
+
+    def cell_open(l, j, i):
+        return 0 <= i < nx and 0 <= j < ny and space.open_cell[l, j, i] != 0
+
+    for l in range(L):
+        for j in range(ny):
+            for i in range(nx):
+                for d in range(NDIR):
+                    u = (l, j, i, d)
+                    for nd in range(4):
+                        if d != NONE and nd == (d + 2) % 4:
+                            continue
+                        ni, nj = i + int(_DI[nd]), j + int(_DJ[nd])
+                        if not cell_open(l, nj, ni):
+                            continue
+                        if nd == 0 and not space.open_h[l, j, i]:
+                            continue
+                        if nd == 2 and not space.open_h[l, j, ni]:
+                            continue
+                        if nd == 1 and not space.open_v[l, j, i]:
+                            continue
+                        if nd == 3 and not space.open_v[l, nj, i]:
+                            continue
+                        w = step + int(space.extra[l, nj, ni]) + (bend if d != NONE and nd != d else 0)
+                        G.add_edge(u, (l, nj, ni, nd), weight=w)
+                    if L == 2 and space.via_ok[j, i] and cell_open(1 - l, j, i):
+                        G.add_edge(u, (1 - l, j, i, NONE), weight=via + int(space.extra[1 - l, j, i]))
+                    if jump_cells and space.jump_ok[j, i]:
+                        for k in jump_cells:
+                            for nd in range(4):
+                                ni, nj = i + k * int(_DI[nd]), j + k * int(_DJ[nd])
+                                if not cell_open(l, nj, ni) or not space.jump_ok[nj, ni]:
+                                    continue
+                                if wire is not None:
+                                    if nd in (0, 2):
+                                        span = wire[j, min(i, ni):max(i, ni) + 1]
+                                    else:
+                                        span = wire[min(j, nj):max(j, nj) + 1, i]
+                                    if span.any():
+                                        continue
+                                G.add_edge(u, (l, nj, ni, NONE),
+                                           weight=jump + step * k + int(space.extra[l, nj, ni]))
+    for (l, j, i) in np.asarray(sources).reshape(-1, 3):
+        G.add_edge("S", (int(l), int(j), int(i), NONE), weight=0)
+    for (l, j, i) in np.asarray(targets).reshape(-1, 3):
+        for d in range(NDIR):
+            G.add_edge((int(l), int(j), int(i), d), "T", weight=0)
+    return G

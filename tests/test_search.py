@@ -1,0 +1,148 @@
+"""The A* kernel against hand-worked paths and against networkx on the same state graph.
+
+networkx's Dijkstra (an independent, general-purpose implementation) on the graph
+built by :func:`router.search.reference_graph` is the outside reference for
+optimality: our cost must equal its shortest-path cost on every random grid.
+"""
+import networkx as nx
+import numpy as np
+import pytest
+
+from router.search import STEP, SearchSpace, find_path, path_cost, reference_graph
+
+
+def space_from(rows, layers=1, via_ok=None, extra=None, **kw):
+    """A space from a hand-drawn map: '.' open, '#' blocked; rows listed top (high j) first."""
+    grid = np.array([[c == "." for c in r] for r in reversed(rows)], dtype=np.uint8)
+    cell = np.repeat(grid[None], layers, axis=0)
+    ny, nx_ = grid.shape
+    ones = np.ones_like(cell)
+    return SearchSpace(cell, ones, ones,
+                       np.zeros((ny, nx_), np.uint8) if via_ok is None else via_ok,
+                       np.zeros_like(cell, dtype=np.int32) if extra is None else extra, **kw)
+
+
+def test_straight_line_has_no_bend():
+    sp = space_from(["......"])
+    p = find_path(sp, [(0, 0, 0)], [(0, 0, 5)], bend=300, via=0)
+    assert p.cost == 5 * STEP and p.bends == 0
+    assert p.cells.tolist() == [[0, 0, i] for i in range(6)]
+
+
+def test_detour_around_a_wall_hand_worked():
+    # S at lower left, T at lower right, a wall in the middle open only at the top:
+    #   row 2: . . . . .
+    #   row 1: . . # . .
+    #   row 0: S . # . T
+    sp = space_from([".....", "..#..", "..#.."])
+    p = find_path(sp, [(0, 0, 0)], [(0, 0, 4)], bend=10, via=0)
+    # up 2, east 4, down 2 = 8 steps; leaving the source is free, so two bends: at (0, 2) and (4, 2)
+    assert p.cost == 8 * STEP + 2 * 10
+    assert p.bends == 2
+    assert p.cells.tolist() == [[0, 0, 0], [0, 1, 0], [0, 2, 0], [0, 2, 1], [0, 2, 2], [0, 2, 3],
+                                [0, 2, 4], [0, 1, 4], [0, 0, 4]]
+
+
+def test_bend_penalty_prefers_fewer_bends_over_length():
+    # two ways round a block: a staircase would have many bends
+    sp = space_from(["....", "....", "...."])
+    p = find_path(sp, [(0, 0, 0)], [(0, 2, 3)], bend=1000, via=0)
+    assert p.bends == 1 and p.cost == 5 * STEP + 1000
+
+
+def test_blocked_gives_none():
+    sp = space_from(["..#.."])
+    assert find_path(sp, [(0, 0, 0)], [(0, 0, 4)], bend=1, via=1) is None
+
+
+def test_source_that_is_a_target():
+    sp = space_from(["..."])
+    p = find_path(sp, [(0, 0, 1)], [(0, 0, 1)], bend=1, via=1)
+    assert p.cost == 0 and len(p.cells) == 1
+
+
+def test_via_crosses_a_wall_and_turn_at_via_is_free():
+    # layer 0 has a wall; layer 1 is open; vias allowed everywhere
+    cell = np.ones((2, 1, 5), np.uint8)
+    cell[0, 0, 2] = 0
+    ones = np.ones_like(cell)
+    sp = SearchSpace(cell, ones, ones, np.ones((1, 5), np.uint8), np.zeros_like(cell, dtype=np.int32))
+    p = find_path(sp, [(0, 0, 0)], [(0, 0, 4)], bend=1, via=250)
+    assert p.vias == 2 and p.cost == 4 * STEP + 2 * 250
+
+
+def test_jumper_hops_over_a_wall_on_one_layer():
+    sp = space_from(["..#..", "..#..", "..#.."],
+                    jump_ok=np.ones((3, 5), np.uint8), wire_block=np.zeros((3, 5), np.uint8),
+                    jump_cells=np.array([2], np.int64))
+    p = find_path(sp, [(0, 1, 0)], [(0, 1, 4)], bend=1, via=0, jump=500)
+    assert p.jumpers == 1 and p.cost == 4 * STEP + 500
+    # a wire may not pass over a blocked wire cell (a part body)
+    wb = np.zeros((3, 5), np.uint8)
+    wb[:, 2] = 1
+    sp2 = space_from(["..#..", "..#..", "..#.."], jump_ok=np.ones((3, 5), np.uint8), wire_block=wb,
+                     jump_cells=np.array([2], np.int64))
+    assert find_path(sp2, [(0, 1, 0)], [(0, 1, 4)], bend=1, via=0, jump=500) is None
+
+
+def test_path_cost_agrees_with_search():
+    rng = np.random.default_rng(5)
+    sp = random_space(rng, 2, 12, 15)
+    p = find_path(sp, [(0, 0, 0)], [(1, 11, 14)], bend=70, via=330)
+    if p is not None:
+        assert path_cost(sp, p.cells, bend=70, via=330) == p.cost
+
+
+def random_space(rng, L, ny, nx_, density=0.25, jumpers=False):
+    cell = (rng.random((L, ny, nx_)) > density).astype(np.uint8)
+    oh = (rng.random((L, ny, nx_)) > 0.1).astype(np.uint8)
+    ov = (rng.random((L, ny, nx_)) > 0.1).astype(np.uint8)
+    via_ok = (rng.random((ny, nx_)) > 0.5).astype(np.uint8) if L == 2 else np.zeros((ny, nx_), np.uint8)
+    extra = np.where(rng.random((L, ny, nx_)) > 0.8, rng.integers(0, 400, (L, ny, nx_)), 0).astype(np.int32)
+    kw = {}
+    if jumpers:
+        kw = dict(jump_ok=(rng.random((ny, nx_)) > 0.3).astype(np.uint8),
+                  wire_block=(rng.random((ny, nx_)) > 0.85).astype(np.uint8),
+                  jump_cells=np.array([3, 5], np.int64))
+    return SearchSpace(cell, oh, ov, via_ok, extra, **kw)
+
+
+@pytest.mark.parametrize("seed", range(60))
+def test_optimal_cost_equals_networkx_dijkstra(seed):
+    rng = np.random.default_rng(seed)
+    L = 1 + seed % 2
+    jumpers = (L == 1 and seed % 4 == 1)
+    ny, nx_ = int(rng.integers(4, 14)), int(rng.integers(4, 14))
+    sp = random_space(rng, L, ny, nx_, jumpers=jumpers)
+    def cells(n):
+        return np.stack([rng.integers(0, L, n), rng.integers(0, ny, n), rng.integers(0, nx_, n)], axis=1)
+    src, tgt = cells(int(rng.integers(1, 4))), cells(int(rng.integers(1, 4)))
+    bend, via, jump = int(rng.integers(0, 500)), int(rng.integers(0, 900)), int(rng.integers(0, 900))
+    p = find_path(sp, src, tgt, bend=bend, via=via, jump=jump)
+    G = reference_graph(sp, src, tgt, bend=bend, via=via, jump=jump)
+    try:
+        ref = nx.dijkstra_path_length(G, "S", "T")
+    except (nx.NetworkXNoPath, nx.NodeNotFound):
+        ref = None
+    if ref is None:
+        assert p is None
+    else:
+        assert p is not None and p.cost == ref
+        assert path_cost(sp, p.cells, bend=bend, via=via, jump=jump) == ref
+        assert p.cells[0].tolist() in src.tolist() and p.cells[-1].tolist() in tgt.tolist()
+
+
+def test_deterministic():
+    rng = np.random.default_rng(1)
+    sp = random_space(rng, 2, 30, 30, density=0.2)
+    a = find_path(sp, [(0, 0, 0)], [(1, 29, 29)], bend=200, via=500)
+    b = find_path(sp, [(0, 0, 0)], [(1, 29, 29)], bend=200, via=500)
+    assert (a is None and b is None) or (a.cells.tolist() == b.cells.tolist() and a.cost == b.cost)
+
+
+def test_bad_costs_rejected():
+    sp = space_from(["..."])
+    with pytest.raises(ValueError):
+        find_path(sp, [(0, 0, 0)], [(0, 0, 2)], bend=-1, via=0)
+    with pytest.raises(ValueError):
+        find_path(sp, [(0, 0, 9)], [(0, 0, 2)], bend=1, via=0)
