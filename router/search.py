@@ -12,7 +12,7 @@ negotiated-congestion terms). A turn at a via or at a jumper end is free, as the
 contract does not count a corner inside a via or pad as a bend.
 
 The public wrapper is :func:`find_path`; the engine ``_astar`` is a
-numba-compiled A* with a binary heap, reusable work arrays stamped with a search
+numba-compiled A* with a bucket queue (Dial), integer costs, reusable work arrays stamped with a search
 number (so a search costs what it explores, not the grid size), and an
 admissible heuristic: the Manhattan gap to the targets' box, the turns still
 needed (each at least ``min(bend, via)`` since a via can hide a corner), and a
@@ -131,8 +131,24 @@ class _Workspace:
     def __init__(self, n_states: int):
         self.stamp_of = np.zeros(n_states, dtype=np.int32)
         self.g = np.zeros(n_states, dtype=np.int64)
-        self.parent = np.zeros(n_states, dtype=np.int64)
+        self.parent = np.zeros(n_states, dtype=np.int32)
         self.stamp = 0
+        self.head = np.zeros(1 << 12, dtype=np.int32)
+        self.grow_pool(max(1 << 16, n_states))
+
+    def grow_pool(self, size: int):
+        self.ent_state = np.empty(size, dtype=np.int32)
+        self.ent_g = np.empty(size, dtype=np.int64)
+        self.ent_next = np.empty(size, dtype=np.int32)
+
+    def buckets(self, span: int) -> np.ndarray:
+        """A bucket array of a power-of-two size above `span` (the largest key step of one move)."""
+        nb = self.head.shape[0]
+        while nb <= span:
+            nb *= 2
+        if nb != self.head.shape[0]:
+            self.head = np.zeros(nb, dtype=np.int32)
+        return self.head
 
     def next_stamp(self) -> int:
         self.stamp += 1
@@ -196,57 +212,10 @@ def _heuristic(l, j, i, d, tx0, ty0, tx1, ty1, tlayer, step, turn, via_need_cost
 
 
 @njit(cache=True)
-def _heap_push(hk, hs, n, key, s):
-    if n == hk.shape[0]:
-        nk = np.empty(hk.shape[0] * 2, dtype=np.int64)
-        ns = np.empty(hk.shape[0] * 2, dtype=np.int64)
-        nk[:n] = hk[:n]
-        ns[:n] = hs[:n]
-        hk = nk
-        hs = ns
-    k = n
-    hk[k] = key
-    hs[k] = s
-    while k > 0:
-        p = (k - 1) >> 1
-        if hk[p] > hk[k] or (hk[p] == hk[k] and hs[p] > hs[k]):
-            hk[p], hk[k] = hk[k], hk[p]
-            hs[p], hs[k] = hs[k], hs[p]
-            k = p
-        else:
-            break
-    return hk, hs, n + 1
-
-
-@njit(cache=True)
-def _heap_pop(hk, hs, n):
-    key = hk[0]
-    s = hs[0]
-    n -= 1
-    hk[0] = hk[n]
-    hs[0] = hs[n]
-    k = 0
-    while True:
-        a = 2 * k + 1
-        if a >= n:
-            break
-        b = a + 1
-        c = a
-        if b < n and (hk[b] < hk[a] or (hk[b] == hk[a] and hs[b] < hs[a])):
-            c = b
-        if hk[c] < hk[k] or (hk[c] == hk[k] and hs[c] < hs[k]):
-            hk[c], hk[k] = hk[k], hk[c]
-            hs[c], hs[k] = hs[k], hs[c]
-            k = c
-        else:
-            break
-    return key, s, n
-
-
-@njit(cache=True)
 def _astar(open_cell, open_h, open_v, via_ok, extra, jump_ok, wire_rows, wire_cols, jump_cells,
            sources, tmask, tx0, ty0, tx1, ty1, tlayer, step, bend, via, jump,
-           stamp_of, gbest, parent, stamp):
+           stamp_of, gbest, parent, stamp, head, ent_state, ent_g, ent_next):
+    """Dial's bucket queue over integer f = g + h; returns (end state or -1 or -2 when the pool is full, expanded)."""
     L, ny, nx = open_cell.shape
     turn = bend
     if L == 2 and via < turn:
@@ -254,15 +223,17 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, jump_ok, wire_rows, wire_co
     if jump_cells.shape[0] > 0 and jump < turn:
         turn = jump
     via_need = via if L == 2 else 0
-    hk = np.empty(4096, dtype=np.int64)
-    hs = np.empty(4096, dtype=np.int64)
-    n = 0
+    nb = head.shape[0]
+    mask = nb - 1
+    head[:] = -1
+    cap = ent_state.shape[0]
+    used = 0
+    cur = -1
+    pending = 0
     for r in range(sources.shape[0]):
         l = sources[r, 0]
         j = sources[r, 1]
         i = sources[r, 2]
-        if l < 0 or l >= L or j < 0 or j >= ny or i < 0 or i >= nx:
-            continue
         s = ((l * ny + j) * nx + i) * 5 + 4
         if stamp_of[s] == stamp:
             continue
@@ -270,67 +241,85 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, jump_ok, wire_rows, wire_co
         gbest[s] = 0
         parent[s] = -1
         h = _heuristic(l, j, i, 4, tx0, ty0, tx1, ty1, tlayer, step, turn, via_need)
-        hk, hs, n = _heap_push(hk, hs, n, h, s)
+        if cur < 0 or h < cur:
+            cur = h
+        if used == cap:
+            return -2, 0
+        b = h & mask
+        ent_state[used] = s
+        ent_g[used] = 0
+        ent_next[used] = head[b]
+        head[b] = used
+        used += 1
+        pending += 1
+    # all source keys lie within one span of the smallest (their h differ by less than the span)
     expanded = 0
-    while n > 0:
-        key, s, n = _heap_pop(hk, hs, n)
+    while pending > 0:
+        b = cur & mask
+        e = head[b]
+        if e < 0:
+            cur += 1
+            continue
+        head[b] = ent_next[e]
+        pending -= 1
+        s = ent_state[e]
+        g = ent_g[e]
+        if g != gbest[s]:
+            continue            # a stale entry
         d = s % 5
         c = s // 5
         i = c % nx
         j = (c // nx) % ny
         l = c // (nx * ny)
-        g = gbest[s]
-        h = _heuristic(l, j, i, d, tx0, ty0, tx1, ty1, tlayer, step, turn, via_need)
-        if key != g + h:
-            continue            # a stale entry
         expanded += 1
         if tmask[l, j, i]:
             return s, expanded
-        # grid steps on this layer
-        for nd in range(4):
-            if d != 4 and nd == (d + 2) % 4:
-                continue        # no U-turn
-            ni = i + (1 if nd == 0 else (-1 if nd == 2 else 0))
-            nj = j + (1 if nd == 1 else (-1 if nd == 3 else 0))
-            if ni < 0 or ni >= nx or nj < 0 or nj >= ny:
-                continue
-            if open_cell[l, nj, ni] == 0:
-                continue
-            if nd == 0 and open_h[l, j, i] == 0:
-                continue
-            if nd == 2 and open_h[l, j, ni] == 0:
-                continue
-            if nd == 1 and open_v[l, j, i] == 0:
-                continue
-            if nd == 3 and open_v[l, nj, i] == 0:
-                continue
-            ng = g + step + extra[l, nj, ni]
-            if d != 4 and nd != d:
-                ng += bend
-            t = ((l * ny + nj) * nx + ni) * 5 + nd
-            if stamp_of[t] != stamp or ng < gbest[t]:
-                stamp_of[t] = stamp
-                gbest[t] = ng
-                parent[t] = s
-                hn = _heuristic(l, nj, ni, nd, tx0, ty0, tx1, ty1, tlayer, step, turn, via_need)
-                hk, hs, n = _heap_push(hk, hs, n, ng + hn, t)
-        # a via to the other layer
-        if L == 2 and via_ok[j, i] != 0:
-            ol = 1 - l
-            if open_cell[ol, j, i] != 0:
-                ng = g + via + extra[ol, j, i]
-                t = ((ol * ny + j) * nx + i) * 5 + 4
-                if stamp_of[t] != stamp or ng < gbest[t]:
-                    stamp_of[t] = stamp
-                    gbest[t] = ng
-                    parent[t] = s
-                    hn = _heuristic(ol, j, i, 4, tx0, ty0, tx1, ty1, tlayer, step, turn, via_need)
-                    hk, hs, n = _heap_push(hk, hs, n, ng + hn, t)
-        # jumpers (one-layer boards)
-        if jump_cells.shape[0] > 0 and jump_ok[j, i] != 0:
-            for kk in range(jump_cells.shape[0]):
-                k = jump_cells[kk]
-                for nd in range(4):
+        for move in range(6):
+            # moves 0..3: a grid step; 4: a via; 5: jumpers (handled below)
+            if move < 4:
+                nd = move
+                if d != 4 and nd == (d + 2) % 4:
+                    continue        # no U-turn
+                ni = i + (1 if nd == 0 else (-1 if nd == 2 else 0))
+                nj = j + (1 if nd == 1 else (-1 if nd == 3 else 0))
+                if ni < 0 or ni >= nx or nj < 0 or nj >= ny:
+                    continue
+                if open_cell[l, nj, ni] == 0:
+                    continue
+                if nd == 0 and open_h[l, j, i] == 0:
+                    continue
+                if nd == 2 and open_h[l, j, ni] == 0:
+                    continue
+                if nd == 1 and open_v[l, j, i] == 0:
+                    continue
+                if nd == 3 and open_v[l, nj, i] == 0:
+                    continue
+                nl = l
+                ng = g + step + extra[l, nj, ni]
+                if d != 4 and nd != d:
+                    ng += bend
+                ndir = nd
+                nk = 1
+            elif move == 4:
+                if L != 2 or via_ok[j, i] == 0:
+                    continue
+                nl = 1 - l
+                ni = i
+                nj = j
+                if open_cell[nl, j, i] == 0:
+                    continue
+                ng = g + via + extra[nl, j, i]
+                ndir = 4
+                nk = 1
+            else:
+                if jump_cells.shape[0] == 0 or jump_ok[j, i] == 0:
+                    continue
+                nk = jump_cells.shape[0] * 4
+                nl = l
+            for q in range(nk):
+                if move == 5:
+                    k = jump_cells[q // 4]
+                    nd = q % 4
                     ni = i + k * (1 if nd == 0 else (-1 if nd == 2 else 0))
                     nj = j + k * (1 if nd == 1 else (-1 if nd == 3 else 0))
                     if ni < 0 or ni >= nx or nj < 0 or nj >= ny:
@@ -348,13 +337,24 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, jump_ok, wire_rows, wire_co
                         if wire_cols[hi + 1, i] - wire_cols[lo, i] != 0:
                             continue
                     ng = g + jump + step * k + extra[l, nj, ni]
-                    t = ((l * ny + nj) * nx + ni) * 5 + 4
-                    if stamp_of[t] != stamp or ng < gbest[t]:
-                        stamp_of[t] = stamp
-                        gbest[t] = ng
-                        parent[t] = s
-                        hn = _heuristic(l, nj, ni, 4, tx0, ty0, tx1, ty1, tlayer, step, turn, via_need)
-                        hk, hs, n = _heap_push(hk, hs, n, ng + hn, t)
+                    ndir = 4
+                t = ((nl * ny + nj) * nx + ni) * 5 + ndir
+                if stamp_of[t] != stamp or ng < gbest[t]:
+                    stamp_of[t] = stamp
+                    gbest[t] = ng
+                    parent[t] = s
+                    key = ng + _heuristic(nl, nj, ni, ndir, tx0, ty0, tx1, ty1, tlayer, step, turn, via_need)
+                    if key < cur:
+                        key = cur       # an inconsistent heuristic step: expand it next, as a heap would
+                    if used == cap:
+                        return -2, expanded
+                    bb = key & mask
+                    ent_state[used] = t
+                    ent_g[used] = ng
+                    ent_next[used] = head[bb]
+                    head[bb] = used
+                    used += 1
+                    pending += 1
     return -1, expanded
 
 
@@ -416,11 +416,21 @@ def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump
     ty0, ty1 = int(tgt[:, 1].min()), int(tgt[:, 1].max())
     jump_ok, wire_rows, wire_cols, jump_cells = space.jumper_arrays()
     ws = _workspace(L * ny * nx * NDIR)
-    stamp = ws.next_stamp()
-    end, expanded = _astar(space.open_cell, space.open_h, space.open_v, space.via_ok, space.extra,
-                           jump_ok, wire_rows, wire_cols, jump_cells, src, tmask, tx0, ty0, tx1, ty1,
-                           tlayer, int(step), int(bend), int(via), int(jump),
-                           ws.stamp_of, ws.g, ws.parent, stamp)
+    # the largest rise of f = g + h in one move bounds the live keys to one window of buckets
+    kmax = int(jump_cells.max()) if len(jump_cells) else 1
+    max_extra = int(space.extra.max(initial=0))
+    span = (max(step + bend, via, jump + step * kmax) + max_extra) + step * kmax + 2 * max(bend, via, jump) + via
+    span += step * (nx + ny) + 2 * max(bend, via, jump)     # spread of the sources' keys
+    head = ws.buckets(span)
+    while True:
+        stamp = ws.next_stamp()
+        end, expanded = _astar(space.open_cell, space.open_h, space.open_v, space.via_ok, space.extra,
+                               jump_ok, wire_rows, wire_cols, jump_cells, src, tmask, tx0, ty0, tx1, ty1,
+                               tlayer, int(step), int(bend), int(via), int(jump),
+                               ws.stamp_of, ws.g, ws.parent, stamp, head, ws.ent_state, ws.ent_g, ws.ent_next)
+        if end != -2:
+            break
+        ws.grow_pool(2 * ws.ent_state.shape[0])
     if end < 0:
         return None
     states = []
