@@ -57,6 +57,10 @@ def cmd_place(args) -> int:
 def cmd_route(args) -> int:
     from . import load_board, save_board, route
     from .rules import CAUTION, needs_caution
+    try:
+        from . import negotiate  # noqa: F401
+    except ImportError:
+        _not_ready("route")
     board = load_board(args.board)
     progress = (not args.quiet) and (not args.json) and sys.stderr.isatty()
     result = route(board, bend_penalty=args.bend_penalty, via_penalty=args.via_penalty,
@@ -97,7 +101,10 @@ def cmd_check(args) -> int:
 
 def cmd_report(args) -> int:
     from . import load_board
-    from .figures import board_figures, format_report
+    try:
+        from .figures import board_figures, format_report
+    except ImportError:
+        _not_ready("report")
     board = load_board(args.board)
     figs = board_figures(board)
     print(json.dumps(figs, indent=2) if args.json else format_report(figs))
@@ -127,10 +134,10 @@ def cmd_render(args) -> int:
     if suffix not in (".png", ".svg", ".html"):
         raise BoardError(str(out), "-o", f"unknown picture type '{suffix}'; use .png, .svg or .html")
     violations = None
-    if args.check:
-        from .check import check
-        violations = check(board)
     try:
+        if args.check:
+            from .check import check
+            violations = check(board)
         if suffix == ".html":
             from .page import write_page
             write_page(board, out, violations=violations)

@@ -1,0 +1,34 @@
+"""The command line: every command has --help; usage errors and unbuilt stages exit 2."""
+import subprocess
+import sys
+
+import pytest
+
+from router.cli import main
+
+COMMANDS = ["demo", "place", "route", "check", "report", "compare", "render", "export"]
+
+
+@pytest.mark.parametrize("cmd", COMMANDS)
+def test_command_help(cmd):
+    with pytest.raises(SystemExit) as info:
+        main([cmd, "--help"])
+    assert info.value.code == 0
+
+
+def test_top_help_via_subprocess():
+    r = subprocess.run([sys.executable, "-m", "router.cli", "--help"], capture_output=True, text=True)
+    assert r.returncode == 0 and all(c in r.stdout for c in COMMANDS)
+
+
+def test_usage_error_exits_2():
+    with pytest.raises(SystemExit) as info:
+        main(["route"])
+    assert info.value.code == 2
+    assert main([]) == 2
+
+
+def test_demo_runs(tmp_path, capsys):
+    assert main(["demo", "-o", str(tmp_path / "d")]) == 0
+    assert (tmp_path / "d" / "demo.toml").exists()
+    assert "Caution" in capsys.readouterr().out
