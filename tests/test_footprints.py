@@ -45,13 +45,15 @@ def test_sot23_pitch():
     assert round(p["2"][0] - p["1"][0], 6) == 1.9 and p["1"][1] == p["2"][1] < p["3"][1]
 
 
-@pytest.mark.parametrize("code,body", [("0402", (1.0, 0.5)), ("0603", (1.6, 0.8)), ("0805", (2.0, 1.25)),
-                                       ("1206", (3.2, 1.6))])
-def test_chip_body_sizes_eia(code, body):
-    # EIA-198 chip sizes: the inch code is the body length and width in hundredths of an inch
+@pytest.mark.parametrize("code,metric,body", [("0402", "1005", (1.0, 0.5)), ("0603", "1608", (1.6, 0.8)),
+                                              ("0805", "2012", (2.0, 1.25)), ("1206", "3216", (3.2, 1.6))])
+def test_chip_body_sizes_eia(code, metric, body):
+    # EIA-198 chip sizes (from memory): the metric code is the body length and width in tenths of a mm,
+    # the inch code in hundredths of an inch, both rounded
     fp = builtin_footprint(f"chip-{code}")
     assert fp.body == body
-    assert abs(fp.body[0] - int(code[:2]) * 0.254) < 0.1 and abs(fp.body[1] - int(code[2:]) * 0.254) < 0.1
+    assert abs(fp.body[0] - int(metric[:2]) / 10) <= 0.06 and abs(fp.body[1] - int(metric[2:]) / 10) <= 0.06
+    assert abs(fp.body[0] - int(code[:2]) * 0.254) < 0.16 and abs(fp.body[1] - int(code[2:]) * 0.254) < 0.16
 
 
 @pytest.mark.parametrize("name", ["dip-8", "dip-14", "soic-8", "soic-16", "sot-23", "header-2x5", "chip-0603",
