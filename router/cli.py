@@ -20,7 +20,7 @@ EXIT_OK, EXIT_FINDINGS, EXIT_BAD_INPUT = 0, 1, 2
 
 
 class _Parser(argparse.ArgumentParser):
-    """argparse that exits with status 2 and one line on a usage error (it does already) ..."""
+    """argparse with the usage error as one line and exit status 2 (the bad-input status)."""
 
     def error(self, message):
         self.print_usage(sys.stderr)
@@ -198,7 +198,7 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("board", help="board file")
     sp.add_argument("-o", "--output", required=True, metavar="OUT", help="routed board file to write")
     sp.add_argument("--bend-penalty", type=float, default=None, metavar="B",
-                    help="cost of one bend, in mm of trace (default 2 grid steps x 4)")
+                    help="cost of one bend, in mm of trace (default: the router's, see route --help of that version)")
     sp.add_argument("--via-penalty", type=float, default=None, metavar="V",
                     help="cost of one via or jumper, in mm of trace")
     sp.add_argument("--seed", type=int, default=0, help="random seed for the net order (default 0)")
