@@ -270,7 +270,13 @@ def _edge(ctx: _Ctx) -> list[Violation]:
         it = items[i]
         if not inside[i]:
             off = it.core.difference(outline)
-            p = off.representative_point() if not off.is_empty else it.core.representative_point()
+            if off.is_empty:
+                p = it.core.representative_point()
+            elif off.geom_type in ("LineString", "MultiLineString"):
+                p = off.interpolate(0.5, normalized=True) if off.geom_type == "LineString" else \
+                    off.geoms[0].interpolate(0.5, normalized=True)
+            else:
+                p = off.representative_point()
             note((ctx.labels[i], _one_layer(it), "outline"), -math.inf, i, (p.x, p.y), "off the board",
                  ec)
         else:
@@ -391,7 +397,7 @@ def _width_and_current(board: Board) -> list[Violation]:
             continue
         w = ipc2221_width_for_current(nc.current, rules.copper_oz, rules.temperature_rise)
         need[name] = w
-        if short_of(nc.trace_width, w):
+        if class_nets.get(name) and short_of(nc.trace_width, w):
             failed.add(name)
             msg = (f"class {name}: trace_width {nc.trace_width:.2f} mm is below the {w:.2f} mm IPC-2221 "
                    f"asks for {nc.current:g} A at {rules.temperature_rise:g} C rise, {rules.copper_oz:g} oz")
@@ -419,8 +425,8 @@ def _voltage(board: Board) -> list[Violation]:
         if nc.voltage is None:
             continue
         need = ipc2221_spacing(nc.voltage, board.rules.voltage_table)
-        if short_of(nc.clearance, need):
-            nets = sorted(n.name for n in board.nets if n.net_class == name)
+        nets = sorted(n.name for n in board.nets if n.net_class == name)
+        if nets and short_of(nc.clearance, need):     # a class no net uses carries no voltage
             msg = (f"class {name}: clearance {nc.clearance:.2f} mm is below the {need:.2f} mm IPC-2221 "
                    f"Table 6-1 ({board.rules.voltage_table}) asks for {nc.voltage:g} V")
             out.append(Violation("voltage", nets, None, None, _r(nc.clearance), _r(need), msg))
@@ -456,6 +462,8 @@ def _holes(board: Board) -> list[Violation]:
                 continue
             b = hs[b_i]
             c = math.hypot(b.x - a.x, b.y - a.y)
+            if c <= TOL and a.net is not None and a.net == b.net:
+                continue     # one hole drilled twice for one net (a via on its pad): no wall between
             wall = c - a.drill / 2 - b.drill / 2
             if short_of(wall, sp):
                 if c > 0:
