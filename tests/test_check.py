@@ -372,3 +372,26 @@ def test_moving_traces_apart_never_adds_a_violation(gap, more, shift):
     assert {v.rule for v in far} <= allowed
     if any(v.rule == "clearance" for v in near) and any(v.rule == "clearance" for v in far):
         assert min(v.actual for v in far) >= min(v.actual for v in near) - 1e-9
+
+
+# IPC-2221 Table 6-1, column B2 (external, uncoated, sea level to 3050 m), one voltage per band;
+# values from memory of the published table. The check's required spacing follows the band.
+@pytest.mark.parametrize("volts,mm", [(12.0, 0.1), (24.0, 0.1), (48.0, 0.6), (120.0, 0.6),
+                                      (160.0, 1.25), (230.0, 1.25), (300.0, 1.25), (400.0, 2.5)])
+def test_voltage_band_b2(volts, mm):
+    assert ipc2221_spacing(volts, "B2") == mm
+    b = board(f"[classes.hv]\ntrace_width = 0.25\nclearance = 0.2\nvoltage = {volts}\n")
+    b.nets[1].net_class = "hv"
+    found = [v for v in check(b) if v.rule == "voltage"]
+    if mm > 0.2:
+        assert len(found) == 1 and found[0].required == mm
+    else:
+        assert found == []
+
+
+def test_current_worked_example_through_the_check():
+    # IPC-2221 section 6.2 worked example: 1 A, 10 C rise, 1 oz outer copper -> about 0.30 mm
+    assert ipc2221_width_for_current(1.0, 1.0, 10.0) == pytest.approx(0.30, abs=0.005)
+    b = board("[rules]\ncopper_oz = 2.0\n[classes.power]\ntrace_width = 0.25\nclearance = 0.2\ncurrent = 1.0\n")
+    b.nets[0].net_class = "power"
+    assert [v.rule for v in check(b)] == []       # 2 oz halves the width: 0.15 mm is enough
