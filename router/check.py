@@ -242,7 +242,7 @@ def _open(ctx: _Ctx) -> list[Violation]:
             msg = (f"{net.name} is open: {', '.join(pins)} (pad at {_fmt_at(pad.at)}) is not joined "
                    f"to {joined}")
             out.append(Violation("open", [net.name], layer, _xy(pad.at), None, None, msg))
-        for pin in unplaced:
+        for pin in (unplaced if order else unplaced[1:]):
             msg = f"{net.name} is open: {pin} is on a part that is not placed"
             out.append(Violation("open", [net.name], None, None, None, None, msg))
     return out

@@ -395,3 +395,13 @@ def test_current_worked_example_through_the_check():
     b = board("[rules]\ncopper_oz = 2.0\n[classes.power]\ntrace_width = 0.25\nclearance = 0.2\ncurrent = 1.0\n")
     b.nets[0].net_class = "power"
     assert [v.rule for v in check(b)] == []       # 2 oz halves the width: 0.15 mm is enough
+
+
+def test_unplaced_part_leaves_its_net_open():
+    b = board()
+    b.part("R2").at = None
+    b.traces.pop()
+    vs = check(b)
+    assert rules_of(vs) == ["open"]                  # R2.1 and R2.2 loose: two pieces, one cut off
+    b.nets[1].pins = ["R2.1"]
+    assert check(b) == []                            # a one-pin net is routed
