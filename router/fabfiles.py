@@ -1,0 +1,665 @@
+"""Fabrication files: Gerber layers, drill files and a short list of what is in the folder.
+
+``export(board, out_dir)`` writes, for the board as it is:
+
+- one Gerber file per copper layer: pads flashed in their shapes (rotation is in the placed
+  pad's width and height, since parts turn by quarter turns only), traces drawn with round
+  apertures of their width, vias and jumper ends flashed;
+- a solder-mask file per copper side: pads and jumper ends opened by ``rules.mask_expansion``
+  beyond their copper, vias covered unless ``open_vias``;
+- a silkscreen file per side: part outlines and refs in the project's own stroke font,
+  kept off the mask openings and inside the board;
+- the board outline (the profile);
+- two drill files, plated holes (pad drills, vias, jumper ends) and non-plated holes apart,
+  tools sorted by size;
+- a plain-text list of the files with the board's figures and :data:`router.rules.CAUTION`.
+
+Gerber files follow the open Gerber layer format (RS-274X with X2 attributes: file function
+and polarity, aperture function before each aperture definition, net and pad object
+attributes on copper), in millimetres with format 4.6 (1 nm resolution, equal to
+:data:`router.units.TOL`). Drill files are the trade's plain-text drill format: an M48
+header, ``METRIC``, absolute coordinates (G90), tools ``T<n>C<diameter>``, ``%``, drill mode (G05), coordinates
+with a decimal point, ``M30``.
+
+Everything is made in a temporary folder beside the target and moved in only when all files
+are complete (:func:`router.safefile.atomic_dir`).
+
+References
+----------
+.. [1] Ucamco, "The Gerber Layer Format Specification", revision 2021.02 and later
+   (sections on the FS, MO, AD, D01/D02/D03 commands and the standard attributes).
+"""
+from __future__ import annotations
+
+import re
+from collections import defaultdict
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Iterable, Optional, Sequence
+
+from shapely.geometry import LineString, MultiLineString, box
+from shapely.geometry.base import BaseGeometry
+from shapely.ops import unary_union
+
+from .errors import BoardError
+from .geometry import (ARC_SEGMENTS, PlacedPad, body_rect, outline_polygon, part_rect, pad_shape,
+                       placed_holes, placed_pads)
+from .model import Board, Point
+from .rules import CAUTION, class_clearance_table
+from .safefile import atomic_dir
+
+__all__ = ["export", "file_names", "text_strokes", "text_width", "GLYPHS", "SILK_WIDTH",
+           "TEXT_HEIGHT", "SILK_GAP"]
+
+#: Silkscreen line width in mm (common practice: board houses print legend lines from about
+#: 0.15 mm up).
+SILK_WIDTH = 0.15
+#: Height of the refs' capitals in mm.
+TEXT_HEIGHT = 1.0
+#: Silkscreen keeps this far (beyond its half width) from every mask opening and hole.
+SILK_GAP = 0.1
+#: Width of the profile (board outline) lines in mm; the centre line is the edge.
+PROFILE_WIDTH = 0.1
+
+_SIDES = ("top", "bottom")
+_SIDE_WORD = {"top": "Top", "bottom": "Bot"}
+
+# ----------------------------------------------------------------------------- stroke font
+# Our own capitals on a cell 4 units wide and 6 high (baseline at 0); each glyph is a list of
+# polylines "x,y x,y ...". A character advances 6 units (4 of glyph, 2 of space).
+_GLYPH_SRC = {
+    "0": ["1,0 3,0 4,1 4,5 3,6 1,6 0,5 0,1 1,0", "0,1 4,5"],
+    "1": ["1,5 2,6 2,0", "1,0 3,0"],
+    "2": ["0,5 1,6 3,6 4,5 4,4 0,0 4,0"],
+    "3": ["0,6 4,6 2,3.5 3,3.5 4,2.5 4,1 3,0 1,0 0,1"],
+    "4": ["3,0 3,6 0,2 4,2"],
+    "5": ["4,6 0,6 0,3.5 3,3.5 4,2.5 4,1 3,0 0,0"],
+    "6": ["3,6 1,6 0,5 0,1 1,0 3,0 4,1 4,2.5 3,3.5 0,3.5"],
+    "7": ["0,6 4,6 1,0"],
+    "8": ["1,3 0,4 0,5 1,6 3,6 4,5 4,4 3,3 1,3 0,2 0,1 1,0 3,0 4,1 4,2 3,3"],
+    "9": ["1,0 3,0 4,1 4,5 3,6 1,6 0,5 0,3.5 1,2.5 4,2.5"],
+    "A": ["0,0 0,4 2,6 4,4 4,0", "0,3 4,3"],
+    "B": ["0,0 0,6 3,6 4,5 4,4 3,3 0,3", "3,3 4,2 4,1 3,0 0,0"],
+    "C": ["4,1 3,0 1,0 0,1 0,5 1,6 3,6 4,5"],
+    "D": ["0,0 0,6 2,6 4,4 4,2 2,0 0,0"],
+    "E": ["4,0 0,0 0,6 4,6", "0,3 3,3"],
+    "F": ["0,0 0,6 4,6", "0,3 3,3"],
+    "G": ["4,5 3,6 1,6 0,5 0,1 1,0 3,0 4,1 4,3 2,3"],
+    "H": ["0,0 0,6", "4,0 4,6", "0,3 4,3"],
+    "I": ["1,0 3,0", "1,6 3,6", "2,0 2,6"],
+    "J": ["0,1 1,0 2,0 3,1 3,6", "2,6 4,6"],
+    "K": ["0,0 0,6", "4,6 0,2", "1.5,3.5 4,0"],
+    "L": ["0,6 0,0 4,0"],
+    "M": ["0,0 0,6 2,3 4,6 4,0"],
+    "N": ["0,0 0,6 4,0 4,6"],
+    "O": ["1,0 3,0 4,1 4,5 3,6 1,6 0,5 0,1 1,0"],
+    "P": ["0,0 0,6 3,6 4,5 4,4 3,3 0,3"],
+    "Q": ["1,0 3,0 4,1 4,5 3,6 1,6 0,5 0,1 1,0", "2,2 4,0"],
+    "R": ["0,0 0,6 3,6 4,5 4,4 3,3 0,3", "2,3 4,0"],
+    "S": ["4,5 3,6 1,6 0,5 0,4 1,3 3,3 4,2 4,1 3,0 1,0 0,1"],
+    "T": ["0,6 4,6", "2,6 2,0"],
+    "U": ["0,6 0,1 1,0 3,0 4,1 4,6"],
+    "V": ["0,6 2,0 4,6"],
+    "W": ["0,6 1,0 2,3 3,0 4,6"],
+    "X": ["0,0 4,6", "0,6 4,0"],
+    "Y": ["0,6 2,3 4,6", "2,3 2,0"],
+    "Z": ["0,6 4,6 0,0 4,0"],
+    "-": ["1,3 3,3"],
+    "+": ["1,3 3,3", "2,2 2,4"],
+    "=": ["1,2 3,2", "1,4 3,4"],
+    ".": ["2,0 2,0.5"],
+    ",": ["2,0.5 1.5,-0.5"],
+    ":": ["2,1 2,1.5", "2,4 2,4.5"],
+    "_": ["0,0 4,0"],
+    "/": ["0,0 4,6"],
+    "(": ["3,6 1.5,4.5 1.5,1.5 3,0"],
+    ")": ["1,6 2.5,4.5 2.5,1.5 1,0"],
+    "?": ["0,5 1,6 3,6 4,5 4,4 2,3 2,2", "2,0 2,0.5"],
+    " ": [],
+}
+
+
+def _parse_glyph(strokes: list[str]) -> tuple[tuple[Point, ...], ...]:
+    return tuple(tuple(tuple(float(v) for v in pt.split(",")) for pt in s.split()) for s in strokes)
+
+
+#: The stroke font: character -> polylines in font units (cell 4 x 6, baseline y = 0).
+GLYPHS: dict[str, tuple[tuple[Point, ...], ...]] = {c: _parse_glyph(s) for c, s in _GLYPH_SRC.items()}
+_CELL_W, _CELL_H, _ADVANCE = 4.0, 6.0, 6.0
+
+
+def text_width(text: str, height: float = TEXT_HEIGHT) -> float:
+    """The width in mm of `text` set in the stroke font at capital `height` (stroke centres).
+
+    >>> text_width("R12", 1.2)
+    3.2
+    """
+    if not text:
+        return 0.0
+    u = height / _CELL_H
+    return round((len(text) * _ADVANCE - (_ADVANCE - _CELL_W)) * u, 9)
+
+
+def text_strokes(text: str, centre: Point, height: float = TEXT_HEIGHT,
+                 mirror: bool = False) -> list[list[Point]]:
+    """`text` in the stroke font as polylines in board mm, centred on `centre`.
+
+    Lower case is set in capitals; a character the font lacks is set as "?".
+    `mirror` flips the text in x about its centre (for the bottom side, read from below).
+
+    Examples
+    --------
+    >>> text_strokes("L", (0.0, 0.0), height=6.0)
+    [[(-2.0, 3.0), (-2.0, -3.0), (2.0, -3.0)]]
+    """
+    u = height / _CELL_H
+    w = text_width(text, height)
+    x0, y0 = centre[0] - w / 2, centre[1] - height / 2
+    out = []
+    for i, ch in enumerate(text.upper()):
+        glyph = GLYPHS.get(ch, GLYPHS["?"])
+        for stroke in glyph:
+            pts = []
+            for gx, gy in stroke:
+                x = x0 + (i * _ADVANCE + gx) * u
+                if mirror:
+                    x = 2 * centre[0] - x
+                pts.append((round(x, 9), round(y0 + gy * u, 9)))
+            out.append(pts)
+    return out
+
+
+# ----------------------------------------------------------------------------- Gerber writer
+
+def _num(v: float) -> str:
+    """A coordinate in format 4.6 (mm), leading zeros omitted: integer nanometres."""
+    n = int(round(v * 1_000_000))
+    return str(n)
+
+
+def _dec(v: float) -> str:
+    """An aperture size in mm with six decimals."""
+    return f"{v:.6f}"
+
+
+def _field(s: str) -> str:
+    """A string made safe for one field of a Gerber attribute (no % * , or backslash)."""
+    out = []
+    for ch in s:
+        if ch in "%*,\\" or not ch.isprintable() or ord(ch) > 126:
+            out.append(f"\\u{ord(ch):04X}" if ord(ch) <= 0xFFFF else "_")
+        else:
+            out.append(ch)
+    return "".join(out)
+
+
+def _comment(s: str) -> str:
+    return re.sub(r"[%*]", "_", s)
+
+
+@dataclass
+class _Gerber:
+    """One Gerber file being built: apertures keyed by (function, template, sizes)."""
+    title: str
+    file_attrs: list[tuple[str, str]]
+    apertures: dict = field(default_factory=dict)     # key -> D code
+    body: list[str] = field(default_factory=list)
+    _current: Optional[int] = None
+    _obj_attrs: tuple = ()
+
+    def aperture(self, function: str, template: str, *sizes: float) -> int:
+        key = (function, template, tuple(round(s, 6) for s in sizes))
+        if key not in self.apertures:
+            self.apertures[key] = 10 + len(self.apertures)
+        return self.apertures[key]
+
+    def pad_aperture(self, function: str, shape: str, w: float, h: float) -> int:
+        if shape == "circle":
+            return self.aperture(function, "C", min(w, h))
+        if shape == "oval" and abs(w - h) <= 1e-12:
+            return self.aperture(function, "C", w)
+        return self.aperture(function, "R" if shape == "rect" else "O", w, h)
+
+    def _use(self, code: int) -> None:
+        if code != self._current:
+            self.body.append(f"D{code}*")
+            self._current = code
+
+    def attrs(self, **attrs) -> None:
+        """Set the object attributes (.N net, .P pad, .C component) for what follows."""
+        items = tuple((k, v) for k, v in attrs.items() if v is not None)
+        if items == self._obj_attrs:
+            return
+        if self._obj_attrs:
+            self.body.append("%TD*%")
+        for k, v in items:
+            self.body.append(f"%TO.{k},{v}*%")
+        self._obj_attrs = items
+
+    def flash(self, code: int, at: Point) -> None:
+        self._use(code)
+        self.body.append(f"X{_num(at[0])}Y{_num(at[1])}D03*")
+
+    def polyline(self, code: int, pts: Sequence[Point]) -> None:
+        pts = [p for i, p in enumerate(pts) if i == 0 or p != pts[i - 1]]
+        if len(pts) < 2:
+            return
+        self._use(code)
+        self.body.append(f"X{_num(pts[0][0])}Y{_num(pts[0][1])}D02*")
+        for p in pts[1:]:
+            self.body.append(f"X{_num(p[0])}Y{_num(p[1])}D01*")
+
+    def text(self) -> str:
+        lines = [f"G04 {_comment(self.title)}*", "%FSLAX46Y46*%", "%MOMM*%"]
+        lines += [f"%TF.{k},{v}*%" for k, v in self.file_attrs]
+        lines += ["%LPD*%", "G01*"]
+        last_function = None
+        for (function, template, sizes), code in self.apertures.items():
+            if function != last_function:
+                lines.append(f"%TA.AperFunction,{function}*%")
+                last_function = function
+            lines.append(f"%ADD{code}{template},{'X'.join(_dec(s) for s in sizes)}*%")
+        if self.apertures:
+            lines.append("%TD*%")
+        lines += self.body
+        if self._obj_attrs:
+            lines.append("%TD*%")
+        lines.append("M02*")
+        return "\n".join(lines) + "\n"
+
+
+def _software() -> tuple[str, str]:
+    from . import __version__
+    return ("GenerationSoftware", f"elbowroom,elbowroom,{__version__}")
+
+
+# ----------------------------------------------------------------------------- file names
+
+def _stem(board: Board) -> str:
+    s = re.sub(r"[^A-Za-z0-9._-]+", "-", board.name).strip("-.")
+    return s or "board"
+
+
+def file_names(board: Board) -> dict[str, str]:
+    """The file names `export` writes, by role: ``copper-top``, ``mask-bottom``, ``outline``, ...
+
+    Copper and mask files exist for the copper layers; silkscreen for both sides.
+    """
+    stem = _stem(board)
+    names = {}
+    for layer in board.layers:
+        names[f"copper-{layer}"] = f"{stem}-copper-{layer}.gbr"
+    for layer in board.layers:
+        names[f"mask-{layer}"] = f"{stem}-mask-{layer}.gbr"
+    for side in _SIDES:
+        names[f"silk-{side}"] = f"{stem}-silk-{side}.gbr"
+    names["outline"] = f"{stem}-outline.gbr"
+    names["drill-plated"] = f"{stem}-PTH.drl"
+    names["drill-nonplated"] = f"{stem}-NPTH.drl"
+    names["list"] = f"{stem}-files.txt"
+    return names
+
+
+# ----------------------------------------------------------------------------- checks of the input
+
+def _check_input(board: Board) -> None:
+    src = board.source
+    for i, part in enumerate(board.parts):
+        if part.at is None:
+            raise BoardError(src, f"parts[{i}] ({part.ref})",
+                             "the part has no place, so it has no copper to export; "
+                             "place it first (elbowroom place)")
+    for i, t in enumerate(board.traces):
+        if t.layer not in board.layers:
+            raise BoardError(src, f"traces[{i}]",
+                             f"layer {t.layer!r} is not a copper layer of this board "
+                             f"({', '.join(board.layers)})")
+    if board.vias and board.copper_layers == 1:
+        raise BoardError(src, "vias[0]", "a one-layer board has no vias; use a jumper")
+    if len(board.outline) < 3 or not outline_polygon(board).is_valid:
+        raise BoardError(src, "board.outline", "the outline is not a simple polygon; fix its corners")
+
+
+# ----------------------------------------------------------------------------- copper, mask, silk
+
+def _pad_function(pad: PlacedPad) -> str:
+    return "ComponentPad" if pad.plated else "SMDPad,CuDef"
+
+
+def _net_attr(net: str) -> str:
+    return "" if net.startswith("~") else _field(net)   # a pad in no net: not connected
+
+
+def _copper(board: Board, layer: str, pads: list[PlacedPad], index: int) -> str:
+    word = _SIDE_WORD[layer]
+    g = _Gerber(f"{board.name}: copper, {layer} layer",
+                [_software(), ("Part", "Single"),
+                 ("FileFunction", f"Copper,L{index},{word}"), ("FilePolarity", "Positive")])
+    for pad in pads:
+        if layer not in pad.layers:
+            continue
+        code = g.pad_aperture(_pad_function(pad), pad.shape, pad.w, pad.h)
+        g.attrs(N=_net_attr(pad.net), P=f"{_field(pad.ref)},{_field(pad.pin)}", C=_field(pad.ref))
+        g.flash(code, pad.at)
+    for t in board.traces:
+        if t.layer != layer:
+            continue
+        code = g.aperture("Conductor", "C", t.width)
+        g.attrs(N=_field(t.net))
+        pts = [tuple(map(float, p)) for p in t.points]
+        if len(set(pts)) == 1:
+            g.flash(code, pts[0])            # a trace of one point is a round dot of its width
+        else:
+            g.polyline(code, pts)
+    for v in board.vias:
+        code = g.aperture("ViaPad", "C", v.diameter)
+        g.attrs(N=_field(v.net))
+        g.flash(code, v.at)
+    for j in board.jumpers:
+        code = g.aperture("ComponentPad", "C", j.diameter)
+        g.attrs(N=_field(j.net))
+        g.flash(code, j.start)
+        g.flash(code, j.end)
+    g.attrs()
+    return g.text()
+
+
+@dataclass(frozen=True)
+class _Opening:
+    function: str
+    shape: str
+    at: Point
+    w: float
+    h: float
+
+
+def _openings(board: Board, side: str, pads: list[PlacedPad], open_vias: bool) -> list[_Opening]:
+    """What the solder mask leaves bare on `side`, at copper size plus the mask expansion."""
+    e = board.rules.mask_expansion
+    out = []
+    for pad in pads:
+        if side in pad.layers or pad.plated:
+            out.append(_Opening(_pad_function(pad), pad.shape, pad.at, pad.w + 2 * e, pad.h + 2 * e))
+    for j in board.jumpers:
+        for at in (j.start, j.end):
+            out.append(_Opening("ComponentPad", "circle", at, j.diameter + 2 * e, j.diameter + 2 * e))
+    if open_vias:
+        for v in board.vias:
+            out.append(_Opening("ViaPad", "circle", v.at, v.diameter + 2 * e, v.diameter + 2 * e))
+    for h in placed_holes(board):
+        out.append(_Opening("Other,NonPlatedHole", "circle", (h.x, h.y),
+                            h.drill + 2 * e, h.drill + 2 * e))
+    return out
+
+
+def _mask(board: Board, side: str, openings: list[_Opening]) -> str:
+    g = _Gerber(f"{board.name}: solder mask, {side} side (dark = opening)",
+                [_software(), ("Part", "Single"),
+                 ("FileFunction", f"Soldermask,{_SIDE_WORD[side]}"), ("FilePolarity", "Negative")])
+    for o in openings:
+        g.flash(g.pad_aperture(o.function, o.shape, o.w, o.h), o.at)
+    return g.text()
+
+
+def _opening_shape(o: _Opening) -> BaseGeometry:
+    pad = PlacedPad("", "", "", o.at[0], o.at[1], o.shape, o.w, o.h, None, (), 0)
+    return pad_shape(pad)
+
+
+def _clip(lines: Iterable[Sequence[Point]], keep_off: Optional[BaseGeometry],
+          inside: BaseGeometry) -> list[list[Point]]:
+    """Polylines less the `keep_off` area, within `inside`, as polylines."""
+    out = []
+    for pts in lines:
+        if len(pts) < 2:
+            continue
+        geom: BaseGeometry = LineString(pts)
+        if keep_off is not None and geom.intersects(keep_off):
+            geom = geom.difference(keep_off)
+        if not inside.contains(geom):
+            geom = geom.intersection(inside)
+        for piece in _line_pieces(geom):
+            coords = [(round(x, 9), round(y, 9)) for x, y in piece.coords]
+            if len(coords) >= 2 and piece.length > 1e-9:
+                out.append(coords)
+    return out
+
+
+def _line_pieces(geom: BaseGeometry) -> list[LineString]:
+    if geom.is_empty:
+        return []
+    if isinstance(geom, LineString):
+        return [geom]
+    if isinstance(geom, MultiLineString):
+        return list(geom.geoms)
+    if hasattr(geom, "geoms"):
+        return [p for g in geom.geoms for p in _line_pieces(g)]
+    return []
+
+
+def _ref_centre(board: Board, part, inside: BaseGeometry, keep_off: Optional[BaseGeometry]) -> Point:
+    """Where a part's ref goes: the first of inside its body, above, below, right or left of
+    the part where the text stays on the board and off every opening; else the body centre."""
+    x0, y0, x1, y1 = body_rect(board, part)
+    px0, py0, px1, py1 = part_rect(board, part)
+    w, h = text_width(part.ref), TEXT_HEIGHT
+    cx, cy = (x0 + x1) / 2, (y0 + y1) / 2
+    gap = SILK_WIDTH + SILK_GAP
+    candidates = [(cx, cy), (cx, py1 + gap + h / 2), (cx, py0 - gap - h / 2),
+                  (px1 + gap + w / 2, cy), (px0 - gap - w / 2, cy)]
+    for c in candidates:
+        area = box(c[0] - w / 2, c[1] - h / 2, c[0] + w / 2, c[1] + h / 2)
+        if inside.contains(area) and (keep_off is None or not area.intersects(keep_off)):
+            return c
+    return (cx, cy)
+
+
+def _silk(board: Board, side: str, openings: list[_Opening]) -> str:
+    g = _Gerber(f"{board.name}: silkscreen, {side} side",
+                [_software(), ("Part", "Single"),
+                 ("FileFunction", f"Legend,{_SIDE_WORD[side]}"), ("FilePolarity", "Positive")])
+    outline = outline_polygon(board)
+    inside = outline.buffer(-SILK_WIDTH / 2 - SILK_GAP, quad_segs=ARC_SEGMENTS)
+    holes = [_opening_shape(o) for o in openings]
+    keep_off = (unary_union(holes).buffer(SILK_WIDTH / 2 + SILK_GAP, quad_segs=ARC_SEGMENTS)
+                if holes else None)
+    outline_code = g.aperture("Other,PartOutline", "C", SILK_WIDTH)
+    text_code = g.aperture("Other,PartReference", "C", SILK_WIDTH)
+    for part in board.parts:
+        if part.side != side:
+            continue
+        x0, y0, x1, y1 = body_rect(board, part)
+        rect = [(x0, y0), (x1, y0), (x1, y1), (x0, y1), (x0, y0)]
+        for pts in _clip([rect], keep_off, inside):
+            g.polyline(outline_code, pts)
+        strokes = text_strokes(part.ref, _ref_centre(board, part, inside, keep_off), TEXT_HEIGHT,
+                               mirror=(side == "bottom"))
+        for pts in _clip(strokes, keep_off, inside):
+            g.polyline(text_code, pts)
+    return g.text()
+
+
+def _outline(board: Board) -> str:
+    g = _Gerber(f"{board.name}: board outline (profile)",
+                [_software(), ("Part", "Single"), ("FileFunction", "Profile,NP")])
+    code = g.aperture("Profile", "C", PROFILE_WIDTH)
+    pts = [tuple(map(float, p)) for p in board.outline]
+    g.polyline(code, pts + [pts[0]])
+    return g.text()
+
+
+# ----------------------------------------------------------------------------- drill files
+
+@dataclass(frozen=True)
+class _Drill:
+    x: float
+    y: float
+    drill: float
+    kind: str      # "pad", "via", "jumper_end", "hole"
+
+
+def _drills(board: Board, pads: list[PlacedPad]) -> tuple[list[_Drill], list[_Drill]]:
+    plated = [_Drill(p.x, p.y, p.drill, "pad") for p in pads if p.drill is not None]
+    plated += [_Drill(v.at[0], v.at[1], v.drill, "via") for v in board.vias]
+    plated += [_Drill(at[0], at[1], j.drill, "jumper_end") for j in board.jumpers for at in (j.start, j.end)]
+    nonplated = [_Drill(h.x, h.y, h.drill, "hole") for h in placed_holes(board)]
+    return plated, nonplated
+
+
+def _mm(v: float, digits: int = 4) -> str:
+    s = f"{v:.{digits}f}"
+    return "0.0000"[: digits + 2] if s.startswith("-") and float(s) == 0 else s
+
+
+def _tool_size(d: float) -> str:
+    s = f"{d:.4f}".rstrip("0")
+    whole, _, frac = s.partition(".")
+    return f"{whole}.{frac.ljust(3, '0')}"
+
+
+def _drill_function(kinds: set[str], plated: bool) -> str:
+    if not plated:
+        return "NonPlated,NPTH,MechanicalDrill"
+    if kinds == {"via"}:
+        return "Plated,PTH,ViaDrill"
+    if "via" not in kinds:
+        return "Plated,PTH,ComponentDrill"
+    return "Plated,PTH,Other,ViaAndComponentDrill"
+
+
+def _drill_file(board: Board, drills: list[_Drill], plated: bool) -> str:
+    """The drill file text: tools sorted by size, holes of each tool in file order."""
+    by_size: dict[float, list[_Drill]] = defaultdict(list)
+    for d in drills:
+        by_size[round(d.drill, 4)].append(d)
+    n = board.copper_layers
+    what = ("plated holes: pad drills, vias and jumper ends" if plated
+            else "non-plated holes: mounting and other holes with no copper")
+    lines = ["M48",
+             f"; {_comment(board.name)}: {what}; millimetres, absolute coordinates",
+             f"; #@! TF.{_software()[0]},{_software()[1]}",
+             f"; #@! TF.FileFunction,{'Plated' if plated else 'NonPlated'},1,{n},{'PTH' if plated else 'NPTH'}",
+             "FMAT,2",
+             "METRIC,LZ",
+             "G90"]
+    sizes = sorted(by_size)
+    for t, size in enumerate(sizes, start=1):
+        kinds = {d.kind for d in by_size[size]}
+        lines.append(f"; #@! TA.AperFunction,{_drill_function(kinds, plated)}")
+        lines.append(f"T{t}C{_tool_size(size)}")
+    lines += ["%", "G05"]
+    for t, size in enumerate(sizes, start=1):
+        lines.append(f"T{t}")
+        for d in by_size[size]:
+            lines.append(f"X{_mm(d.x)}Y{_mm(d.y)}")
+    lines.append("M30")
+    return "\n".join(lines) + "\n"
+
+
+# ----------------------------------------------------------------------------- the list of files
+
+def _fmt(v: float) -> str:
+    return f"{v:.4f}".rstrip("0").rstrip(".")
+
+
+def _summary(board: Board, names: dict[str, str], plated: list[_Drill], nonplated: list[_Drill],
+             open_vias: bool) -> str:
+    x0, y0, x1, y1 = outline_polygon(board).bounds
+    widths = [nc.trace_width for nc in board.classes.values()] + [t.width for t in board.traces]
+    spaces = list(class_clearance_table(board).values())
+    drills = [d.drill for d in plated + nonplated]
+    roles = {
+        "copper-top": "copper, top layer (parts side)",
+        "copper-bottom": "copper, bottom layer",
+        "mask-top": "solder mask, top (dark = opening)",
+        "mask-bottom": "solder mask, bottom (dark = opening)",
+        "silk-top": "silkscreen, top",
+        "silk-bottom": "silkscreen, bottom",
+        "outline": "board outline (profile)",
+        "drill-plated": f"drill, plated holes ({len(plated)})",
+        "drill-nonplated": f"drill, non-plated holes ({len(nonplated)})",
+        "list": "this list",
+    }
+    if board.copper_layers == 1:
+        roles["copper-bottom"] = "copper, bottom layer (the only copper; parts on top)"
+    shape = ("rectangle" if len(board.outline) == 4 and outline_polygon(board).area
+             == (x1 - x0) * (y1 - y0) else f"polygon of {len(board.outline)} corners")
+    lines = [f"Fabrication files for board '{board.name}'", ""]
+    width = max(len(n) for n in names.values())
+    for role, name in names.items():
+        lines.append(f"  {name.ljust(width)}  {roles[role]}")
+    lines += [
+        "",
+        f"Board size:            {_fmt(x1 - x0)} x {_fmt(y1 - y0)} mm ({shape})",
+        f"Copper layers:         {board.copper_layers}",
+        f"Copper weight:         {_fmt(board.rules.copper_oz)} oz",
+        f"Smallest trace width:  {_fmt(min(widths))} mm",
+        f"Smallest clearance:    {_fmt(min(spaces))} mm (required between nets by the net classes)",
+        f"Smallest drill:        {_fmt(min(drills)) + ' mm' if drills else 'no holes'}",
+        f"Solder mask expansion: {_fmt(board.rules.mask_expansion)} mm per side; vias "
+        f"{'opened' if open_vias else 'covered'}",
+        "Units: millimetres. Gerber: RS-274X with X2 attributes, format 4.6. "
+        "Drill: plain-text drill format, metric, tools sorted by size.",
+        "",
+        CAUTION,
+    ]
+    return "\n".join(lines) + "\n"
+
+
+# ----------------------------------------------------------------------------- export
+
+def _write(path: Path, text: str) -> None:
+    with open(path, "w", encoding="utf-8", newline="\n") as fh:
+        fh.write(text)
+
+
+def export(board: Board, out_dir, open_vias: bool = False) -> list[Path]:
+    """Write the fabrication files of `board` into `out_dir`.
+
+    Parameters
+    ----------
+    board : Board
+        Every part must be placed.
+    out_dir : path
+        The folder; made if missing. Files already there with other names are left alone;
+        files of the same names are replaced.
+    open_vias : bool
+        Open the solder mask over vias too (by default vias are covered).
+
+    Returns
+    -------
+    list of Path
+        The files written, in the order of :func:`file_names`.
+
+    Raises
+    ------
+    BoardError
+        A part is unplaced (place it first), a trace is on a layer the board does not have,
+        or the outline is not a simple polygon. Nothing is written then.
+
+    Notes
+    -----
+    All files are made in a temporary folder beside `out_dir` and moved in only when every
+    one is complete, so a failure leaves `out_dir` as it was.
+    """
+    _check_input(board)
+    names = file_names(board)
+    pads = placed_pads(board)
+    texts: dict[str, str] = {}
+    for i, layer in enumerate(board.layers, start=1):
+        texts[f"copper-{layer}"] = _copper(board, layer, pads, i)
+    openings = {side: _openings(board, side, pads, open_vias) for side in _SIDES}
+    for layer in board.layers:
+        texts[f"mask-{layer}"] = _mask(board, layer, openings[layer])
+    for side in _SIDES:
+        texts[f"silk-{side}"] = _silk(board, side, openings[side])
+    texts["outline"] = _outline(board)
+    plated, nonplated = _drills(board, pads)
+    texts["drill-plated"] = _drill_file(board, plated, True)
+    texts["drill-nonplated"] = _drill_file(board, nonplated, False)
+    texts["list"] = _summary(board, names, plated, nonplated, open_vias)
+    out_dir = Path(out_dir)
+    with atomic_dir(out_dir) as tmp:
+        for role, name in names.items():
+            _write(tmp / name, texts[role])
+    return [out_dir / name for name in names.values()]
