@@ -1,0 +1,758 @@
+"""Bends, length, vias, jumpers and lower bounds: one computation for every command.
+
+``report``, ``compare`` and ``route --json`` all print :func:`board_figures`, so
+their figures always agree. Everything is computed from the board's own
+copper, never from how it was drawn: a polyline split at a corner is the same
+copper as the unsplit one, and counts the same.
+
+Bends
+    A bend (the contract's word) is a point of one net's copper on one layer
+    where exactly two segments meet at a right angle and nothing else is there.
+    All segments of the net on the layer are taken together; collinear
+    segments that overlap or touch are merged into one, then at each end
+    point the horizontal and vertical *arms* are counted (an end of a merged
+    segment is one arm, a point inside it two). A bend is one horizontal arm
+    and one vertical arm, at a point inside no pad (of any net, on that layer),
+    no via, no jumper end and no one-point trace (a dot of copper). A T
+    junction (three arms) and a crossing (four) are not bends.
+
+Length
+    The sum of the lengths of every segment of the net's traces, as drawn:
+    overlapping segments count twice, stubs inside pads count. Jumper wires are
+    not included (they are in the extra field ``jumper_length``).
+
+Points are compared after snapping to multiples of :data:`router.units.TOL`.
+
+Lower bounds are computed from the net's pads alone, without the other nets;
+see :func:`length_lower_bound`, :func:`bends_lower_bound` and
+:func:`path_bends_lower_bound`.
+"""
+from __future__ import annotations
+
+import math
+from bisect import bisect_right
+from collections import defaultdict
+from typing import Callable, Iterable, Optional, Sequence
+
+from rtree import index as rtree_index
+
+from .connectivity import routed as routed_nets
+from .copper import pad_core
+from .geometry import placed_pads
+from .model import Board, Point
+from .units import TOL, snap
+
+__all__ = [
+    "FIELDS", "TOTAL_FIELDS", "board_figures", "bend_points", "trace_length",
+    "rect_distance", "hpwl", "rmst_length", "length_lower_bound", "bends_lower_bound",
+    "path_bends_lower_bound", "compare_figures", "format_report", "format_compare",
+]
+
+#: The per-net fields of the contract's ``report --json``, in order.
+FIELDS = ("name", "routed", "bends", "length", "vias", "jumpers",
+          "bends_lower_bound", "length_lower_bound")
+#: The totals fields of the contract's ``report --json``, in order.
+TOTAL_FIELDS = ("nets", "routed", "bends", "length", "vias", "jumpers",
+                "bends_lower_bound", "length_lower_bound")
+
+Rect = tuple[float, float, float, float]
+Segment = tuple[Point, Point]
+
+
+# ------------------------------------------------------------------ bends
+
+def _key(v: float) -> int:
+    return int(round(v / TOL))
+
+
+def _merge(intervals: list[tuple[int, int]]) -> list[tuple[int, int]]:
+    """Union of closed integer intervals; intervals that overlap or touch become one."""
+    out: list[list[int]] = []
+    for a, b in sorted(intervals):
+        if out and a <= out[-1][1]:
+            if b > out[-1][1]:
+                out[-1][1] = b
+        else:
+            out.append([a, b])
+    return [(a, b) for a, b in out]
+
+
+def _arms(lines: dict[int, tuple[list[int], list[tuple[int, int]]]], line: int, c: int) -> int:
+    """Arms at coordinate `c` on `line`: 0 off the copper, 1 at an end, 2 inside a segment."""
+    entry = lines.get(line)
+    if entry is None:
+        return 0
+    starts, spans = entry
+    i = bisect_right(starts, c) - 1
+    if i < 0:
+        return 0
+    a, b = spans[i]
+    if c > b:
+        return 0
+    return 1 if c in (a, b) else 2
+
+
+def bend_points(segments: Iterable[Segment],
+                covered: Optional[Callable[[float, float], bool]] = None) -> list[Point]:
+    """The bends of one net's segments on one layer.
+
+    Parameters
+    ----------
+    segments : iterable of ((x0, y0), (x1, y1))
+        Axis-parallel segments in mm, in any order and split anywhere. Zero-length
+        segments are ignored. A step that moves both x and y by at most
+        :data:`~router.units.TOL` (which the board file accepts) counts along its
+        longer direction.
+    covered : callable (x, y) -> bool, optional
+        True where something else is there (a pad, a via, a jumper end): such a
+        point is no bend.
+
+    Returns
+    -------
+    list of (x, y)
+        The bend points, sorted, with coordinates snapped to :data:`~router.units.TOL`.
+
+    Notes
+    -----
+    Collinear segments that overlap or touch are merged first; then a point is a bend
+    when it is the end of exactly one horizontal and exactly one vertical merged
+    segment and lies inside no other segment. Merged segments on one line are
+    disjoint, so at most one horizontal and one vertical pass through any point.
+
+    Examples
+    --------
+    An L split at its corner is still one bend; a T junction is none:
+
+    >>> bend_points([((0, 0), (2, 0)), ((2, 0), (2, 3))])
+    [(2.0, 0.0)]
+    >>> bend_points([((0, 0), (4, 0)), ((2, 0), (2, 3))])
+    []
+    >>> bend_points([((0, 0), (2, 0)), ((2, 0), (2, 3))], covered=lambda x, y: True)
+    []
+    """
+    horiz: dict[int, list[tuple[int, int]]] = defaultdict(list)
+    vert: dict[int, list[tuple[int, int]]] = defaultdict(list)
+    for (xa, ya), (xb, yb) in segments:
+        kxa, kya, kxb, kyb = _key(xa), _key(ya), _key(xb), _key(yb)
+        dx, dy = abs(kxb - kxa), abs(kyb - kya)
+        if dx == 0 and dy == 0:
+            continue
+        if dx >= dy:
+            horiz[kya].append((min(kxa, kxb), max(kxa, kxb)))
+        else:
+            vert[kxa].append((min(kya, kyb), max(kya, kyb)))
+    hl = {y: _merge(v) for y, v in horiz.items()}
+    vl = {x: _merge(v) for x, v in vert.items()}
+    hidx = {y: ([a for a, _ in s], s) for y, s in hl.items()}
+    vidx = {x: ([a for a, _ in s], s) for x, s in vl.items()}
+    out = []
+    for y, spans in hl.items():
+        for a, b in spans:
+            for x in (a, b):
+                if _arms(vidx, x, y) == 1 and _arms(hidx, y, x) == 1:
+                    px, py = snap(x * TOL), snap(y * TOL)
+                    if covered is None or not covered(px, py):
+                        out.append((px, py))
+    return sorted(out)
+
+
+class _Covers:
+    """Things that make a point no bend, per layer: pads, vias, jumper ends, dots of copper.
+
+    Each is a core (an axis-aligned box, possibly a segment or a point) and a radius, as in
+    :mod:`router.copper`; a point is covered when it lies within radius + TOL of the core.
+    """
+
+    def __init__(self, board: Board, pads):
+        self.items: dict[str, list[tuple[Rect, float]]] = {L: [] for L in board.layers}
+        for pad in pads:
+            core, r = pad_core(pad)
+            for L in pad.layers:
+                self.items.setdefault(L, []).append((tuple(core.bounds), r))
+        for v in board.vias:
+            for L in board.layers:
+                self.items[L].append(((v.at[0], v.at[1], v.at[0], v.at[1]), v.diameter / 2))
+        for j in board.jumpers:
+            for at in (j.start, j.end):
+                for L in board.layers:
+                    self.items[L].append(((at[0], at[1], at[0], at[1]), j.diameter / 2))
+        for t in board.traces:
+            if len({(_key(x), _key(y)) for x, y in t.points}) == 1:
+                x, y = t.points[0]
+                self.items.setdefault(t.layer, []).append(((x, y, x, y), t.width / 2))
+        self.index: dict[str, rtree_index.Index] = {}
+
+    def _idx(self, layer: str) -> rtree_index.Index:
+        if layer not in self.index:
+            items = self.items.get(layer, [])
+            g = TOL
+            self.index[layer] = rtree_index.Index(
+                ((i, (b[0] - r - g, b[1] - r - g, b[2] + r + g, b[3] + r + g), None)
+                 for i, (b, r) in enumerate(items))) if items else rtree_index.Index()
+        return self.index[layer]
+
+    def on(self, layer: str) -> Callable[[float, float], bool]:
+        items = self.items.get(layer, [])
+        idx = self._idx(layer)
+
+        def covered(x: float, y: float) -> bool:
+            for i in idx.intersection((x, y, x, y)):
+                (x0, y0, x1, y1), r = items[i]
+                dx = max(x0 - x, 0.0, x - x1)
+                dy = max(y0 - y, 0.0, y - y1)
+                if math.hypot(dx, dy) <= r + TOL:
+                    return True
+            return False
+        return covered
+
+
+def trace_length(points: Sequence[Point]) -> float:
+    """The length of one trace: the sum of its steps.
+
+    >>> trace_length([(0, 0), (3, 0), (3, 4)])
+    7.0
+    """
+    return float(sum(math.hypot(b[0] - a[0], b[1] - a[1]) for a, b in zip(points, points[1:])))
+
+
+# ------------------------------------------------------------------ lower bounds
+
+def rect_distance(a: Rect, b: Rect) -> float:
+    """The rectilinear (L1) distance between two axis-aligned rectangles (0 when they touch).
+
+    >>> rect_distance((0, 0, 1, 1), (3, 2, 4, 5))
+    3.0
+    >>> rect_distance((0, 0, 2, 2), (1, 1, 3, 3))
+    0.0
+    """
+    dx = max(0.0, b[0] - a[2], a[0] - b[2])
+    dy = max(0.0, b[1] - a[3], a[1] - b[3])
+    return float(dx + dy)
+
+
+def hpwl(rects: Sequence[Rect]) -> float:
+    """The half-perimeter bound of a set of rectangles: the span copper touching all must cover.
+
+    Copper that touches every rectangle reaches x >= max of the left edges and x <= min of the
+    right edges, so its x-extent is at least ``max(0, max x0 - min x1)``; the same for y. A
+    connected set of axis-parallel segments is at least as long as its x-extent plus its
+    y-extent (project each segment on both axes). For points it is the half perimeter of
+    their bounding box.
+
+    >>> hpwl([(0, 0, 1, 1), (3, 2, 4, 5)])
+    3.0
+    >>> hpwl([(0, 0, 0, 0), (3, 0, 3, 0), (1, 2, 1, 2)])
+    5.0
+    """
+    if len(rects) < 2:
+        return 0.0
+    dx = max(r[0] for r in rects) - min(r[2] for r in rects)
+    dy = max(r[1] for r in rects) - min(r[3] for r in rects)
+    return float(max(0.0, dx) + max(0.0, dy))
+
+
+def rmst_length(rects: Sequence[Rect]) -> float:
+    """The weight of a minimum spanning tree of the rectangles under :func:`rect_distance`.
+
+    Prim's algorithm on the complete graph, O(n^2).
+
+    >>> rmst_length([(0, 0, 0, 0), (2, 0, 2, 0), (2, 3, 2, 3)])
+    5.0
+    """
+    n = len(rects)
+    if n < 2:
+        return 0.0
+    best = [math.inf] * n
+    done = [False] * n
+    best[0] = 0.0
+    total = 0.0
+    for _ in range(n):
+        i = min((k for k in range(n) if not done[k]), key=best.__getitem__)
+        done[i] = True
+        total += best[i]
+        for k in range(n):
+            if not done[k]:
+                d = rect_distance(rects[i], rects[k])
+                if d < best[k]:
+                    best[k] = d
+    return float(total)
+
+
+def length_lower_bound(rects: Sequence[Rect]) -> float:
+    """A lower bound on the copper needed to join pads: max(HPWL, 2/3 RMST) over their rectangles.
+
+    Parameters
+    ----------
+    rects : sequence of (x0, y0, x1, y1)
+        The bounding rectangles of the net's pads (every pad of every pin).
+
+    Returns
+    -------
+    float
+        ``max(hpwl(rects), 2/3 * rmst_length(rects))`` in mm; 0 for fewer than two pads.
+
+    Notes
+    -----
+    What it bounds: the length of any rectilinear tree (trace centre lines and jumper wires,
+    meeting at points and at via centres) that touches every rectangle. A trace may end
+    anywhere on a pad, so each pad counts as its whole bounding rectangle, not its centre; a
+    pad's true copper lies inside its rectangle, so distances between rectangles never exceed
+    the real ones and the bound stays valid.
+
+    Proof of the 2/3 term: a tree touching every rectangle touches rectangle i at some point
+    p_i, so it is a rectilinear Steiner tree of the points p_i and is at least RSMT(p) >=
+    2/3 RMST(p) [1]_. Every distance |p_i - p_j|_1 is at least the rectangles' distance, so
+    RMST(p) >= RMST(rects) (a minimum spanning tree's weight never falls when no edge weight
+    falls). The half-perimeter term: see :func:`hpwl`.
+
+    Copper that joins only through width (two parallel traces overlapping side by side, a
+    via disc reaching a pad the trace centre line does not) can beat the bound by at most those
+    widths; on a one-layer board, jumper wires carry length the contract's ``length`` leaves
+    out, so there compare ``length + jumper_length`` with the bound.
+
+    References
+    ----------
+    .. [1] F. K. Hwang, "On Steiner minimal trees with rectilinear distance",
+       SIAM J. Appl. Math. 30 (1976) 104-114.
+    .. [2] M. Hanan, "On Steiner's problem with rectilinear distance",
+       SIAM J. Appl. Math. 14 (1966) 255-265.
+
+    Examples
+    --------
+    >>> length_lower_bound([(0, 0, 0, 0), (4, 0, 4, 0), (2, 3, 2, 3)])   # HPWL 4 + 3
+    7.0
+    """
+    if len(rects) < 2:
+        return 0.0
+    return float(max(hpwl(rects), 2.0 * rmst_length(rects) / 3.0))
+
+
+def bends_lower_bound(rects: Sequence[Rect]) -> int:
+    """The greatest lower bound on a net's bends under the contract's definition: 0.
+
+    Returns
+    -------
+    int
+        0, for every net.
+
+    Notes
+    -----
+    Claim: every net that can be joined at all can be joined with no bend, so no positive
+    bound holds and 0 is the best (tight) bound.
+
+    Proof: take any copper joining the net and a bend at point P where a horizontal segment
+    h and a vertical segment v meet. Extend h past P by a length e smaller than the distance
+    from P to every other segment not through P. Now P lies inside h, so three arms meet
+    there (a T junction): no bend. The new end of h has a single arm: no bend. Nothing else
+    changed, the copper stays joined, and there is one bend fewer; repeat until none is left.
+    A via at the corner (two-layer boards) or a jumper end (one-layer boards) does the same,
+    as does a corner inside a pad. The same holds for a net of two pads that share neither
+    an x-range nor a y-range: an L with its corner extended is joined and has no bend.
+
+    So the contract's bend count measures how tidily copper was drawn, not a property of the
+    pads. For a bound that says something about the pads see :func:`path_bends_lower_bound`,
+    which holds for the copper a router draws for a two-pad net (one path, no stub, no via).
+
+    Examples
+    --------
+    >>> bends_lower_bound([(0, 0, 1, 1), (5, 5, 6, 6)])
+    0
+    """
+    return 0
+
+
+def path_bends_lower_bound(rects: Sequence[Rect]) -> Optional[int]:
+    """Bends of one simple path joining two pads on one layer: 1 when the pads are not aligned.
+
+    Parameters
+    ----------
+    rects : sequence of (x0, y0, x1, y1)
+        The bounding rectangles of the net's pads.
+
+    Returns
+    -------
+    int or None
+        For exactly two pads: 0 when their rectangles share an x-range or a y-range (within
+        :data:`~router.units.TOL`), else 1. None for any other number of pads.
+
+    Notes
+    -----
+    The model: the net's copper on the layer is one simple rectilinear path from pad A to
+    pad B, with no via, jumper end or other net's pad on it (that would be a short). The
+    bound is exact: an L shape with its corner outside both pads has one bend, a straight run
+    none.
+
+    Proof: pads are convex, so the projection of a pad on an axis is the range of its
+    bounding rectangle. Let a be the last point of the path in A and b the first point after
+    a in B; the path strictly between a and b lies outside A and B. If no vertex lies between
+    them, a-b is one axis-parallel segment from A to B, so the pads share a y-range
+    (horizontal) or an x-range (vertical). Otherwise a vertex between them lies in no pad
+    and, the path being simple, exactly two of its segments meet there at a right angle
+    (collinear steps merge): a bend.
+
+    Examples
+    --------
+    >>> path_bends_lower_bound([(0, 0, 1, 1), (5, 0.5, 6, 2)])   # y-ranges overlap
+    0
+    >>> path_bends_lower_bound([(0, 0, 1, 1), (5, 5, 6, 6)])
+    1
+    >>> path_bends_lower_bound([(0, 0, 1, 1), (5, 5, 6, 6), (9, 9, 10, 10)]) is None
+    True
+    """
+    if len(rects) != 2:
+        return None
+    a, b = rects
+    share_x = max(a[0], b[0]) <= min(a[2], b[2]) + TOL
+    share_y = max(a[1], b[1]) <= min(a[3], b[3]) + TOL
+    return 0 if (share_x or share_y) else 1
+
+
+# ------------------------------------------------------------------ the figures
+
+def _ratio(num: float, den: float) -> Optional[float]:
+    return round(num / den, 4) if den > TOL else None
+
+
+def board_figures(board: Board) -> dict:
+    """Bends, length, vias, jumpers and lower bounds per net and in total.
+
+    Parameters
+    ----------
+    board : Board
+
+    Returns
+    -------
+    dict
+        The contract's ``report --json`` object::
+
+            {"nets": [{"name", "routed", "bends", "length", "vias", "jumpers",
+                       "bends_lower_bound", "length_lower_bound", ...}],
+             "totals": {"nets", "routed", "bends", "length", "vias", "jumpers",
+                        "bends_lower_bound", "length_lower_bound", ...}}
+
+        Nets in file order. Extra fields per net: ``pads`` (pads of its pins on placed
+        parts), ``unplaced`` (its pins on parts with no place), ``jumper_length`` (mm of
+        jumper wire), ``length_ratio`` ((length + jumper_length) / length_lower_bound, None
+        when the bound is 0), ``bends_over_bound``, ``bends_lower_bound_path``
+        (:func:`path_bends_lower_bound`) and ``bend_points``. Extra totals: ``unplaced``
+        (nets with an unplaced pin), ``jumper_length``, ``length_ratio`` and
+        ``length_lower_bound_routed`` (over the routed nets only, so unrouted nets do not
+        make a board look better than its bounds) and ``bends_over_bound``.
+
+    Notes
+    -----
+    ``routed`` is :func:`router.connectivity.routed`, the same as ``check``'s ``open``
+    rule. A net with a pin on an unplaced part has both bounds 0 (its pads' places are not
+    known). Lengths are in mm, rounded to 1e-6.
+
+    Examples
+    --------
+    >>> from router.boardfile import loads_board
+    >>> b = loads_board('''format = 1
+    ... [board]
+    ... name = "t"
+    ... size = [20.0, 10.0]
+    ... [[parts]]
+    ... ref = "R1"
+    ... footprint = "axial-10.16"
+    ... at = [10.0, 5.0]
+    ... [[nets]]
+    ... name = "A"
+    ... pins = ["R1.1", "R1.2"]
+    ... [[traces]]
+    ... net = "A"
+    ... layer = "top"
+    ... width = 0.25
+    ... points = [[4.92, 5.0], [15.08, 5.0]]
+    ... ''')
+    >>> f = board_figures(b)["nets"][0]
+    >>> f["routed"], f["bends"], f["length"], f["length_lower_bound"]
+    (True, 0, 10.16, 8.36)
+    """
+    is_routed = routed_nets(board)
+    pads = placed_pads(board)
+    covers = _Covers(board, pads)
+    placed = {p.ref for p in board.parts if p.at is not None}
+    rects_of: dict[str, list[Rect]] = defaultdict(list)
+    for pad in pads:
+        rects_of[pad.net].append(pad.bounds())
+    segs_of: dict[tuple[str, str], list[Segment]] = defaultdict(list)
+    length_of: dict[str, float] = defaultdict(float)
+    for t in board.traces:
+        pts = [(float(x), float(y)) for x, y in t.points]
+        segs_of[(t.net, t.layer)].extend(zip(pts, pts[1:]))
+        length_of[t.net] += trace_length(pts)
+    vias_of: dict[str, int] = defaultdict(int)
+    for v in board.vias:
+        vias_of[v.net] += 1
+    jumpers_of: dict[str, int] = defaultdict(int)
+    jlen_of: dict[str, float] = defaultdict(float)
+    for j in board.jumpers:
+        jumpers_of[j.net] += 1
+        jlen_of[j.net] += trace_length([j.start, j.end])
+
+    nets = []
+    for net in board.nets:
+        unplaced = [p for p in net.pins if p.split(".", 1)[0] not in placed]
+        rects = rects_of.get(net.name, [])
+        bends_at: list[Point] = []
+        for layer in board.layers:
+            segs = segs_of.get((net.name, layer))
+            if segs:
+                bends_at.extend(bend_points(segs, covers.on(layer)))
+        if unplaced:
+            lb, bb, pb = 0.0, 0, None
+        else:
+            lb, bb, pb = length_lower_bound(rects), bends_lower_bound(rects), path_bends_lower_bound(rects)
+        length, jlen = length_of.get(net.name, 0.0), jlen_of.get(net.name, 0.0)
+        nets.append({
+            "name": net.name,
+            "routed": bool(is_routed.get(net.name, False)),
+            "bends": len(bends_at),
+            "length": snap(length),
+            "vias": vias_of.get(net.name, 0),
+            "jumpers": jumpers_of.get(net.name, 0),
+            "bends_lower_bound": bb,
+            "length_lower_bound": snap(lb),
+            "pads": len(rects),
+            "unplaced": unplaced,
+            "jumper_length": snap(jlen),
+            "length_ratio": _ratio(length + jlen, lb),
+            "bends_over_bound": len(bends_at) - bb,
+            "bends_lower_bound_path": pb,
+            "bend_points": [list(p) for p in bends_at],
+            "_exact": (length, jlen, lb),
+        })
+    tot_len = sum(n["_exact"][0] for n in nets)
+    tot_j = sum(n["_exact"][1] for n in nets)
+    tot_lb = sum(n["_exact"][2] for n in nets)
+    r_len = sum(n["_exact"][0] + n["_exact"][1] for n in nets if n["routed"])
+    r_lb = sum(n["_exact"][2] for n in nets if n["routed"])
+    for n in nets:
+        del n["_exact"]
+    totals = {
+        "nets": len(nets),
+        "routed": sum(1 for n in nets if n["routed"]),
+        "bends": sum(n["bends"] for n in nets),
+        "length": snap(tot_len),
+        "vias": sum(n["vias"] for n in nets),
+        "jumpers": sum(n["jumpers"] for n in nets),
+        "bends_lower_bound": sum(n["bends_lower_bound"] for n in nets),
+        "length_lower_bound": snap(tot_lb),
+        "unplaced": sum(1 for n in nets if n["unplaced"]),
+        "jumper_length": snap(tot_j),
+        "length_ratio": _ratio(tot_len + tot_j, tot_lb),
+        "length_lower_bound_routed": snap(r_lb),
+        "length_ratio_routed": _ratio(r_len, r_lb),
+        "bends_over_bound": sum(n["bends_over_bound"] for n in nets),
+    }
+    return {"nets": nets, "totals": totals}
+
+
+# ------------------------------------------------------------------ comparison
+
+#: Fields compared per net and in total, in the order they are shown.
+COMPARED = ("routed", "bends", "length", "vias", "jumpers", "bends_lower_bound", "length_lower_bound")
+
+
+def _differ(values: list) -> bool:
+    present = [v for v in values if v is not None]
+    if not present:
+        return False
+    if len(present) != len(values):
+        return True
+    if all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in present):
+        return max(present) - min(present) > TOL
+    return any(v != present[0] for v in present)
+
+
+def compare_figures(labelled: Sequence[tuple[str, dict]]) -> dict:
+    """The figures of several boards side by side, nets matched by name.
+
+    Parameters
+    ----------
+    labelled : sequence of (label, figures)
+        Each figures dict as :func:`board_figures` returns it; labels are usually paths.
+
+    Returns
+    -------
+    dict
+        ``{"boards": [label, ...], "fields": [...], "nets": [...], "totals": {...}}``. Each
+        entry of ``nets`` is ``{"name": N, "present": [bool per board], F: [value per board
+        or None], ..., "differs": [fields whose values differ]}`` for each field F of
+        ``fields``, nets in first-seen order; a net missing from some board has None there
+        and ``"present"`` in ``differs``; its fields are compared among the boards that have it. ``totals`` is ``{F: [value per board], "differs":
+        [...], "best": {F: [labels with the lowest value]}}`` for bends, length, vias and
+        jumpers. Numbers differ when they are more than :data:`~router.units.TOL` apart.
+
+    Examples
+    --------
+    >>> a = {"nets": [{"name": "A", "bends": 1, "length": 2.0}], "totals": {"bends": 1, "length": 2.0}}
+    >>> b = {"nets": [{"name": "A", "bends": 3, "length": 2.0}], "totals": {"bends": 3, "length": 2.0}}
+    >>> c = compare_figures([("a", a), ("b", b)])
+    >>> c["nets"][0]["bends"], c["nets"][0]["differs"], c["totals"]["best"]["bends"]
+    ([1, 3], ['bends'], ['a'])
+    """
+    labels = [lab for lab, _ in labelled]
+    order: list[str] = []
+    by_board: list[dict[str, dict]] = []
+    for _, figs in labelled:
+        m = {}
+        for n in figs.get("nets", []):
+            m[n["name"]] = n
+            if n["name"] not in order:
+                order.append(n["name"])
+        by_board.append(m)
+    nets = []
+    for name in order:
+        row: dict = {"name": name, "present": [name in m for m in by_board]}
+        differs = ["present"] if not all(row["present"]) else []
+        for f in COMPARED:
+            vals = [m[name].get(f) if name in m else None for m in by_board]
+            row[f] = vals
+            # a missing net is marked once, under "present"; fields compare the boards that have it
+            if _differ([v for v, here in zip(vals, row["present"]) if here]):
+                differs.append(f)
+        row["differs"] = differs
+        nets.append(row)
+    tfields = ("nets", "routed") + COMPARED[1:]
+    totals: dict = {}
+    tdiff = []
+    for f in tfields:
+        vals = [figs.get("totals", {}).get(f) for _, figs in labelled]
+        totals[f] = vals
+        if _differ(vals):
+            tdiff.append(f)
+    totals["differs"] = tdiff
+    best = {}
+    for f in ("bends", "length", "vias", "jumpers"):
+        vals = totals[f]
+        present = [v for v in vals if v is not None]
+        if present:
+            lo = min(present)
+            best[f] = [lab for lab, v in zip(labels, vals) if v is not None and v - lo <= TOL]
+    totals["best"] = best
+    return {"boards": labels, "fields": list(COMPARED), "nets": nets, "totals": totals}
+
+
+# ------------------------------------------------------------------ text output
+
+def _fmt(v, f: str) -> str:
+    if v is None:
+        return "-"
+    if isinstance(v, bool):
+        return "yes" if v else "no"
+    if isinstance(v, float) or f in ("length", "length_lower_bound"):
+        return f"{float(v):.2f}"
+    return str(v)
+
+
+def _table(header: list[str], rows: list[list[str]], left: int = 1) -> list[str]:
+    widths = [max(len(r[i]) for r in [header] + rows) for i in range(len(header))]
+
+    def line(r):
+        cells = [c.ljust(w) if i < left else c.rjust(w) for i, (c, w) in enumerate(zip(r, widths))]
+        return "  ".join(cells).rstrip()
+    return [line(header), "  ".join("-" * w for w in widths)] + [line(r) for r in rows]
+
+
+def format_report(figs: dict, board: Optional[Board] = None) -> str:
+    """The figures as a readable table, with a totals line showing how far above the bounds.
+
+    Parameters
+    ----------
+    figs : dict
+        As :func:`board_figures` returns it.
+    board : Board, optional
+        Only for the title (its name).
+
+    Examples
+    --------
+    >>> figs = {"nets": [{"name": "A", "routed": True, "bends": 2, "length": 12.0, "vias": 1,
+    ...         "jumpers": 0, "bends_lower_bound": 0, "length_lower_bound": 10.0}],
+    ...         "totals": {"nets": 1, "routed": 1, "bends": 2, "length": 12.0, "vias": 1,
+    ...         "jumpers": 0, "bends_lower_bound": 0, "length_lower_bound": 10.0}}
+    >>> print(format_report(figs).splitlines()[-1])
+    length 12.00 mm, bound 10.00 mm: 1.20x, 2.00 mm above
+    """
+    head = ["net", "routed", "bends", "bound", "length", "bound", "ratio", "vias", "jumpers"]
+    rows = []
+    for n in figs["nets"]:
+        jl = n.get("jumper_length", 0.0) or 0.0
+        ratio = n.get("length_ratio", _ratio(n["length"] + jl, n["length_lower_bound"]))
+        rows.append([n["name"], _fmt(n["routed"], ""), str(n["bends"]), str(n["bends_lower_bound"]),
+                     _fmt(n["length"], "length"), _fmt(n["length_lower_bound"], "length"),
+                     "-" if ratio is None else f"{ratio:.2f}", str(n["vias"]), str(n["jumpers"])])
+    t = figs["totals"]
+    out = []
+    if board is not None:
+        out.append(f"board {board.name}: {t['nets']} nets, {t['routed']} routed")
+    out.extend(_table(head, rows))
+    out.append("")
+    unrouted = t["nets"] - t["routed"]
+    out.append(f"totals: {t['routed']} of {t['nets']} nets routed"
+               + (f" ({unrouted} not)" if unrouted else "")
+               + f", {t['vias']} vias, {t['jumpers']} jumpers")
+    out.append(f"bends {t['bends']}, bound {t['bends_lower_bound']}: "
+               f"{t['bends'] - t['bends_lower_bound']} above")
+    tj = t.get("jumper_length", 0.0) or 0.0
+    lb = t["length_lower_bound"]
+    total = t["length"] + tj
+    wire = f" + {tj:.2f} mm of jumper wire" if tj else ""
+    line = f"length {t['length']:.2f} mm{wire}, bound {lb:.2f} mm"
+    if not unrouted:
+        ratio = _ratio(total, lb)
+        line += (f": {ratio:.2f}x, {total - lb:.2f} mm above" if ratio is not None else "")
+    elif t["routed"] == 0:
+        line += "; no net routed yet"
+    else:
+        r_len = sum(n["length"] + (n.get("jumper_length", 0.0) or 0.0)
+                    for n in figs["nets"] if n["routed"])
+        r_lb = sum(n["length_lower_bound"] for n in figs["nets"] if n["routed"])
+        ratio = _ratio(r_len, r_lb)
+        line += (f"; the {t['routed']} routed nets {r_len:.2f} mm against {r_lb:.2f} mm"
+                 + (f": {ratio:.2f}x, {r_len - r_lb:.2f} mm above" if ratio is not None else ""))
+    out.append(line)
+    return "\n".join(out)
+
+
+def format_compare(comp: dict) -> str:
+    """A comparison as text: one block per field, one column per board, '*' where values differ.
+
+    Examples
+    --------
+    >>> a = {"nets": [{"name": "A", "bends": 1}], "totals": {"bends": 1}}
+    >>> b = {"nets": [{"name": "A", "bends": 3}], "totals": {"bends": 3}}
+    >>> "* A" in format_compare(compare_figures([("a", a), ("b", b)]))
+    True
+    """
+    labels = comp["boards"]
+    cols = [f"[{i + 1}]" for i in range(len(labels))]
+    out = [f"{c} {lab}" for c, lab in zip(cols, labels)]
+    out.append("")
+    head = ["  net", "field"] + cols
+    rows = []
+    for n in comp["nets"]:
+        for f in ["present"] + comp["fields"]:
+            if f == "present" and "present" not in n["differs"]:
+                continue
+            mark = "*" if f in n["differs"] else " "
+            rows.append([f"{mark} {n['name']}", f] + [_fmt(v, f) for v in n[f]])
+    out.extend(_table(head, rows, left=2))
+    out.append("")
+    t = comp["totals"]
+    trows = []
+    for f in [k for k in t if k not in ("differs", "best")]:
+        mark = "*" if f in t["differs"] else " "
+        trows.append([f"{mark} totals", f] + [_fmt(v, f) for v in t[f]])
+    out.extend(_table(["  ", "field"] + cols, trows, left=2))
+    best = t.get("best", {})
+    if best and len(labels) > 1:
+        out.append("")
+        for f, labs in best.items():
+            if len(labs) < len(labels):
+                out.append(f"fewest {f}: " + ", ".join(labs) if f != "length"
+                           else "shortest: " + ", ".join(labs))
+    out.append("")
+    out.append("* the boards differ there")
+    return "\n".join(out)
