@@ -1,6 +1,153 @@
-"""Placement of the parts that have no place (issue 7; being built).
+"""Placement of the parts that have no place.
 
-The command line calls ``placement.place(board, seed=..., all_parts=..., gap=...)``; until it
-exists here, ``elbowroom place`` says plainly that it is not built yet (exit status 2).
+:func:`place` places every part without ``at`` (with ``all_parts``, every part that
+is not ``fixed``): a quadratic start, simulated annealing on wirelength,
+congestion and overlap (:mod:`placement.anneal`), then legalisation onto the
+grid (:mod:`placement.legalize`). Parts that are fixed, or placed and not to be
+moved, stay exactly where they are.
 """
-__all__: list[str] = []
+from __future__ import annotations
+
+import time
+from dataclasses import dataclass, replace
+from typing import Optional
+
+import numpy as np
+
+from router.model import Board
+
+from .anneal import Problem, anneal, quadratic_start
+from .legalize import ROTATIONS, check_fits, effective_gap, legalize, site_for
+from .wirelength import congestion, total_hpwl
+
+__all__ = ["place", "PlaceResult"]
+
+
+@dataclass
+class PlaceResult:
+    """What :func:`place` made.
+
+    Attributes
+    ----------
+    board : the placed board (a new one; the input is not changed)
+    placed : refs of the parts that were placed
+    before : wirelength in mm of the input, when all its parts had a place, else None
+    after : wirelength in mm of the placed board
+    random : wirelength in mm of a random legal placement of the same parts made in the same
+        run (None when none was found)
+    congestion : congestion overflow of the placed board, mm of track (0 when roomy)
+    gap : the gap kept between part rectangles, mm
+    seconds : time taken (the random placement not included)
+    """
+    board: Board
+    placed: list
+    before: Optional[float]
+    after: float
+    random: Optional[float]
+    congestion: float
+    gap: float
+    seconds: float
+
+    def summary(self) -> str:
+        """A few lines for the command line."""
+        lines = [f"placed {len(self.placed)} parts in {self.seconds:.1f} s with a {self.gap:g} mm gap"]
+        lines.append(f"  wirelength before: {self.before:.1f} mm" if self.before is not None
+                     else "  wirelength before: - (not every part had a place)")
+        lines.append(f"  wirelength after:  {self.after:.1f} mm")
+        if self.random is not None:
+            ratio = self.after / self.random if self.random > 0 else float("nan")
+            lines.append(f"  a random legal placement: {self.random:.1f} mm (after/random {ratio:.2f})")
+        else:
+            lines.append("  a random legal placement: - (none found)")
+        lines.append(f"  congestion estimate: {self.congestion:.1f} mm of track over capacity")
+        return "\n".join(lines)
+
+
+def _to_move(board: Board, all_parts: bool):
+    return [p for p in board.parts if p.at is None or (all_parts and not p.fixed)]
+
+
+def place(board: Board, seed: int = 0, all_parts: bool = False, gap: Optional[float] = None,
+          effort: float = 1.0, random_baseline: bool = True) -> PlaceResult:
+    """Place the parts of `board` that have no place.
+
+    Parameters
+    ----------
+    board : Board
+        Not changed.
+    seed : int
+        Seed of ``numpy.random.default_rng``; the same seed gives the same placement.
+    all_parts : bool
+        Place every part that is not ``fixed``, also those with an ``at``.
+    gap : float, optional
+        Gap between part rectangles (body, pads, holes) in mm; default ``rules.part_gap``.
+        Raised to the largest clearance the net classes require.
+    effort : float
+        Scales the number of annealing moves (1 is the default schedule).
+    random_baseline : bool
+        Also make a random legal placement and measure its wirelength.
+
+    Returns
+    -------
+    PlaceResult
+
+    Raises
+    ------
+    PlacementError
+        When the parts need more area than the board has free, or a part finds no legal place.
+    """
+    t_start = time.perf_counter()
+    out = board.copy()
+    g = effective_gap(out, gap)
+    movable = _to_move(out, all_parts)
+    ids = {id(p) for p in movable}
+    stay = [p for p in out.parts if id(p) not in ids]
+    before = total_hpwl(board) if all(p.at is not None for p in board.parts) else None
+    check_fits(out, g, movable, stay)
+    rng = np.random.default_rng(seed)
+    if movable:
+        site = site_for(out, g, stay)
+        prob = Problem(out, movable, stay, site)
+        rot0 = np.array([ROTATIONS.index(p.rotation % 360) if (p.rotation % 360) in ROTATIONS else 0
+                         for p in movable], dtype=np.intp)
+        xy0 = quadratic_start(prob)
+        xy0 = np.array([prob.clamp(i, x, y, int(rot0[i])) for i, (x, y) in enumerate(xy0)]).reshape(-1, 2)
+        xy, rot = anneal(prob, xy0, rot0, rng, effort=effort)
+        spots = legalize(out, movable, xy, rot, site, prob.offsets)
+        for p, (x, y, r) in zip(movable, spots):
+            i = out.parts.index(p)
+            out.parts[i] = replace(p, at=(x, y), rotation=r)
+    seconds = time.perf_counter() - t_start
+    after = total_hpwl(out)
+    rand = None
+    if random_baseline and movable:
+        rand_board = random_placement(out, movable_refs=[p.ref for p in movable], gap=g,
+                                      rng=np.random.default_rng([seed, 7]))
+        rand = total_hpwl(rand_board) if rand_board is not None else None
+    return PlaceResult(out, [p.ref for p in movable], before, after, rand, congestion(out), g, seconds)
+
+
+def random_placement(board: Board, movable_refs, gap: float, rng: np.random.Generator,
+                     tries: int = 5) -> Optional[Board]:
+    """A random legal placement of the parts `movable_refs` of `board` (others stay), or None.
+
+    Targets and rotations are drawn uniformly; legalisation then takes each part to the
+    free grid point nearest its target.
+    """
+    refs = set(movable_refs)
+    movable = [p for p in board.parts if p.ref in refs]
+    stay = [p for p in board.parts if p.ref not in refs]
+    for _ in range(tries):
+        site = site_for(board, gap, stay)
+        x0, y0, x1, y1 = site.region.bounds
+        targets = np.stack([rng.uniform(x0, x1, len(movable)), rng.uniform(y0, y1, len(movable))], axis=1)
+        rots = rng.integers(0, 4, len(movable))
+        spots = legalize(board, movable, targets, rots, site, strict=False)
+        if spots is None:
+            continue
+        out = board.copy()
+        for p, (x, y, r) in zip(movable, spots):
+            i = [q.ref for q in out.parts].index(p.ref)
+            out.parts[i] = replace(out.parts[i], at=(x, y), rotation=r)
+        return out
+    return None
