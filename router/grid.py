@@ -1,0 +1,516 @@
+"""The routing grid: integer cells, and for each net class where a trace may run.
+
+A cell ``(l, j, i)`` is the grid point ``x = (i0 + i) * pitch``, ``y = (j0 + j) * pitch``
+on copper layer ``l`` (the grid's origin is the board's (0, 0)). A trace's centreline
+runs from grid point to grid point; a cell, a step between two cells, a via and a
+jumper end are *open* to a net only where copper of that net's width (or the via's, or
+the jumper end's, diameter) keeps every required distance:
+
+- to copper of every other net: the pair's required clearance
+  (:func:`router.rules.required_clearance`: the larger class clearance, raised to the
+  IPC-2221 spacing for a declared voltage);
+- to the board edge and to non-plated holes: ``edge_clearance``;
+- keepouts and (for ``keepout_body`` parts) other parts' bodies: not entered (the edge may be touched);
+- vias and jumper ends, hole to hole: ``min_hole_spacing`` from every hole, whatever its net.
+
+Every obstacle's copper is an axis-parallel box (a point or a segment being a thin
+box) with a radius, as in :mod:`router.copper`, so the distance from a grid point or a
+grid step to it is exact (``hypot`` of the two axis gaps), with no polygon error, and
+is compared with :data:`router.units.TOL` as everywhere else.
+
+Obstacles are *counted*: for each net class the grid holds, per cell and step, how
+many obstacles block it. A net's own copper is subtracted again when its search space
+is made (:meth:`RoutingGrid.space_for`), so a net is free to run over its own pads.
+Copper laid by the router during negotiation is counted in separate *soft* maps
+(:meth:`RoutingGrid.add_soft` / ``remove_soft``), which the negotiation turns into costs.
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Optional
+
+import numpy as np
+import shapely
+from shapely.geometry import Polygon
+
+from .copper import pad_core
+from .geometry import (PlacedPad, body_rect, outline_polygon, part_footprint, placed_holes, placed_pads)
+from .model import Board, NetClass
+from .rules import required_clearance
+from .search import SearchSpace
+from .units import TOL
+
+__all__ = ["Box", "Obstacle", "ClassProfile", "RoutingGrid", "box_of_core", "JUMP_PITCH"]
+
+#: Jumper links come in multiples of 2.54 mm (common practice for bent-wire links on a 0.1 in raster).
+JUMP_PITCH = 2.54
+#: Longest jumper offered, in multiples of JUMP_PITCH (common practice: short links stay flat on the board).
+JUMP_MAX = 8
+
+Box = tuple[float, float, float, float]
+
+
+def box_of_core(core) -> Box:
+    """The axis-parallel box of a copper core (a point, an axis-parallel segment or a box)."""
+    x0, y0, x1, y1 = core.bounds
+    return (float(x0), float(y0), float(x1), float(y1))
+
+
+@dataclass(frozen=True)
+class Obstacle:
+    """Something copper must keep away from.
+
+    kind is "copper" (needs the pair's clearance), "npth" (edge_clearance), "keepout"
+    or "body" (not to be entered: need 0 beyond the copper's own radius).
+    """
+    kind: str
+    box: Box
+    radius: float
+    layers: tuple[int, ...]
+    net: Optional[str] = None            # owning net of copper
+    cls: Optional[str] = None            # owning net's class
+    owners: frozenset = frozenset()      # nets free to enter a body
+
+
+@dataclass(frozen=True)
+class ClassProfile:
+    """How the nets of one class route: trace half width, and clearance to each class."""
+    name: str
+    index: int
+    width: float
+    clearance_to: dict
+
+    @property
+    def half(self) -> float:
+        return self.width / 2
+
+
+def _gap(lo_a, hi_a, lo, hi):
+    """Per-element axis gap between intervals [lo_a, hi_a] (arrays) and [lo, hi]."""
+    return np.maximum(np.maximum(lo - hi_a, 0.0), lo_a - hi)
+
+
+class RoutingGrid:
+    """The board as integer cells, with hard and soft obstacle counts per net class.
+
+    Parameters
+    ----------
+    board : Board
+        A board whose parts are all placed. Its existing copper (traces, vias,
+        jumpers) is taken as obstacles for the other nets.
+    """
+
+    def __init__(self, board: Board):
+        self.board = board
+        r = board.rules
+        self.rules = r
+        self.pitch = g = float(r.grid)
+        self.layers = tuple(board.layers)
+        self.L = len(self.layers)
+        self.outline = outline_polygon(board)
+        x0, y0, x1, y1 = self.outline.bounds
+        self.i0 = int(math.ceil(x0 / g - 1e-9))
+        self.j0 = int(math.ceil(y0 / g - 1e-9))
+        self.nx = int(math.floor(x1 / g + 1e-9)) - self.i0 + 1
+        self.ny = int(math.floor(y1 / g + 1e-9)) - self.j0 + 1
+        self.xs = (self.i0 + np.arange(self.nx)) * g
+        self.ys = (self.j0 + np.arange(self.ny)) * g
+        self.one_layer = self.L == 1
+        self.via_d = r.via_diameter
+        self.via_drill = r.via_drill
+        self.jump_d = r.jumper_diameter
+        self.jump_drill = r.jumper_drill
+        # jumper lengths: whole cells nearest to each multiple of 2.54 mm, and the slack between
+        self.jump_cells = np.zeros(0, dtype=np.int64)
+        self.jump_slack = 0.0
+        if self.one_layer:
+            ks, slack = [], 0.0
+            for m in range(1, JUMP_MAX + 1):
+                k = int(round(m * JUMP_PITCH / g))
+                if k >= 2 and k not in ks:
+                    ks.append(k)
+                    slack = max(slack, abs(m * JUMP_PITCH - k * g))
+            self.jump_cells = np.array(ks, dtype=np.int64)
+            self.jump_slack = slack
+        self.pads: list[PlacedPad] = placed_pads(board)
+        net_class = {n.name: n.net_class for n in board.nets}
+        self.net_class = net_class
+        self.profiles: dict[str, ClassProfile] = {}
+        for k, (name, nc) in enumerate(board.classes.items()):
+            width = max(nc.trace_width, r.min_trace_width)
+            clear = {o: required_clearance(board, nc, oc) for o, oc in board.classes.items()}
+            self.profiles[name] = ClassProfile(name, k, width, clear)
+        self.obstacles: list[Obstacle] = []
+        self._collect()
+        shape3 = (len(self.profiles), self.L, self.ny, self.nx)
+        self.hard_cell = np.zeros(shape3, np.int32)
+        self.hard_h = np.zeros(shape3, np.int32)
+        self.hard_v = np.zeros(shape3, np.int32)
+        self.hard_via = np.zeros((len(self.profiles), self.ny, self.nx), np.int32)
+        self.soft_cell = np.zeros(shape3, np.int32)
+        self.soft_via = np.zeros((len(self.profiles), self.ny, self.nx), np.int32)
+        self.wire = np.zeros((self.ny, self.nx), np.int32)
+        self._base()
+        for ob in self.obstacles:
+            self.stamp(ob, +1)
+
+    # ----------------------------------------------------------------- coordinates
+    def x(self, i) -> float:
+        return (self.i0 + i) * self.pitch
+
+    def y(self, j) -> float:
+        return (self.j0 + j) * self.pitch
+
+    def point(self, j: int, i: int) -> tuple[float, float]:
+        g = self.pitch
+        return (round((self.i0 + i) * g, 6), round((self.j0 + j) * g, 6))
+
+    def layer_index(self, name: str) -> int:
+        return self.layers.index(name)
+
+    def profile_of(self, net: str) -> ClassProfile:
+        return self.profiles[self.net_class.get(net, "default")]
+
+    def _window(self, box: Box, grow: float):
+        """Index ranges of the grid points within `grow` of `box` (one extra step for steps)."""
+        g = self.pitch
+        bx0, by0, bx1, by1 = box
+        ia = max(0, int(math.floor((bx0 - grow) / g)) - self.i0 - 1)
+        ib = min(self.nx, int(math.ceil((bx1 + grow) / g)) - self.i0 + 2)
+        ja = max(0, int(math.floor((by0 - grow) / g)) - self.j0 - 1)
+        jb = min(self.ny, int(math.ceil((by1 + grow) / g)) - self.j0 + 2)
+        return ia, ib, ja, jb
+
+    # ----------------------------------------------------------------- obstacles
+    def _collect(self) -> None:
+        board = self.board
+        allL = tuple(range(self.L))
+        for pad in self.pads:
+            core, rad = pad_core(pad)
+            layers = tuple(self.layers.index(l) for l in pad.layers if l in self.layers)
+            self.obstacles.append(Obstacle("copper", box_of_core(core), rad, layers, pad.net,
+                                           self.net_class.get(pad.net, "default")))
+        for t in board.traces:
+            if t.layer not in self.layers:
+                continue
+            li = (self.layers.index(t.layer),)
+            pts = [tuple(map(float, p)) for p in t.points]
+            segs = [(a, b) for a, b in zip(pts, pts[1:]) if a != b] or [(pts[0], pts[0])]
+            for a, b in segs:
+                bx = (min(a[0], b[0]), min(a[1], b[1]), max(a[0], b[0]), max(a[1], b[1]))
+                self.obstacles.append(Obstacle("copper", bx, t.width / 2, li, t.net,
+                                               self.net_class.get(t.net, "default")))
+        for v in board.vias:
+            self.obstacles.append(Obstacle("copper", (v.at[0], v.at[1], v.at[0], v.at[1]), v.diameter / 2,
+                                           allL, v.net, self.net_class.get(v.net, "default")))
+        for jm in board.jumpers:
+            for at in (jm.start, jm.end):
+                self.obstacles.append(Obstacle("copper", (at[0], at[1], at[0], at[1]), jm.diameter / 2,
+                                               allL, jm.net, self.net_class.get(jm.net, "default")))
+        for h in placed_holes(board):
+            self.obstacles.append(Obstacle("npth", (h.x, h.y, h.x, h.y), h.drill / 2, allL))
+        for ko in board.keepouts:
+            if not ko.is_rect:
+                continue                        # polygons go into the base maps
+            xs = [p[0] for p in ko.polygon]
+            ys = [p[1] for p in ko.polygon]
+            layers = tuple(self.layers.index(l) for l in ko.layers_on(self.layers) if l in self.layers)
+            self.obstacles.append(Obstacle("keepout", (min(xs), min(ys), max(xs), max(ys)), 0.0, layers))
+        pad_nets: dict[str, set] = {}
+        for p in self.pads:
+            pad_nets.setdefault(p.ref, set()).add(p.net)
+        for part in board.parts:
+            if part.at is None or not part_footprint(board, part).keepout_body:
+                continue
+            self.obstacles.append(Obstacle("body", tuple(body_rect(board, part)), 0.0, allL,
+                                           owners=frozenset(pad_nets.get(part.ref, ()))))
+
+    def _need(self, ob: Obstacle, prof: ClassProfile, half: float) -> float:
+        """Centre distance copper of half-size `half` of class `prof` must keep from `ob`'s core."""
+        if ob.kind == "copper":
+            return ob.radius + half + prof.clearance_to.get(ob.cls, prof.clearance_to["default"])
+        if ob.kind == "npth":
+            return ob.radius + half + self.rules.edge_clearance
+        return ob.radius + half
+
+    def stamp(self, ob: Obstacle, sign: int, *, soft: bool = False, only: Optional[ClassProfile] = None,
+              cell=None, hmap=None, vmap=None, viamap=None) -> None:
+        """Add `sign` to every cell, step and via place that `ob` blocks, for every class (or `only`)."""
+        profs = [only] if only is not None else list(self.profiles.values())
+        for prof in profs:
+            k = prof.index
+            c = cell if cell is not None else (self.soft_cell[k] if soft else self.hard_cell[k])
+            self._stamp_maps(ob, self._need(ob, prof, prof.half), sign, c,
+                             None if soft else (hmap if hmap is not None else self.hard_h[k]),
+                             None if soft else (vmap if vmap is not None else self.hard_v[k]))
+            vm = viamap if viamap is not None else (self.soft_via[k] if soft else self.hard_via[k])
+            half = (self.jump_d / 2 + self.jump_slack) if self.one_layer else self.via_d / 2
+            need = self._need(ob, prof, half)
+            if soft and ob.kind == "copper" and ob.radius > 0 and ob.box[0] == ob.box[2] and ob.box[1] == ob.box[3]:
+                # a via or jumper end of another net: its hole keeps min_hole_spacing too
+                drill = self.jump_drill if self.one_layer else self.via_drill
+                need = max(need, drill + self.rules.min_hole_spacing)
+            self._stamp_points(ob.box, need, sign, vm)
+
+    def _stamp_points(self, box: Box, need: float, sign: int, arr2d: np.ndarray) -> None:
+        ia, ib, ja, jb = self._window(box, need)
+        if ia >= ib or ja >= jb:
+            return
+        X, Y = self.xs[ia:ib], self.ys[ja:jb]
+        dx = _gap(X, X, box[0], box[2])
+        dy = _gap(Y, Y, box[1], box[3])
+        lim = need - TOL
+        if lim <= 0:
+            return
+        m = (dy[:, None] ** 2 + dx[None, :] ** 2) < lim * lim
+        arr2d[ja:jb, ia:ib] += sign * m
+
+    def _stamp_maps(self, ob: Obstacle, need: float, sign: int, cell, hmap, vmap) -> None:
+        lim = need - TOL
+        if lim <= 0:
+            return
+        ia, ib, ja, jb = self._window(ob.box, need)
+        if ia >= ib or ja >= jb:
+            return
+        g = self.pitch
+        x0, y0, x1, y1 = ob.box
+        X, Y = self.xs[ia:ib], self.ys[ja:jb]
+        dx = _gap(X, X, x0, x1)
+        dy = _gap(Y, Y, y0, y1)
+        lim2 = lim * lim
+        mc = (dy[:, None] ** 2 + dx[None, :] ** 2) < lim2
+        mh = mv = None
+        if hmap is not None:
+            dxh = _gap(X, X + g, x0, x1)        # step (i, j) -> (i + 1, j)
+            dyv = _gap(Y, Y + g, y0, y1)        # step (i, j) -> (i, j + 1)
+            mh = (dy[:, None] ** 2 + dxh[None, :] ** 2) < lim2
+            mv = (dyv[:, None] ** 2 + dx[None, :] ** 2) < lim2
+        for l in ob.layers:
+            cell[l, ja:jb, ia:ib] += sign * mc
+            if mh is not None:
+                hmap[l, ja:jb, ia:ib] += sign * mh
+                vmap[l, ja:jb, ia:ib] += sign * mv
+
+    # ----------------------------------------------------------------- net-independent maps
+    def _base(self) -> None:
+        """Edge, polygon keepouts and hole spacing: the same for every net of a class."""
+        P, L, ny, nx = self.hard_cell.shape
+        g = self.pitch
+        X, Y = np.meshgrid(self.xs, self.ys)
+        pts = shapely.points(X.ravel(), Y.ravel())
+        outline = self.outline
+        shapely.prepare(outline)
+        inside = shapely.contains_xy(outline, X.ravel(), Y.ravel()) | shapely.intersects_xy(outline, X.ravel(), Y.ravel())
+        dist = shapely.distance(outline.exterior, pts)
+        ec = self.rules.edge_clearance
+        self.base_cell = np.zeros((P, L, ny, nx), bool)
+        self.base_h = np.zeros((P, L, ny, nx), bool)
+        self.base_v = np.zeros((P, L, ny, nx), bool)
+        for prof in self.profiles.values():
+            k = prof.index
+            need = ec + prof.half
+            ok = (inside & (dist >= need - TOL)).reshape(ny, nx)
+            h = np.zeros((ny, nx), bool)
+            v = np.zeros((ny, nx), bool)
+            h[:, :-1] = ok[:, :-1] & ok[:, 1:]
+            v[:-1, :] = ok[:-1, :] & ok[1:, :]
+            # a step between two good points can still pass a concave corner: measure the steps near the edge
+            near = (dist < need + g).reshape(ny, nx)
+            self._refine_steps(h, v, near, outline.exterior, need, inside_poly=outline)
+            self.base_cell[k, :] = ok
+            self.base_h[k, :] = h
+            self.base_v[k, :] = v
+        # polygon keepouts: copper may touch, not enter
+        for ko in self.board.keepouts:
+            if ko.is_rect:
+                continue
+            poly = Polygon(ko.polygon)
+            layers = [self.layers.index(l) for l in ko.layers_on(self.layers) if l in self.layers]
+            for prof in self.profiles.values():
+                k = prof.index
+                bad_c, bad_h, bad_v = self._poly_block(poly, prof.half)
+                for l in layers:
+                    self.base_cell[k, l] &= ~bad_c
+                    self.base_h[k, l] &= ~bad_h
+                    self.base_v[k, l] &= ~bad_v
+        # vias (two layers) or jumper ends (one layer): edge, every keepout, hole spacing, no pad overlap
+        if self.one_layer:
+            half, drill = self.jump_d / 2 + self.jump_slack, self.jump_drill
+        else:
+            half, drill = self.via_d / 2, self.via_drill
+        okv = (inside & (dist >= ec + half - TOL)).reshape(ny, nx)
+        for ko in self.board.keepouts:
+            bad, _, _ = self._poly_block(Polygon(ko.polygon), half)
+            okv &= ~bad
+        blockv = np.zeros((ny, nx), np.int32)
+        spacing = self.rules.min_hole_spacing
+        for pad in self.pads:
+            core, rad = pad_core(pad)
+            self._stamp_points(box_of_core(core), rad + half, 1, blockv)
+            if pad.drill is not None:
+                self._stamp_points((pad.x, pad.y, pad.x, pad.y), pad.drill / 2 + drill / 2 + spacing, 1, blockv)
+        for h in placed_holes(self.board):
+            self._stamp_points((h.x, h.y, h.x, h.y), h.drill / 2 + drill / 2 + spacing, 1, blockv)
+        for v in self.board.vias:
+            self._stamp_points((v.at[0], v.at[1]) * 2, v.drill / 2 + drill / 2 + spacing, 1, blockv)
+        for jm in self.board.jumpers:
+            for at in (jm.start, jm.end):
+                self._stamp_points((at[0], at[1]) * 2, jm.drill / 2 + drill / 2 + spacing, 1, blockv)
+        if self.one_layer:
+            # a jumper's wire lies on the part side: not across a part body, nor another wire
+            for part in self.board.parts:
+                if part.at is None:
+                    continue
+                bx = body_rect(self.board, part)
+                self._stamp_points(tuple(bx), half, 1, blockv)
+                self._stamp_points(tuple(bx), TOL * 2, 1, self.wire)
+            for jm in self.board.jumpers:
+                self.add_wire(jm.start, jm.end, +1)
+        self.base_via = okv & (blockv == 0)
+
+    def _refine_steps(self, h, v, near, boundary, need, inside_poly) -> None:
+        g = self.pitch
+        for arr, di, dj in ((h, 1, 0), (v, 0, 1)):
+            jj, ii = np.nonzero(arr & near)
+            if len(jj) == 0:
+                continue
+            xa, ya = self.xs[ii], self.ys[jj]
+            lines = shapely.linestrings(np.stack([np.stack([xa, ya], 1), np.stack([xa + di * g, ya + dj * g], 1)], 1))
+            d = shapely.distance(boundary, lines)
+            good = (d >= need - TOL) & shapely.covers(inside_poly, lines)
+            arr[jj[~good], ii[~good]] = False
+
+    def _poly_block(self, poly: Polygon, half: float):
+        """Cells and steps whose copper of half-size `half` would enter polygon `poly`'s inside."""
+        ny, nx = self.ny, self.nx
+        g = self.pitch
+        bad_c = np.zeros((ny, nx), bool)
+        bad_h = np.zeros((ny, nx), bool)
+        bad_v = np.zeros((ny, nx), bool)
+        ia, ib, ja, jb = self._window(tuple(poly.bounds), half + g)
+        if ia >= ib or ja >= jb:
+            return bad_c, bad_h, bad_v
+        shapely.prepare(poly)
+        X, Y = np.meshgrid(self.xs[ia:ib], self.ys[ja:jb])
+        pts = shapely.points(X.ravel(), Y.ravel())
+        inner = poly.buffer(-TOL, join_style="mitre")
+        d = shapely.distance(poly, pts)
+        strictly_in = shapely.intersects(inner, pts) if not inner.is_empty else np.zeros(len(pts), bool)
+        c = strictly_in | ((d < half - TOL) if half > 0 else False)
+        bad_c[ja:jb, ia:ib] = np.asarray(c).reshape(X.shape)
+        for arr, di, dj in ((bad_h, 1, 0), (bad_v, 0, 1)):
+            xa, ya = X.ravel(), Y.ravel()
+            lines = shapely.linestrings(np.stack([np.stack([xa, ya], 1), np.stack([xa + di * g, ya + dj * g], 1)], 1))
+            dl = shapely.distance(poly, lines)
+            hit = (shapely.intersects(inner, lines) if not inner.is_empty else np.zeros(len(xa), bool))
+            hit = hit | ((dl < half - TOL) if half > 0 else False)
+            arr[ja:jb, ia:ib] = np.asarray(hit).reshape(X.shape)
+        return bad_c, bad_h, bad_v
+
+    # ----------------------------------------------------------------- wires (one layer)
+    def wire_cells(self, a, b):
+        """Index slices of the cells a jumper wire from `a` to `b` passes (both ends included)."""
+        g = self.pitch
+        ia = int(math.floor(min(a[0], b[0]) / g + 1e-9)) - self.i0
+        ib = int(math.ceil(max(a[0], b[0]) / g - 1e-9)) - self.i0
+        ja = int(math.floor(min(a[1], b[1]) / g + 1e-9)) - self.j0
+        jb = int(math.ceil(max(a[1], b[1]) / g - 1e-9)) - self.j0
+        return slice(max(ja, 0), min(jb + 1, self.ny)), slice(max(ia, 0), min(ib + 1, self.nx))
+
+    def add_wire(self, a, b, sign: int) -> None:
+        sj, si = self.wire_cells(a, b)
+        self.wire[sj, si] += sign
+
+    # ----------------------------------------------------------------- soft copper (negotiation)
+    def soft_items(self, net: str, segments, vias, jumpers) -> list[Obstacle]:
+        """Obstacles for a routed net's copper: segments ((x0, y0), (x1, y1), layer index, width), via and jumper ends."""
+        cls = self.net_class.get(net, "default")
+        out = []
+        for a, b, l, w in segments:
+            bx = (min(a[0], b[0]), min(a[1], b[1]), max(a[0], b[0]), max(a[1], b[1]))
+            out.append(Obstacle("copper", bx, w / 2, (l,), net, cls))
+        allL = tuple(range(self.L))
+        for at in vias:
+            out.append(Obstacle("copper", (at[0], at[1], at[0], at[1]), self.via_d / 2, allL, net, cls))
+        for a, b in jumpers:
+            for at in (a, b):
+                out.append(Obstacle("copper", (at[0], at[1], at[0], at[1]), self.jump_d / 2, allL, net, cls))
+        return out
+
+    def add_soft(self, items, sign: int = +1) -> None:
+        for ob in items:
+            self.stamp(ob, sign, soft=True)
+
+    # ----------------------------------------------------------------- one net's search space
+    def own_obstacles(self, net: str) -> list[Obstacle]:
+        return [ob for ob in self.obstacles if (ob.kind == "copper" and ob.net == net)
+                or (ob.kind == "body" and net in ob.owners)]
+
+    def space_for(self, net: str, extra: Optional[np.ndarray] = None, *, soft_block: bool = True,
+                  own: Optional[list[Obstacle]] = None) -> SearchSpace:
+        """The search space of `net`: hard obstacles of every other net, its own subtracted.
+
+        Parameters
+        ----------
+        extra : int32 array [L, ny, nx], optional
+            Cost of entering each cell (negotiation terms).
+        soft_block : bool
+            Vias (jumper ends) may not stand where other nets' routed copper would be too close.
+        """
+        prof = self.profile_of(net)
+        k = prof.index
+        cell = self.hard_cell[k].copy()
+        hm = self.hard_h[k].copy()
+        vm = self.hard_v[k].copy()
+        via = self.hard_via[k].copy()
+        for ob in (own if own is not None else self.own_obstacles(net)):
+            self.stamp(ob, -1, only=prof, cell=cell, hmap=hm, vmap=vm, viamap=via)
+        open_cell = (cell == 0) & self.base_cell[k]
+        open_h = (hm == 0) & self.base_h[k]
+        open_v = (vm == 0) & self.base_v[k]
+        via_ok = (via == 0) & self.base_via
+        if soft_block:
+            via_ok &= self.soft_via[k] == 0
+        L = self.L
+        if extra is None:
+            extra = np.zeros((L, self.ny, self.nx), np.int32)
+        if self.one_layer:
+            return SearchSpace(open_cell.astype(np.uint8), open_h.astype(np.uint8), open_v.astype(np.uint8),
+                               np.zeros((self.ny, self.nx), np.uint8), extra,
+                               jump_ok=via_ok.astype(np.uint8), wire_block=(self.wire > 0).astype(np.uint8),
+                               jump_cells=self.jump_cells)
+        return SearchSpace(open_cell.astype(np.uint8), open_h.astype(np.uint8), open_v.astype(np.uint8),
+                           via_ok.astype(np.uint8), extra)
+
+    # ----------------------------------------------------------------- exact tests for off-grid pieces
+    def segment_clear(self, net: str, a, b, layer: int, width: float) -> bool:
+        """True when a trace segment a-b of `net` keeps every required distance (hard and edge)."""
+        prof = self.profile_of(net)
+        half = width / 2
+        bx = (min(a[0], b[0]), min(a[1], b[1]), max(a[0], b[0]), max(a[1], b[1]))
+        for ob in self.obstacles:
+            if layer not in ob.layers:
+                continue
+            if ob.kind == "copper" and ob.net == net:
+                continue
+            if ob.kind == "body" and net in ob.owners:
+                continue
+            need = self._need(ob, prof, half)
+            gx = max(ob.box[0] - bx[2], 0.0, bx[0] - ob.box[2])
+            gy = max(ob.box[1] - bx[3], 0.0, bx[1] - ob.box[3])
+            if math.hypot(gx, gy) < need - TOL:
+                return False
+        line = shapely.linestrings([a, b]) if a != b else shapely.points(a)
+        if not shapely.covers(self.outline, line):
+            return False
+        if shapely.distance(self.outline.exterior, line) < self.rules.edge_clearance + half - TOL:
+            return False
+        for ko in self.board.keepouts:
+            if layer not in [self.layers.index(l) for l in ko.layers_on(self.layers) if l in self.layers]:
+                continue
+            poly = Polygon(ko.polygon)
+            inner = poly.buffer(-TOL, join_style="mitre")
+            if (not inner.is_empty and inner.intersects(line)) or (half > 0 and poly.distance(line) < half - TOL):
+                return False
+        return True

@@ -1,0 +1,383 @@
+"""Route every net of a board: negotiated congestion over the grid (PathFinder).
+
+Each net is routed on its own search space (:meth:`RoutingGrid.space_for`), where
+the hard obstacles (pads, holes, keepouts, the edge, copper already in the file)
+are walls and the copper the router has laid for the other nets is *soft*: a
+cell that other nets' copper would be too close to costs
+
+    extra = present x (how many other nets claim it) + history
+
+Every pass rips up and reroutes each net that shares a cell with another net; the
+present factor grows each pass and the history of a shared cell grows each time it
+is shared, so nets negotiate: the ones with other choices move away, the ones
+without keep the cell. When no cell is shared the routing is legal. If sharing
+remains after the pass limit, the nets that share most are taken out and routed
+once more with every other net's copper as a wall; what still fails stays
+unrouted with its reason.
+
+Finally the written board is checked with the exact geometry of
+:mod:`router.check` (independently of the grid); a net whose new copper breaks a
+rule there is taken out again and reported, so the router never writes a
+violation of its own.
+
+References
+----------
+.. [1] L. McMurchie, C. Ebeling, "PathFinder: a negotiation-based performance-driven
+   router for FPGAs", Proc. FPGA, 1995.
+"""
+from __future__ import annotations
+
+import math
+import time
+from collections import defaultdict
+from dataclasses import dataclass, field
+from typing import Optional
+
+import numpy as np
+
+from .connectivity import components
+from .copper import copper_items, pad_core
+from .grid import RoutingGrid, box_of_core
+from .model import Board, Jumper, Trace, Via
+from .nets import NetRoute, route_net
+from .search import STEP
+from .tidy import polylines, trim_dangling
+from .units import TOL
+
+__all__ = ["RouteResult", "route_board", "DEFAULT_BEND", "DEFAULT_VIA", "DEFAULT_JUMP", "DEFAULT_PASSES"]
+
+#: Default penalties, in mm of trace: a bend costs 1 mm, a via 2 mm, a jumper 5 mm (our choice).
+DEFAULT_BEND = 1.0
+DEFAULT_VIA = 2.0
+DEFAULT_JUMP = 5.0
+DEFAULT_PASSES = 16
+
+
+@dataclass
+class RouteResult:
+    """What :func:`route_board` returns; unpacks as ``(board, figures)``."""
+    board: Board
+    figures: dict
+    failed: dict = field(default_factory=dict)     # net -> one-line reason
+    seconds: float = 0.0
+    passes: int = 0
+    shared_left: int = 0
+
+    def __iter__(self):
+        yield self.board
+        yield self.figures
+
+
+def _figures(board: Board) -> dict:
+    try:
+        from .figures import board_figures
+    except ImportError:           # a version without figures: the counts the contract names, no bounds
+        from .connectivity import routed
+        r = routed(board)
+        nets = [{"name": n.name, "routed": r[n.name]} for n in board.nets]
+        return {"nets": nets, "totals": {"nets": len(nets), "routed": sum(r.values()), "bends": 0,
+                                         "length": 0.0, "vias": len(board.vias), "jumpers": len(board.jumpers),
+                                         "bends_lower_bound": 0, "length_lower_bound": 0.0}}
+    return board_figures(board)
+
+
+def _cost(mm: float, pitch: float) -> int:
+    return max(0, int(round(STEP * mm / pitch)))
+
+
+class _Negotiation:
+    def __init__(self, board: Board, grid: RoutingGrid, nets: list[str], groups: dict, bend: int, via: int,
+                 jump: int):
+        self.board, self.grid, self.nets, self.groups = board, grid, nets, groups
+        self.bend, self.via, self.jump = bend, via, jump
+        self.routes: dict[str, NetRoute] = {}
+        self.soft: dict[str, list] = {}
+        self.own = {n: grid.own_obstacles(n) for n in nets}
+        self.hist = np.zeros((grid.L, grid.ny, grid.nx), np.int64)
+        self.present = 0.5
+
+    def width(self, net: str) -> float:
+        return self.grid.profile_of(net).width
+
+    def merged_segments(self, r: NetRoute):
+        grid = self.grid
+        per_layer = defaultdict(list)
+        for (l, j, i), (_, j2, i2) in r.edges:
+            per_layer[l].append((grid.point(j, i), grid.point(j2, i2)))
+        out = []
+        for l in sorted(per_layer):
+            for line in polylines(per_layer[l]):
+                out.extend((a, b, l, self.width(r.net)) for a, b in zip(line, line[1:]))
+        for a, b, l in r.stubs:
+            out.append((a, b, l, self.width(r.net)))
+        return out
+
+    def lay(self, net: str, r: NetRoute) -> None:
+        grid = self.grid
+        items = grid.soft_items(net, self.merged_segments(r), r.via_points(grid), r.jumpers)
+        grid.add_soft(items, +1)
+        self.routes[net] = r
+        self.soft[net] = items
+
+    def rip(self, net: str) -> None:
+        r = self.routes.pop(net, None)
+        if r is None:
+            return
+        self.grid.add_soft(self.soft.pop(net), -1)
+        for a, b in r.jumpers:
+            self.grid.add_wire(a, b, -1)
+
+    def route(self, net: str, strict: bool = False) -> NetRoute:
+        grid = self.grid
+        k = grid.profile_of(net).index
+        if strict:
+            extra = np.zeros((grid.L, grid.ny, grid.nx), np.int32)
+        else:
+            e = self.present * STEP * grid.soft_cell[k].astype(np.float64) + self.hist
+            extra = np.minimum(e, 2**24).astype(np.int32)
+        space = grid.space_for(net, extra, soft_block=strict, own=self.own[net])
+        if strict:
+            blocked = grid.soft_cell[k] > 0
+            space.open_cell = np.ascontiguousarray(space.open_cell & ~blocked).astype(np.uint8)
+        return route_net(grid, net, space, self.groups[net], bend=self.bend, via=self.via, jump=self.jump)
+
+    def conflicts(self) -> tuple[dict, list]:
+        """Nets sharing cells with other nets: net -> number of shared cells, and the cells."""
+        grid = self.grid
+        shared: dict[str, int] = {}
+        cells_all = []
+        for net in sorted(self.routes):
+            r = self.routes[net]
+            if not r.cells and not r.vias:
+                continue
+            k = grid.profile_of(net).index
+            grid.add_soft(self.soft[net], -1)
+            n = 0
+            if r.cells:
+                c = np.array(sorted(r.cells), dtype=np.int64)
+                hit = grid.soft_cell[k][c[:, 0], c[:, 1], c[:, 2]] > 0
+                n += int(hit.sum())
+                cells_all.append(c[hit])
+            for j, i in r.vias:
+                if grid.soft_via[k][j, i] > 0:
+                    n += 1
+                    cells_all.append(np.array([[l, j, i] for l in range(grid.L)], dtype=np.int64))
+            for a, b in r.jumpers:
+                for at in (a, b):
+                    j = int(round(at[1] / grid.pitch)) - grid.j0
+                    i = int(round(at[0] / grid.pitch)) - grid.i0
+                    if 0 <= j < grid.ny and 0 <= i < grid.nx and grid.soft_via[k][j, i] > 0:
+                        n += 1
+                        cells_all.append(np.array([[0, j, i]], dtype=np.int64))
+            grid.add_soft(self.soft[net], +1)
+            if n:
+                shared[net] = n
+        return shared, cells_all
+
+
+def _pad_groups(board: Board, grid: RoutingGrid):
+    items = copper_items(board)
+    labels = components(board, items)
+    by_net: dict[str, dict[int, list]] = defaultdict(dict)
+    for k, pad in enumerate(grid.pads):
+        by_net[pad.net].setdefault(labels[k], []).append(pad)
+    return {net: [g for _, g in sorted(d.items(), key=lambda kv: min(p.index for p in kv[1]) + 0 * kv[0])]
+            for net, d in by_net.items()}
+
+
+def _hpwl(pads) -> float:
+    xs = [p.x for p in pads]
+    ys = [p.y for p in pads]
+    return (max(xs) - min(xs)) + (max(ys) - min(ys))
+
+
+def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty: Optional[float] = None,
+                seed: int = 0, reroute: bool = False, progress: bool = False, passes: Optional[int] = None,
+                jumper_penalty: Optional[float] = None) -> RouteResult:
+    """Route every net of `board` not yet routed; the input board is not changed.
+
+    Parameters
+    ----------
+    board : Board
+    bend_penalty, via_penalty, jumper_penalty : float, optional
+        Costs in mm of trace (defaults :data:`DEFAULT_BEND`, :data:`DEFAULT_VIA`,
+        :data:`DEFAULT_JUMP`; on a one-layer board ``via_penalty`` prices jumpers when
+        ``jumper_penalty`` is not given).
+    seed : int
+        Breaks ties in the net order (nets go shortest first); the same seed gives the same board.
+    reroute : bool
+        Remove every trace that is not ``fixed``, and every via and jumper, first.
+    progress : bool
+        Show a progress bar (passes and nets) on stderr.
+    passes : int, optional
+        Most negotiation passes (default :data:`DEFAULT_PASSES`).
+
+    Returns
+    -------
+    RouteResult
+        The routed board, its figures (:func:`router.figures.board_figures`), the nets
+        that failed with a one-line reason each, and the seconds taken.
+    """
+    t0 = time.perf_counter()
+    b = board.copy()
+    if reroute:
+        b.traces = [t for t in b.traces if t.fixed]
+        b.vias = []
+        b.jumpers = []
+    grid_pitch = b.rules.grid
+    bend = _cost(DEFAULT_BEND if bend_penalty is None else bend_penalty, grid_pitch)
+    via = _cost(DEFAULT_VIA if via_penalty is None else via_penalty, grid_pitch)
+    if jumper_penalty is not None:
+        jump = _cost(jumper_penalty, grid_pitch)
+    elif via_penalty is not None:
+        jump = via
+    else:
+        jump = _cost(DEFAULT_JUMP, grid_pitch)
+    passes = DEFAULT_PASSES if passes is None else max(1, int(passes))
+    failed: dict[str, str] = {}
+    unplaced = {p.ref for p in b.parts if p.at is None}
+    todo_names = []
+    for n in b.nets:
+        missing = sorted({pin.split(".", 1)[0] for pin in n.pins if pin.split(".", 1)[0] in unplaced})
+        if missing:
+            failed[n.name] = f"part {missing[0]} has no place yet (run `elbowroom place` first)"
+        else:
+            todo_names.append(n.name)
+    grid = RoutingGrid(b)
+    groups = _pad_groups(b, grid)
+    nets = [n for n in todo_names if len(groups.get(n, [])) > 1]
+    rng = np.random.default_rng(seed)
+    ties = rng.random(len(nets))
+    order = [n for _, _, n in sorted(zip([_hpwl([p for g in groups[n] for p in g]) for n in nets], ties, nets))]
+    neg = _Negotiation(b, grid, order, groups, bend, via, jump)
+    bar = None
+    if progress:
+        from tqdm import tqdm
+        bar = tqdm(total=len(order), unit="net", desc="pass 1", leave=False)
+    todo = list(order)
+    shared: dict = {}
+    npass = 0
+    for npass in range(1, passes + 1):
+        if bar is not None:
+            bar.reset(total=len(todo))
+            bar.set_description(f"pass {npass}")
+        for net in todo:
+            neg.rip(net)
+            r = neg.route(net)
+            neg.lay(net, r)
+            if bar is not None:
+                bar.update(1)
+        shared, cells = neg.conflicts()
+        still_failed = [n for n in order if neg.routes[n].failed]
+        if not shared and not still_failed:
+            break
+        if npass == passes:
+            break
+        for c in cells:
+            if len(c):
+                neg.hist[c[:, 0], c[:, 1], c[:, 2]] += STEP
+        neg.present *= 1.8
+        todo = [n for n in order if n in shared or neg.routes[n].failed]
+    if bar is not None:
+        bar.close()
+    shared_left = len(shared)
+    # take out the nets that share most until nothing is shared, then route them with walls
+    out = []
+    while shared:
+        worst = max(sorted(shared), key=lambda n: shared[n])
+        neg.rip(worst)
+        out.append(worst)
+        shared, _ = neg.conflicts()
+    for net in order:
+        if net in neg.routes and neg.routes[net].failed:
+            out.append(net)
+            neg.rip(net)
+    for net in [n for n in order if n in set(out)]:
+        r = neg.route(net, strict=True)
+        if r.failed:
+            failed[net] = r.failed
+        else:
+            neg.lay(net, r)
+    _write(b, grid, neg, order)
+    _settle(b, board, failed, order)
+    result = RouteResult(b, _figures(b), {n: failed[n] for n in [m.name for m in b.nets] if n in failed},
+                         time.perf_counter() - t0, npass, shared_left)
+    return result
+
+
+def _anchor_test(grid: RoutingGrid, net: str, r: NetRoute):
+    pads = [p for p in grid.pads if p.net == net]
+    cores = [(box_of_core(c), rad) for c, rad in (pad_core(p) for p in pads)]
+    points = {(round(x, 6), round(y, 6)) for x, y in r.via_points(grid)}
+    for a, b in r.jumpers:
+        points.add((round(a[0], 6), round(a[1], 6)))
+        points.add((round(b[0], 6), round(b[1], 6)))
+
+    def anchored(p) -> bool:
+        if p in points:
+            return True
+        for (x0, y0, x1, y1), rad in cores:
+            gx = max(x0 - p[0], 0.0, p[0] - x1)
+            gy = max(y0 - p[1], 0.0, p[1] - y1)
+            if math.hypot(gx, gy) <= rad + TOL:
+                return True
+        return False
+    return anchored
+
+
+def _write(b: Board, grid: RoutingGrid, neg: _Negotiation, order: list[str]) -> None:
+    """Write each routed net's copper into the board: polylines, vias, jumpers."""
+    for net in order:
+        r = neg.routes.get(net)
+        if r is None or r.failed:
+            continue
+        width = neg.width(net)
+        per_layer = defaultdict(list)          # unit steps, so that a T junction is a shared point
+        for a, b2, l, _ in r.segments(grid, width):
+            per_layer[l].append((a, b2))
+        anchored = _anchor_test(grid, net, r)
+        for l in sorted(per_layer):
+            segs = trim_dangling(per_layer[l], anchored)
+            for pts in polylines(segs):
+                b.traces.append(Trace(net, grid.layers[l], width, [[x, y] for x, y in pts]))
+        for at in r.via_points(grid):
+            b.vias.append(Via(net, (at[0], at[1]), grid.via_drill, grid.via_d))
+        for a, e in r.jumpers:
+            b.jumpers.append(Jumper(net, a, e, grid.jump_drill, grid.jump_d))
+
+
+_GEOMETRY_RULES = {"clearance", "short", "edge", "keepout", "hole_spacing"}
+
+
+def _settle(b: Board, original: Board, failed: dict, order: list[str]) -> None:
+    """Check the written board exactly; take out new copper of any net that breaks a rule."""
+    from .check import check
+    before_t, before_v, before_j = len(original.traces), len(original.vias), len(original.jumpers)
+    if len(b.traces) < before_t:          # rerouted: nothing of the file's own is new here
+        before_t = sum(1 for t in b.traces if t.fixed)
+        before_v = before_j = 0
+    new_nets = set(order)
+    for _ in range(len(order) + 1):
+        bad: dict[str, tuple] = {}
+        for v in check(b):
+            if v.rule not in _GEOMETRY_RULES:
+                continue
+            for n in v.nets:
+                if n in new_nets and n not in failed and _has_new(b, n, before_t, before_v, before_j):
+                    bad.setdefault(n, (v.rule, v.at))
+                    break
+        if not bad:
+            return
+        # take out the last-routed offender first; others may be clean without it
+        net = max(bad, key=lambda n: order.index(n))
+        rule, at = bad[net]
+        where = f" near ({at[0]:.2f}, {at[1]:.2f})" if at else ""
+        failed[net] = f"its route broke the {rule} rule{where} on the exact check; left unrouted"
+        b.traces = b.traces[:before_t] + [t for t in b.traces[before_t:] if t.net != net]
+        b.vias = b.vias[:before_v] + [v for v in b.vias[before_v:] if v.net != net]
+        b.jumpers = b.jumpers[:before_j] + [j for j in b.jumpers[before_j:] if j.net != net]
+
+
+def _has_new(b: Board, net: str, t0: int, v0: int, j0: int) -> bool:
+    return (any(t.net == net for t in b.traces[t0:]) or any(v.net == net for v in b.vias[v0:])
+            or any(j.net == net for j in b.jumpers[j0:]))

@@ -1,0 +1,261 @@
+"""One net: its pins' access to the grid, and its rectilinear Steiner tree grown by A*.
+
+A net's pads are grouped by the copper that already joins them (a group is one
+*terminal*). Each terminal reaches the grid through its *access cells*: grid points
+on the pad's layers that lie inside the pad's copper (a trace ending there touches
+the pad), or, where none is open, grid points a short straight *stub* away (the stub
+leaves the pad along x or y and is checked exactly against every obstacle).
+
+The tree grows from the copper it already has, nearest pin next: each search starts
+from every cell of the tree so far and ends at the first cell of any terminal not yet
+joined, so the cheapest join (length, bends, vias, congestion) decides which pin comes
+next. This is the sequential Steiner-tree heuristic of grid routers; joining the tree
+anywhere along its traces makes the shared trunks that a chain of pin-to-pin routes
+cannot.
+
+References
+----------
+.. [1] C. Y. Lee, "An algorithm for path connections and its applications", 1961.
+.. [2] P. E. Hart, N. J. Nilsson, B. Raphael, "A formal basis for the heuristic
+   determination of minimum cost paths", 1968.
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Optional
+
+import numpy as np
+
+from .copper import pad_core
+from .grid import JUMP_PITCH, RoutingGrid, box_of_core
+from .search import SearchSpace, find_path
+from .units import TOL
+
+__all__ = ["Terminal", "NetRoute", "terminals", "route_net"]
+
+
+@dataclass
+class Terminal:
+    """Pads of one net already joined to each other, and their access to the grid."""
+    pads: list                                   # PlacedPad
+    cells: dict = field(default_factory=dict)    # (l, j, i) -> stub segment ((x, y), (x, y)) or None
+
+    @property
+    def name(self) -> str:
+        return self.pads[0].name
+
+
+@dataclass
+class NetRoute:
+    """The copper one net's search laid: unit grid edges, stubs, vias and jumpers."""
+    net: str
+    edges: set = field(default_factory=set)      # ((l, j, i), (l, j, i)) with the smaller cell first
+    stubs: list = field(default_factory=list)    # ((x, y), (x, y), layer index)
+    vias: list = field(default_factory=list)     # (j, i)
+    jumpers: list = field(default_factory=list)  # ((x, y), (x, y))
+    cells: set = field(default_factory=set)      # every (l, j, i) its copper uses
+    failed: Optional[str] = None
+
+    def segments(self, grid: RoutingGrid, width: float):
+        for (l, j, i), (_, j2, i2) in sorted(self.edges):
+            yield grid.point(j, i), grid.point(j2, i2), l, width
+        for a, b, l in self.stubs:
+            yield a, b, l, width
+
+    def via_points(self, grid: RoutingGrid):
+        return [grid.point(j, i) for j, i in self.vias]
+
+
+def _access(grid: RoutingGrid, space: SearchSpace, net: str, pad) -> dict:
+    """Access cells of one pad: inside its copper, or one straight stub away."""
+    core, rad = pad_core(pad)
+    bx = box_of_core(core)
+    g = grid.pitch
+    out: dict = {}
+    layers = [grid.layer_index(l) for l in pad.layers if l in grid.layers]
+    reach = rad + 2 * g
+    ia, ib, ja, jb = grid._window(bx, reach)
+    X, Y = grid.xs[ia:ib], grid.ys[ja:jb]
+    gx = np.maximum(np.maximum(bx[0] - X, 0.0), X - bx[2])
+    gy = np.maximum(np.maximum(bx[1] - Y, 0.0), Y - bx[3])
+    d2 = gy[:, None] ** 2 + gx[None, :] ** 2
+    inside = d2 <= (rad + TOL) ** 2
+    for l in layers:
+        oc = space.open_cell[l, ja:jb, ia:ib].astype(bool)
+        jj, ii = np.nonzero(inside & oc)
+        for j, i in zip(jj, ii):
+            out[(l, int(j + ja), int(i + ia))] = None
+    if out:
+        return out
+    # stubs: a straight run from a point inside the pad to a grid point
+    width = grid.profile_of(net).width
+    cands = []
+    for l in layers:
+        oc = space.open_cell[l, ja:jb, ia:ib].astype(bool)
+        for j, i in zip(*np.nonzero(oc & ~inside)):
+            x, y = float(X[i]), float(Y[j])
+            stub = None
+            if gx[i] <= rad - TOL or (rad == 0 and gx[i] == 0):
+                q = (x, min(max(y, bx[1]), bx[3]))
+                stub = (q, (x, y))
+            elif gy[j] <= rad - TOL or (rad == 0 and gy[j] == 0):
+                q = (min(max(x, bx[0]), bx[2]), y)
+                stub = (q, (x, y))
+            if stub is None:
+                continue
+            length = abs(stub[0][0] - stub[1][0]) + abs(stub[0][1] - stub[1][1])
+            cands.append((length, l, int(j + ja), int(i + ia), stub))
+    cands.sort(key=lambda c: (c[0], c[1], c[2], c[3]))
+    for length, l, j, i, stub in cands[:24]:
+        a = (round(stub[0][0], 6), round(stub[0][1], 6))
+        b = (round(stub[1][0], 6), round(stub[1][1], 6))
+        if grid.segment_clear(net, a, b, l, width):
+            out[(l, j, i)] = (a, b)
+            if len(out) >= 6:
+                break
+    return out
+
+
+def terminals(grid: RoutingGrid, space: SearchSpace, net: str, pad_groups: list[list]) -> list[Terminal]:
+    """The terminals of `net`: groups of already-joined pads with their access cells."""
+    out = []
+    for pads in pad_groups:
+        t = Terminal(list(pads))
+        for p in pads:
+            for c, stub in _access(grid, space, net, p).items():
+                if c not in t.cells or (t.cells[c] is not None and stub is None):
+                    t.cells[c] = stub
+        out.append(t)
+    return out
+
+
+def _block_hole(grid: RoutingGrid, space: SearchSpace, at, drill: float) -> None:
+    """No other via or jumper end of this net within hole spacing of a new hole at `at`."""
+    own = grid.jump_drill if grid.one_layer else grid.via_drill
+    need = drill / 2 + own / 2 + grid.rules.min_hole_spacing
+    arr = np.zeros((grid.ny, grid.nx), np.int32)
+    grid._stamp_points((at[0], at[1], at[0], at[1]), need, 1, arr)
+    if grid.one_layer:
+        space.jump_ok = (space.jump_ok.astype(bool) & (arr == 0)).astype(np.uint8)
+    else:
+        space.via_ok = np.ascontiguousarray((space.via_ok.astype(bool) & (arr == 0)).astype(np.uint8))
+
+
+def _lay_path(grid: RoutingGrid, space: SearchSpace, route: NetRoute, cells: np.ndarray) -> list:
+    """Turn a found path into edges, vias and jumpers; returns the new tree cells."""
+    new = []
+    g = grid.pitch
+    k_to_m = {}
+    for m in range(1, 64):
+        k_to_m.setdefault(int(round(m * JUMP_PITCH / g)), m)
+    for k in range(len(cells)):
+        c = tuple(int(v) for v in cells[k])
+        new.append(c)
+        route.cells.add(c)
+        if k == 0:
+            continue
+        p = tuple(int(v) for v in cells[k - 1])
+        if p[0] != c[0]:
+            route.vias.append((c[1], c[2]))
+            route.cells.add(p)
+            _block_hole(grid, space, grid.point(c[1], c[2]), grid.via_drill)
+            continue
+        dist = abs(p[1] - c[1]) + abs(p[2] - c[2])
+        if dist == 1:
+            route.edges.add((min(p, c), max(p, c)))
+            continue
+        # a jumper: exactly m * 2.54 mm from the start; a stub joins its far end to the grid point
+        kcells = dist
+        m = k_to_m[kcells]
+        a = grid.point(p[1], p[2])
+        b = grid.point(c[1], c[2])
+        ux = (c[2] - p[2]) / kcells
+        uy = (c[1] - p[1]) / kcells
+        end = (round(a[0] + ux * m * JUMP_PITCH, 6), round(a[1] + uy * m * JUMP_PITCH, 6))
+        route.jumpers.append((a, end))
+        if end != b:
+            route.stubs.append((b, end, c[0]))
+        grid.add_wire(a, end, +1)
+        if space.wire_block is not None:
+            sj, si = grid.wire_cells(a, end)
+            space.wire_block[sj, si] = 1
+            space._wire_rows = space._wire_cols = None
+        _block_hole(grid, space, a, grid.jump_drill)
+        _block_hole(grid, space, end, grid.jump_drill)
+    return new
+
+
+def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[list], *,
+              bend: int, via: int, jump: int) -> NetRoute:
+    """Grow the rectilinear Steiner tree of one net.
+
+    Parameters
+    ----------
+    grid : RoutingGrid
+    net : str
+    space : SearchSpace
+        The net's search space (:meth:`RoutingGrid.space_for`), with its congestion costs.
+    pad_groups : list of lists of PlacedPad
+        The net's pads, grouped by the copper that already joins them.
+    bend, via, jump : int
+        Penalties in search units (:data:`router.search.STEP` per grid step).
+
+    Returns
+    -------
+    NetRoute
+        Its copper; ``failed`` names the reason when some pins could not be joined
+        (the copper of the pins that were joined is kept in the route).
+    """
+    route = NetRoute(net)
+    terms = terminals(grid, space, net, pad_groups)
+    if len(terms) <= 1:
+        return route
+    blind = [t for t in terms if not t.cells]
+    if blind:
+        route.failed = (f"pad {blind[0].name} has no open grid point within reach "
+                        f"(too close to other copper or the edge for a {grid.profile_of(net).width:g} mm trace)")
+        return route
+    # start from the terminal nearest the net's centre, so the tree grows outwards
+    cx = np.mean([p.x for t in terms for p in t.pads])
+    cy = np.mean([p.y for t in terms for p in t.pads])
+    first = min(range(len(terms)), key=lambda k: (math.hypot(terms[k].pads[0].x - cx, terms[k].pads[0].y - cy), k))
+    tree: dict = dict(terms[first].cells)              # cell -> stub to add when a path leaves from it
+    used_stub: set = set()
+    left = [k for k in range(len(terms)) if k != first]
+    while left:
+        owner: dict = {}
+        for k in left:
+            for c in terms[k].cells:
+                owner.setdefault(c, k)
+        targets = np.array(sorted(owner), dtype=np.int64)
+        sources = np.array(sorted(tree), dtype=np.int64)
+        path = find_path(space, sources, targets, bend=bend, via=via, jump=jump)
+        if path is None:
+            names = ", ".join(terms[k].name for k in left[:3]) + (" ..." if len(left) > 3 else "")
+            route.failed = f"no way from {terms[first].name} to {names} past the other copper"
+            return route
+        start = tuple(int(v) for v in path.cells[0])
+        end = tuple(int(v) for v in path.cells[-1])
+        stub = tree.get(start)
+        if stub is not None and start not in used_stub:
+            route.stubs.append((stub[0], stub[1], start[0]))
+            used_stub.add(start)
+            tree[start] = None
+        new = _lay_path(grid, space, route, path.cells)
+        k = owner[end]
+        stub = terms[k].cells[end]
+        if stub is not None:
+            route.stubs.append((stub[0], stub[1], end[0]))
+        # every terminal whose pad holds the end point directly is joined as well
+        joined = {k} | {q for q in left if terms[q].cells.get(end, 0) is None}
+        for q in sorted(joined):
+            for c, s in terms[q].cells.items():
+                if c not in tree:
+                    tree[c] = s
+        for c in new:
+            tree[c] = None
+        for c in route.cells:
+            tree[c] = None
+        left = [q for q in left if q not in joined]
+    return route
