@@ -475,6 +475,12 @@ def compare_rows(comp) -> list[tuple[str, dict]]:
                 rows = [(b, t) for b, t in zip(boards, totals) if isinstance(t, dict)]
             elif isinstance(totals, dict):
                 rows = [(b, totals[b]) for b in boards if isinstance(totals.get(b), dict)]
+                if not rows:      # column form: {field: [value per board], ...}
+                    cols = {k: v for k, v in totals.items()
+                            if k not in ("differs", "best") and isinstance(v, (list, tuple))
+                            and len(v) == len(boards)}
+                    if any(k in cols for k in _KEYS):
+                        rows = [(b, {k: v[i] for k, v in cols.items()}) for i, b in enumerate(boards)]
             if not rows and isinstance(comp.get("figures"), (list, tuple)):
                 rows = [(b, t) for b, f in zip(boards, comp["figures"]) if (t := _totals_of(f))]
         elif isinstance(boards, (list, tuple, dict)):
@@ -497,6 +503,7 @@ def compare_figure(comp, dpi: float = 150):
     """The comparison bar chart (bends, length, vias per board) on a new Figure."""
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
+    from matplotlib.ticker import MaxNLocator
 
     rows = compare_rows(comp)
     labels = _short_labels([r[0] for r in rows])
@@ -515,15 +522,19 @@ def compare_figure(comp, dpi: float = 150):
         if lbs:
             ax.hlines([b for _, b in lbs], [x - 0.4 for x, _ in lbs], [x + 0.4 for x, _ in lbs],
                       colors=OKABE_ITO["black"], linestyles="dashed", linewidths=1.0, label="lower bound")
-            ax.legend(fontsize=7, frameon=False, loc="lower right")
+            ax.legend(fontsize=7, frameon=False, loc="upper left")
         for b, v in zip(bars, vals):
             ax.annotate(f"{v:.1f}" if key == "length" else f"{v:.0f}", (b.get_x() + b.get_width() / 2, v),
                         xytext=(0, 2), textcoords="offset points", ha="center", va="bottom", fontsize=7)
         ax.set_title(units[key], fontsize=9)
         ax.set_xticks(xs)
-        ax.set_xticklabels(labels, rotation=30 if n > 2 else 0, ha="right" if n > 2 else "center", fontsize=7)
+        tilt = n > 2 or max(len(l) for l in labels) > 12
+        ax.set_xticklabels(labels, rotation=30 if tilt else 0, ha="right" if tilt else "center", fontsize=7)
         ax.tick_params(axis="y", labelsize=7)
-        ax.margins(y=0.15)
+        top = max(vals + [b for _, b in lbs] + [0.0])
+        ax.set_ylim(0, top * 1.18 if top > 0 else 1.0)
+        if key != "length":
+            ax.yaxis.set_major_locator(MaxNLocator(integer=True))
         for side in ("top", "right"):
             ax.spines[side].set_visible(False)
     fig.tight_layout()
