@@ -635,7 +635,8 @@ def export(board: Board, out_dir, open_vias: bool = False) -> list[Path]:
     ------
     BoardError
         A part is unplaced (place it first), a trace is on a layer the board does not have,
-        or the outline is not a simple polygon. Nothing is written then.
+        the outline is not a simple polygon, `out_dir` is a file, or the files cannot be
+        written there. Nothing in `out_dir` is changed then.
 
     Notes
     -----
@@ -659,7 +660,13 @@ def export(board: Board, out_dir, open_vias: bool = False) -> list[Path]:
     texts["drill-nonplated"] = _drill_file(board, nonplated, False)
     texts["list"] = _summary(board, names, plated, nonplated, open_vias)
     out_dir = Path(out_dir)
-    with atomic_dir(out_dir) as tmp:
-        for role, name in names.items():
-            _write(tmp / name, texts[role])
+    if out_dir.exists() and not out_dir.is_dir():
+        raise BoardError(str(out_dir), "-o", "is a file, not a folder; name a folder for the files")
+    try:
+        with atomic_dir(out_dir) as tmp:
+            for role, name in names.items():
+                _write(tmp / name, texts[role])
+    except OSError as exc:
+        raise BoardError(str(out_dir), "-o", f"the files cannot be written there "
+                                             f"({exc.strerror or exc}); nothing was changed") from None
     return [out_dir / name for name in names.values()]

@@ -15,6 +15,7 @@ from collections import Counter
 from pathlib import Path
 
 import pytest
+from hypothesis import given, settings, strategies as st
 from gerbonara import ExcellonFile, GerberFile
 from gerbonara.apertures import CircleAperture, ObroundAperture, RectangleAperture
 from gerbonara.graphic_objects import Flash, Line
@@ -359,13 +360,13 @@ def test_vias_and_jumper_ends_flashed_on_every_layer(tmp_path):
     for layer in ("top", "bottom"):
         g = _read_gerber(_role_path(board, files, f"copper-{layer}"))
         vias = [o for o in g.objects if isinstance(o, Flash) and _function(o) == "ViaPad"]
-        assert [(o.x, o.y, o.aperture.diameter) for o in vias] == pytest.approx([(27.0, 12.0, 0.8)])
+        assert [v for o in vias for v in (o.x, o.y, o.aperture.diameter)] == pytest.approx([27.0, 12.0, 0.8])
     one = loads_board(ONE_LAYER)
     files = export(one, tmp_path / "one")
     g = _read_gerber(_role_path(one, files, "copper-bottom"))
     ends = sorted((o.x, o.y, o.aperture.diameter) for o in g.objects
                   if isinstance(o, Flash) and ".P" not in o.attrs)
-    assert ends == pytest.approx([(20.0, 5.0, 1.6), (20.0, 15.0, 1.6)])
+    assert [v for e in ends for v in e] == pytest.approx([20.0, 5.0, 1.6, 20.0, 15.0, 1.6])
 
 
 def test_copper_shapes_match_the_board(exported):
@@ -432,6 +433,54 @@ def test_one_layer_copper_rebuilt_passes_the_same_check(tmp_path):
     assert [v.rule for v in check(narrow)] == [v.rule for v in check(rebuilt)] == ["width"]
 
 
+_coord = st.floats(min_value=0.5, max_value=39.5, allow_nan=False, allow_infinity=False)
+
+
+@st.composite
+def _routes(draw):
+    """Random axis-step traces (any float coordinates) and vias on a 40 x 20 board."""
+    traces = []
+    for _ in range(draw(st.integers(1, 4))):
+        x, y = draw(_coord), draw(_coord) / 2
+        pts = [(x, y)]
+        for step in range(draw(st.integers(1, 4))):
+            if step % 2 == 0:
+                x = draw(_coord)
+            else:
+                y = draw(_coord) / 2
+            pts.append((x, y))
+        width = draw(st.floats(min_value=0.15, max_value=2.0))
+        traces.append(Trace("A", draw(st.sampled_from(["top", "bottom"])), width, pts))
+    vias = [Via("A", (draw(_coord), draw(_coord) / 2), 0.4, 0.8) for _ in range(draw(st.integers(0, 3)))]
+    return traces, vias
+
+
+@settings(max_examples=25, deadline=None)
+@given(_routes())
+def test_any_coordinates_read_back_within_a_nanometre(tmp_path_factory, routes):
+    # format 4.6 in mm is 1 nm resolution (Gerber spec, FS command): whatever the floats, the
+    # reader finds every segment and via within 1e-6 mm of where the board has it
+    traces, vias = routes
+    board = loads_board('format = 1\n[board]\nname = "p"\nsize = [40.0, 20.0]\n')
+    board.traces, board.vias = traces, vias
+    files = export(board, tmp_path_factory.mktemp("fab"))
+    for layer in board.layers:
+        objs = _read_gerber(_role_path(board, files, f"copper-{layer}")).objects
+        got = sorted([(min((o.x1, o.y1), (o.x2, o.y2)), max((o.x1, o.y1), (o.x2, o.y2)), o.aperture.diameter)
+                      for o in objs if isinstance(o, Line)])
+        want = sorted([(min(a, b), max(a, b), t.width) for t in traces if t.layer == layer
+                       for a, b in zip(t.points, t.points[1:]) if a != b])
+        assert len(got) == len(want)
+        for g, w in zip(got, want):
+            assert g[0] == pytest.approx(w[0], abs=1e-6) and g[1] == pytest.approx(w[1], abs=1e-6)
+            assert g[2] == pytest.approx(w[2], abs=1e-6)
+        flashes = sorted((o.x, o.y) for o in objs if isinstance(o, Flash) and _function(o) == "ViaPad")
+        want_vias = sorted(v.at for v in vias)
+        assert len(flashes) == len(want_vias)
+        for g, w in zip(flashes, want_vias):
+            assert g == pytest.approx(w, abs=1e-6)
+
+
 # ----------------------------------------------------------------------------- holes
 
 def test_each_hole_at_its_place_with_its_drill(exported):
@@ -468,7 +517,7 @@ def test_drill_tools_sorted_by_size(tmp_path):
             seen.append(o.aperture.diameter)
     assert seen == sorted(seen) == [0.4, 0.6, 0.9]
     n = _read_drill(_role_path(board, files, "drill-nonplated"))
-    assert [(o.x, o.y, o.aperture.diameter) for o in n.objects] == pytest.approx([(35.0, 4.0, 3.2)])
+    assert [v for o in n.objects for v in (o.x, o.y, o.aperture.diameter)] == pytest.approx([35.0, 4.0, 3.2])
 
 
 # ----------------------------------------------------------------------------- outline, mask, silk
@@ -611,11 +660,21 @@ def test_failure_while_writing_leaves_the_folder_untouched(tmp_path, monkeypatch
 
     monkeypatch.setattr(fab, "_write", failing)
     board = loads_board(HAND.replace('name = "hand routed"', 'name = "one layer"'))
-    with pytest.raises(OSError):
+    with pytest.raises(BoardError, match="disk full"):
         export(board, out)
     assert len(calls) == 3
     assert _snapshot(out) == before
     assert sorted(p.name for p in tmp_path.iterdir()) == ["fab"]
+
+
+def test_output_that_is_a_file(tmp_path, capsys):
+    (tmp_path / "fab").write_text("not a folder")
+    src = tmp_path / "b.toml"
+    src.write_text(HAND)
+    assert main(["export", str(src), "-o", str(tmp_path / "fab")]) == 2
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and "is a file, not a folder" in err[0]
+    assert (tmp_path / "fab").read_text() == "not a folder"
 
 
 def test_re_export_replaces_own_files_only(tmp_path):
