@@ -17,7 +17,10 @@ import numpy as np
 from router.model import Board
 
 from .anneal import Problem, anneal, quadratic_start
-from .legalize import ROTATIONS, check_fits, effective_gap, legalize, site_for
+from router.errors import PlacementError
+
+from .legalize import (ROOMY, ROTATIONS, area_needed, check_fits, effective_gap, free_area, legalize,
+                       routing_gap, site_for)
 from .wirelength import congestion, total_hpwl
 
 __all__ = ["place", "PlaceResult"]
@@ -36,7 +39,8 @@ class PlaceResult:
     random : wirelength in mm of a random legal placement of the same parts made in the same
         run (None when none was found)
     congestion : congestion overflow of the placed board, mm of track (0 when roomy)
-    gap : the gap kept between part rectangles, mm
+    gap : the gap kept between part rectangles, mm (wider than asked where there is room)
+    least_gap : the gap asked for (or the rule's), raised to the largest class clearance, mm
     seconds : time taken (the random placement not included)
     """
     board: Board
@@ -47,10 +51,12 @@ class PlaceResult:
     congestion: float
     gap: float
     seconds: float
+    least_gap: float = 0.0
 
     def summary(self) -> str:
         """A few lines for the command line."""
-        lines = [f"placed {len(self.placed)} parts in {self.seconds:.1f} s with a {self.gap:g} mm gap"]
+        lines = [f"placed {len(self.placed)} parts in {self.seconds:.1f} s, {self.gap:g} mm apart "
+                 f"({self.least_gap:g} mm required)"]
         lines.append(f"  wirelength before: {self.before:.1f} mm" if self.before is not None
                      else "  wirelength before: - (not every part had a place)")
         lines.append(f"  wirelength after:  {self.after:.1f} mm")
@@ -98,25 +104,28 @@ def place(board: Board, seed: int = 0, all_parts: bool = False, gap: Optional[fl
     """
     t_start = time.perf_counter()
     out = board.copy()
-    g = effective_gap(out, gap)
+    g = least = effective_gap(out, gap)
     movable = _to_move(out, all_parts)
     ids = {id(p) for p in movable}
     stay = [p for p in out.parts if id(p) not in ids]
     before = total_hpwl(board) if all(p.at is not None for p in board.parts) else None
     check_fits(out, g, movable, stay)
-    rng = np.random.default_rng(seed)
-    if movable:
-        site = site_for(out, g, stay)
-        prob = Problem(out, movable, stay, site)
-        rot0 = np.array([ROTATIONS.index(p.rotation % 360) if (p.rotation % 360) in ROTATIONS else 0
-                         for p in movable], dtype=np.intp)
-        xy0 = quadratic_start(prob)
-        xy0 = np.array([prob.clamp(i, x, y, int(rot0[i])) for i, (x, y) in enumerate(xy0)]).reshape(-1, 2)
-        xy, rot = anneal(prob, xy0, rot0, rng, effort=effort)
-        spots = legalize(out, movable, xy, rot, site, prob.offsets)
-        for p, (x, y, r) in zip(movable, spots):
-            i = out.parts.index(p)
-            out.parts[i] = replace(p, at=(x, y), rotation=r)
+    # a wider gap leaves channels for traces between parts, where the board has the room
+    gaps = [g]
+    wide = routing_gap(out, g)
+    if movable and wide > g + 1e-9 and area_needed(out, wide, movable) <= ROOMY * free_area(out, wide, stay)[1]:
+        gaps.insert(0, wide)
+    for k, gk in enumerate(gaps):
+        rng = np.random.default_rng(seed)
+        placed = out.copy()
+        try:
+            _place_into(placed, movable, stay, gk, rng, effort)
+        except PlacementError:
+            if k == len(gaps) - 1:
+                raise
+            continue
+        out, g = placed, gk
+        break
     seconds = time.perf_counter() - t_start
     after = total_hpwl(out)
     rand = None
@@ -124,7 +133,27 @@ def place(board: Board, seed: int = 0, all_parts: bool = False, gap: Optional[fl
         rand_board = random_placement(out, movable_refs=[p.ref for p in movable], gap=g,
                                       rng=np.random.default_rng([seed, 7]))
         rand = total_hpwl(rand_board) if rand_board is not None else None
-    return PlaceResult(out, [p.ref for p in movable], before, after, rand, congestion(out), g, seconds)
+    return PlaceResult(out, [p.ref for p in movable], before, after, rand, congestion(out), g, seconds, least)
+
+
+def _place_into(out: Board, movable, stay, g: float, rng, effort: float) -> None:
+    """Place the parts of `out` named in `movable` in place, keeping gap `g`."""
+    if not movable:
+        return
+    refs = {p.ref for p in movable}
+    movable = [p for p in out.parts if p.ref in refs]
+    stay = [p for p in out.parts if p.ref not in refs]
+    site = site_for(out, g, stay)
+    prob = Problem(out, movable, stay, site)
+    rot0 = np.array([ROTATIONS.index(p.rotation % 360) if (p.rotation % 360) in ROTATIONS else 0
+                     for p in movable], dtype=np.intp)
+    xy0 = quadratic_start(prob)
+    xy0 = np.array([prob.clamp(i, x, y, int(rot0[i])) for i, (x, y) in enumerate(xy0)]).reshape(-1, 2)
+    xy, rot = anneal(prob, xy0, rot0, rng, effort=effort)
+    spots = legalize(out, movable, xy, rot, site, prob.offsets)
+    index = {p.ref: k for k, p in enumerate(out.parts)}
+    for p, (x, y, r) in zip(movable, spots):
+        out.parts[index[p.ref]] = replace(p, at=(x, y), rotation=r)
 
 
 def random_placement(board: Board, movable_refs, gap: float, rng: np.random.Generator,

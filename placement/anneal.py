@@ -32,6 +32,7 @@ from typing import Sequence
 
 import numpy as np
 import shapely
+from numba import njit
 
 from router.geometry import part_footprint, placed_pads, transform
 from router.model import Board, Part
@@ -188,226 +189,303 @@ def quadratic_start(prob: Problem) -> np.ndarray:
     return np.linalg.solve(L, b)
 
 
-class _State:
-    """Positions, rotations and the running figures the annealer updates per change.
+# ----------------------------------------------------------------------------- the kernel
+# The annealing loop runs compiled (numba); its random numbers are drawn beforehand from the
+# caller's numpy Generator, so a seed gives the same placement compiled or not.
 
-    A change is made in place and undone from a snapshot of what it touched.
+@njit(cache=True)
+def _cell(v, origin, size, count):
+    k = int(math.floor((v - origin) / size))
+    return min(max(k, 0), count - 1)
+
+
+@njit(cache=True)
+def _box_add(demand, b, sign, gx0, gy0, c):
+    nx, ny = demand.shape
+    ix0, ix1 = _cell(b[0], gx0, c, nx), _cell(b[2], gx0, c, nx)
+    iy0, iy1 = _cell(b[1], gy0, c, ny), _cell(b[3], gy0, c, ny)
+    v = sign * ((b[2] - b[0]) + (b[3] - b[1])) / ((ix1 - ix0 + 1) * (iy1 - iy0 + 1))
+    for a in range(ix0, ix1 + 1):
+        for e in range(iy0, iy1 + 1):
+            demand[a, e] += v
+
+
+@njit(cache=True)
+def _put(i, x, y, r, X, Y, R, off, rect, half, pt_ptr, pt_idx, t_off, tx, ty, tw, demand, gx0, gy0, c):
+    """Move part i to (x, y) at rotation index r, its pads' demand with it."""
+    nx, ny = demand.shape
+    for k in range(pt_ptr[i], pt_ptr[i + 1]):
+        t = pt_idx[k]
+        demand[_cell(tx[t], gx0, c, nx), _cell(ty[t], gy0, c, ny)] -= tw[t]
+    X[i] = x
+    Y[i] = y
+    R[i] = r
+    for k in range(pt_ptr[i], pt_ptr[i + 1]):
+        t = pt_idx[k]
+        tx[t] = x + t_off[t, r, 0]
+        ty[t] = y + t_off[t, r, 1]
+        demand[_cell(tx[t], gx0, c, nx), _cell(ty[t], gy0, c, ny)] += tw[t]
+    rect[i, 0] = x + off[i, r, 0] - half
+    rect[i, 1] = y + off[i, r, 1] - half
+    rect[i, 2] = x + off[i, r, 2] + half
+    rect[i, 3] = y + off[i, r, 3] + half
+
+
+@njit(cache=True)
+def _refresh(nets, m, rows, tx, ty, net_box, demand, gx0, gy0, c):
+    """New boxes of the first m nets of `nets`; returns their HPWL before and after."""
+    before = 0.0
+    after = 0.0
+    for q in range(m):
+        k = nets[q]
+        b = net_box[k]
+        before += (b[2] - b[0]) + (b[3] - b[1])
+        _box_add(demand, b, -1.0, gx0, gy0, c)
+        t = rows[k, 0]
+        x0 = x1 = tx[t]
+        y0 = y1 = ty[t]
+        for s in range(1, rows.shape[1]):
+            t = rows[k, s]
+            x0 = min(x0, tx[t])
+            x1 = max(x1, tx[t])
+            y0 = min(y0, ty[t])
+            y1 = max(y1, ty[t])
+        b[0], b[1], b[2], b[3] = x0, y0, x1, y1
+        after += (x1 - x0) + (y1 - y0)
+        _box_add(demand, b, 1.0, gx0, gy0, c)
+    return before, after
+
+
+@njit(cache=True)
+def _overflow(demand, cap):
+    s = 0.0
+    for a in range(demand.shape[0]):
+        for e in range(demand.shape[1]):
+            if demand[a, e] > cap:
+                s += demand[a, e] - cap
+    return s
+
+
+@njit(cache=True)
+def _overlap(i, skip, rect):
+    a0, a1, a2, a3 = rect[i, 0], rect[i, 1], rect[i, 2], rect[i, 3]
+    s = 0.0
+    for j in range(rect.shape[0]):
+        if j == i or j == skip:
+            continue
+        w = min(rect[j, 2], a2) - max(rect[j, 0], a0)
+        if w <= 0:
+            continue
+        h = min(rect[j, 3], a3) - max(rect[j, 1], a1)
+        if h > 0:
+            s += w * h
+    return s
+
+
+@njit(cache=True)
+def _pair(i, j, rect):
+    w = min(rect[i, 2], rect[j, 2]) - max(rect[i, 0], rect[j, 0])
+    h = min(rect[i, 3], rect[j, 3]) - max(rect[i, 1], rect[j, 1])
+    return max(w, 0.0) * max(h, 0.0)
+
+
+@njit(cache=True)
+def _blocked(i, rect, half, sat, h, rx0, ry0):
+    """Area of part i's rectangle over blocked raster cells (cells whose centres it covers)."""
+    nx, ny = sat.shape[0] - 1, sat.shape[1] - 1
+    i0 = min(max(int(math.ceil((rect[i, 0] + half - rx0) / h - 0.5)), 0), nx)
+    i1 = min(max(int(math.floor((rect[i, 2] - half - rx0) / h - 0.5)) + 1, 0), nx)
+    j0 = min(max(int(math.ceil((rect[i, 1] + half - ry0) / h - 0.5)), 0), ny)
+    j1 = min(max(int(math.floor((rect[i, 3] - half - ry0) / h - 0.5)) + 1, 0), ny)
+    if i1 <= i0 or j1 <= j0:
+        return 0.0
+    return (sat[i1, j1] - sat[i0, j1] - sat[i1, j0] + sat[i0, j0]) * h * h
+
+
+@njit(cache=True)
+def _clamp(i, x, y, r, off, bounds):
+    lo, hi = bounds[0] - off[i, r, 0], bounds[2] - off[i, r, 2]
+    x = (lo + hi) / 2 if lo > hi else min(max(x, lo), hi)
+    lo, hi = bounds[1] - off[i, r, 1], bounds[3] - off[i, r, 3]
+    y = (lo + hi) / 2 if lo > hi else min(max(y, lo), hi)
+    return x, y
+
+
+@njit(cache=True)
+def _sweep(U, mode, temp, lam, window, cw, X, Y, R, off, rect, half, bounds,
+           pt_ptr, pt_idx, pn_ptr, pn_idx, t_off, tx, ty, tw, rows, net_box,
+           demand, gx0, gy0, c, cap, ovf, sat, h, rx0, ry0, nets, mark):
+    """len(U) changes. mode 0: anneal at `temp`; 1: downhill only; 2: measure and undo all.
+
+    Returns (accepted, sum of uphill deltas, uphill count, overflow after).
     """
+    n = X.shape[0]
+    accepted = 0
+    up_sum = 0.0
+    up_n = 0
+    for s in range(U.shape[0]):
+        u = U[s, 0]
+        i = min(int(U[s, 1] * n), n - 1)
+        swap = n > 1 and 0.2 <= u < 0.45
+        j = -1
+        m = 0
+        stamp = s + 1 + mark[-1]
+        for k in range(pn_ptr[i], pn_ptr[i + 1]):
+            nets[m] = pn_idx[k]
+            mark[pn_idx[k]] = stamp
+            m += 1
+        if swap:
+            j = min(int(U[s, 2] * (n - 1)), n - 2)
+            if j >= i:
+                j += 1
+            for k in range(pn_ptr[j], pn_ptr[j + 1]):
+                q = pn_idx[k]
+                if mark[q] != stamp:
+                    nets[m] = q
+                    m += 1
+        xi, yi, ri = X[i], Y[i], R[i]
+        ovf0 = ovf
+        if swap:
+            xj, yj, rj = X[j], Y[j], R[j]
+            ov0 = _overlap(i, j, rect) + _overlap(j, i, rect) + _pair(i, j, rect)
+            bl0 = _blocked(i, rect, half, sat, h, rx0, ry0) + _blocked(j, rect, half, sat, h, rx0, ry0)
+            ax, ay = _clamp(i, xj, yj, ri, off, bounds)
+            bx, by = _clamp(j, xi, yi, rj, off, bounds)
+            _put(i, ax, ay, ri, X, Y, R, off, rect, half, pt_ptr, pt_idx, t_off, tx, ty, tw, demand, gx0, gy0, c)
+            _put(j, bx, by, rj, X, Y, R, off, rect, half, pt_ptr, pt_idx, t_off, tx, ty, tw, demand, gx0, gy0, c)
+            ov1 = _overlap(i, j, rect) + _overlap(j, i, rect) + _pair(i, j, rect)
+            bl1 = _blocked(i, rect, half, sat, h, rx0, ry0) + _blocked(j, rect, half, sat, h, rx0, ry0)
+        else:
+            ov0 = _overlap(i, -1, rect)
+            bl0 = _blocked(i, rect, half, sat, h, rx0, ry0)
+            if u < 0.2:
+                r = (ri + 1 + min(int(U[s, 2] * 3), 2)) % 4
+                ax, ay = _clamp(i, xi, yi, r, off, bounds)
+            else:
+                r = ri
+                ax, ay = _clamp(i, xi + (2 * U[s, 2] - 1) * window, yi + (2 * U[s, 3] - 1) * window,
+                                r, off, bounds)
+            _put(i, ax, ay, r, X, Y, R, off, rect, half, pt_ptr, pt_idx, t_off, tx, ty, tw, demand, gx0, gy0, c)
+            ov1 = _overlap(i, -1, rect)
+            bl1 = _blocked(i, rect, half, sat, h, rx0, ry0)
+        hp0, hp1 = _refresh(nets, m, rows, tx, ty, net_box, demand, gx0, gy0, c)
+        ovf1 = _overflow(demand, cap)
+        d = (hp1 - hp0) + cw * (ovf1 - ovf0) + lam * ((ov1 - ov0) + (bl1 - bl0))
+        if d > 0:
+            up_sum += d
+            up_n += 1
+        if mode != 2 and (d <= 0 or (mode == 0 and U[s, 4] < math.exp(-d / temp))):
+            accepted += 1
+            ovf = ovf1
+        else:
+            _put(i, xi, yi, ri, X, Y, R, off, rect, half, pt_ptr, pt_idx, t_off, tx, ty, tw, demand, gx0, gy0, c)
+            if swap:
+                _put(j, xj, yj, rj, X, Y, R, off, rect, half, pt_ptr, pt_idx, t_off, tx, ty, tw,
+                     demand, gx0, gy0, c)
+            _refresh(nets, m, rows, tx, ty, net_box, demand, gx0, gy0, c)
+    mark[-1] += U.shape[0]
+    return accepted, up_sum, up_n, ovf
 
-    def __init__(self, prob: Problem, xy: np.ndarray, rot: np.ndarray):
-        self.p = prob
-        n = prob.n
-        self.x = xy[:, 0].astype(float).copy()
-        self.y = xy[:, 1].astype(float).copy()
-        self.r = rot.astype(np.intp).copy()
-        self.tx = prob.t_fix[:, 0].copy()
-        self.ty = prob.t_fix[:, 1].copy()
-        for i in range(n):
-            self._terminals(i)
-        self.rect = np.zeros((n, 4))
-        for i in range(n):
-            self._set_rect(i)
-        self.cong = CongestionGrid(prob.region_bounds, prob.board.copper_layers, _pitch(prob.board))
-        cg = self.cong
-        self._c = (cg.x0, cg.y0, cg.cell, cg.nx, cg.ny)
-        if len(self.tx):
-            cg.add_pads(self.tx, self.ty, prob.t_weight)
-        self.net_box = self._boxes(np.arange(len(prob.nets)))
-        for b in self.net_box:
-            cg.add_box(*b)
-        self.overflow = cg.overflow()
 
-    # ---- pieces
-    def _terminals(self, i):
-        p = self.p
-        ts = p.part_terms[i]
-        r = self.r[i]
-        self.tx[ts] = self.x[i] + p.t_off[ts, r, 0]
-        self.ty[ts] = self.y[i] + p.t_off[ts, r, 1]
-
-    def _set_rect(self, i):
-        o = self.p.off[i, self.r[i]]
-        g = self.p.gap / 2
-        x, y = self.x[i], self.y[i]
-        self.rect[i] = (x + o[0] - g, y + o[1] - g, x + o[2] + g, y + o[3] + g)
-
-    def _boxes(self, nets):
-        rows = self.p.rows[nets]
-        xs, ys = self.tx[rows], self.ty[rows]
-        return np.stack([xs.min(1), ys.min(1), xs.max(1), ys.max(1)], axis=1).reshape(-1, 4)
-
-    def _cells(self, x, y):
-        x0, y0, c, nx, ny = self._c
-        ix = np.minimum(np.maximum(((x - x0) / c).astype(np.intp), 0), nx - 1)
-        iy = np.minimum(np.maximum(((y - y0) / c).astype(np.intp), 0), ny - 1)
-        return ix, iy
-
-    def _boxes_to_grid(self, old, new):
-        """Take the boxes `old` out of the demand and put `new` in, in one pass."""
-        boxes = np.concatenate([old, new])
-        if not len(boxes):
-            return
-        sign = np.concatenate([-np.ones(len(old)), np.ones(len(new))])
-        ix0, iy0 = self._cells(boxes[:, 0], boxes[:, 1])
-        ix1, iy1 = self._cells(boxes[:, 2], boxes[:, 3])
-        ix1, iy1 = ix1 + 1, iy1 + 1
-        val = sign * ((boxes[:, 2] - boxes[:, 0]) + (boxes[:, 3] - boxes[:, 1])) / ((ix1 - ix0) * (iy1 - iy0))
-        _, _, _, nx, ny = self._c
-        d = np.zeros((nx + 1, ny + 1))
-        np.add.at(d, (ix0, iy0), val)
-        np.add.at(d, (ix1, iy0), -val)
-        np.add.at(d, (ix0, iy1), -val)
-        np.add.at(d, (ix1, iy1), val)
-        self.cong.demand += d.cumsum(0).cumsum(1)[:nx, :ny]
-
-    def _pads_to_grid(self, ts, sign):
-        if len(ts):
-            ix, iy = self._cells(self.tx[ts], self.ty[ts])
-            np.add.at(self.cong.demand, (ix, iy), sign * self.p.t_weight[ts])
-
-    # ---- figures
-    def overlap(self, i: int, skip: int = -1) -> float:
-        """Overlap area of part i's grown rectangle with every other part's."""
-        R = self.rect
-        a = R[i]
-        w = np.minimum(R[:, 2], a[2]) - np.maximum(R[:, 0], a[0])
-        h = np.minimum(R[:, 3], a[3]) - np.maximum(R[:, 1], a[1])
-        ov = np.maximum(w, 0.0) * np.maximum(h, 0.0)
-        ov[i] = 0.0
-        if skip >= 0:
-            ov[skip] = 0.0
-        return float(ov.sum())
-
-    def pair_overlap(self, i: int, j: int) -> float:
-        a, b = self.rect[i], self.rect[j]
-        w = min(a[2], b[2]) - max(a[0], b[0])
-        h = min(a[3], b[3]) - max(a[1], b[1])
-        return max(w, 0.0) * max(h, 0.0)
-
-    def blocked(self, i: int) -> float:
-        g = self.p.gap / 2
-        a = self.rect[i]
-        return self.p.blocked_area(a[0] + g, a[1] + g, a[2] - g, a[3] - g)
-
-    def total_hpwl(self) -> float:
-        b = self.net_box
-        return float(((b[:, 2] - b[:, 0]) + (b[:, 3] - b[:, 1])).sum())
-
-    # ---- one change and its undo
-    def change(self, moves, nets):
-        """Apply moves [(i, x, y, r), ...] touching `nets`; returns (d_hpwl, undo snapshot)."""
-        p = self.p
-        snap = (self.cong.demand.copy(), self.overflow, nets, self.net_box[nets].copy(),
-                [(i, self.x[i], self.y[i], self.r[i], self.rect[i].copy()) for i, *_ in moves])
-        ts_all = []
-        for i, x, y, r in moves:
-            ts = p.part_terms[i]
-            self._pads_to_grid(ts, -1.0)
-            self.x[i], self.y[i], self.r[i] = x, y, r
-            self._terminals(i)
-            self._set_rect(i)
-            ts_all.append(ts)
-        for ts in ts_all:
-            self._pads_to_grid(ts, 1.0)
-        old = snap[3]
-        new = self._boxes(nets)
-        self.net_box[nets] = new
-        self._boxes_to_grid(old, new)
-        self.overflow = self.cong.overflow()
-        d_h = float(((new[:, 2] - new[:, 0]) + (new[:, 3] - new[:, 1])).sum() -
-                    ((old[:, 2] - old[:, 0]) + (old[:, 3] - old[:, 1])).sum())
-        return d_h, snap
-
-    def undo(self, snap):
-        demand, overflow, nets, boxes, parts = snap
-        self.cong.demand = demand
-        self.overflow = overflow
-        self.net_box[nets] = boxes
-        for i, x, y, r, rect in parts:
-            self.x[i], self.y[i], self.r[i] = x, y, r
-            self.rect[i] = rect
-            self._terminals(i)
+def _csr(lists):
+    ptr = np.zeros(len(lists) + 1, dtype=np.int64)
+    ptr[1:] = np.cumsum([len(x) for x in lists])
+    idx = np.concatenate([np.asarray(x, dtype=np.int64) for x in lists]) if lists else np.zeros(0, np.int64)
+    return ptr, idx.astype(np.int64)
 
 
 def anneal(prob: Problem, xy: np.ndarray, rot: np.ndarray, rng: np.random.Generator,
            effort: float = 1.0, congestion_weight: float = CONGESTION_WEIGHT):
     """Simulated annealing from centres `xy` (n, 2) and rotation indices `rot` (n,).
 
+    Parameters
+    ----------
+    prob : Problem
+    xy, rot : the start
+    rng : numpy Generator; every random number comes from it
+    effort : scales the number of changes per temperature
+    congestion_weight : weight of the congestion overflow against wirelength
+
     Returns
     -------
     (xy, rot): the annealed centres and rotation indices (not yet on the grid).
+
+    Notes
+    -----
+    60 temperatures, geometric from the mean uphill change at the start down to 1e-4 of
+    it, then one downhill-only pass; the move window follows the acceptance rate
+    towards 44 % (J. Lam, J.-M. Delosme, "Performance of a new annealing schedule",
+    DAC 1988).
     """
     n = prob.n
     if n == 0:
         return xy, rot
-    st = _State(prob, xy, rot)
+    X = np.ascontiguousarray(xy[:, 0], dtype=np.float64).copy()
+    Y = np.ascontiguousarray(xy[:, 1], dtype=np.float64).copy()
+    R = np.asarray(rot, dtype=np.int64).copy()
+    off = np.ascontiguousarray(prob.off, dtype=np.float64)
+    half = prob.gap / 2
+    bounds = np.array(prob.region_bounds, dtype=np.float64)
+    pt_ptr, pt_idx = _csr([list(t) for t in prob.part_terms])
+    pn_ptr, pn_idx = _csr([list(t) for t in prob.part_nets])
+    t_off = np.ascontiguousarray(prob.t_off, dtype=np.float64)
+    tx = prob.t_fix[:, 0].astype(np.float64).copy()
+    ty = prob.t_fix[:, 1].astype(np.float64).copy()
+    tw = prob.t_weight.astype(np.float64)
+    rows = np.ascontiguousarray(prob.rows, dtype=np.int64)
+    if rows.shape[0] == 0:
+        rows = np.zeros((0, 1), dtype=np.int64)
+    for i in range(n):
+        ts = prob.part_terms[i]
+        tx[ts] = X[i] + t_off[ts, R[i], 0]
+        ty[ts] = Y[i] + t_off[ts, R[i], 1]
+    rect = np.zeros((n, 4))
+    for i in range(n):
+        o = off[i, R[i]]
+        rect[i] = (X[i] + o[0] - half, Y[i] + o[1] - half, X[i] + o[2] + half, Y[i] + o[3] + half)
+    grid = CongestionGrid(prob.region_bounds, prob.board.copper_layers, _pitch(prob.board))
+    if len(tx):
+        grid.add_pads(tx, ty, tw)
+    net_box = np.zeros((rows.shape[0], 4))
+    for k in range(rows.shape[0]):
+        xs, ys = tx[rows[k]], ty[rows[k]]
+        net_box[k] = (xs.min(), ys.min(), xs.max(), ys.max())
+        grid.add_box(*net_box[k])
+    demand = grid.demand
+    ovf = grid.overflow()
+    nets = np.zeros(max(rows.shape[0], 1), dtype=np.int64)
+    mark = np.zeros(rows.shape[0] + 1, dtype=np.int64)
+
     bx0, by0, bx1, by1 = prob.region_bounds
     span = max(bx1 - bx0, by1 - by0)
-    sizes = (prob.off[:, 0, 2] - prob.off[:, 0, 0]) * (prob.off[:, 0, 3] - prob.off[:, 0, 1])
+    sizes = (off[:, 0, 2] - off[:, 0, 0]) * (off[:, 0, 3] - off[:, 0, 1])
     typical = math.sqrt(float(np.mean(sizes))) + prob.gap
     lam_end = 20.0 / max(typical, 0.5)
     lam_start = lam_end / 200.0
     window = span / 2
     steps = 60
-    per_step = max(20, int(max(60, min(20 * n, 3000)) * effort))
+    per_step = max(20, int(max(100, min(40 * n, 8000)) * effort))
+    min_window = prob.board.rules.grid * 2
 
-    def propose(lam):
-        """One random change made in place: (cost delta, undo snapshot)."""
-        u = rng.random()
-        i = int(rng.integers(n))
-        if n > 1 and 0.2 <= u < 0.45:            # swap two parts' places, each keeps its rotation
-            j = int(rng.integers(n - 1))
-            j = j + 1 if j >= i else j
-            nets = np.union1d(prob.part_nets[i], prob.part_nets[j])
-            ov0 = st.overlap(i, j) + st.overlap(j, i) + st.pair_overlap(i, j)
-            bl0 = st.blocked(i) + st.blocked(j)
-            ri, rj = int(st.r[i]), int(st.r[j])
-            xi, yi = prob.clamp(i, st.x[j], st.y[j], ri)
-            xj, yj = prob.clamp(j, st.x[i], st.y[i], rj)
-            ovf0 = st.overflow
-            d_h, snap = st.change([(i, xi, yi, ri), (j, xj, yj, rj)], nets)
-            ov = st.overlap(i, j) + st.overlap(j, i) + st.pair_overlap(i, j)
-            bl = st.blocked(i) + st.blocked(j)
-        else:
-            nets = prob.part_nets[i]
-            ov0, bl0 = st.overlap(i), st.blocked(i)
-            if u < 0.2:                            # turn by 90, 180 or 270 degrees
-                r = (int(st.r[i]) + int(rng.integers(1, 4))) % 4
-                x, y = prob.clamp(i, st.x[i], st.y[i], r)
-            else:                                  # move within the window
-                r = int(st.r[i])
-                x, y = prob.clamp(i, st.x[i] + rng.uniform(-window, window),
-                                  st.y[i] + rng.uniform(-window, window), r)
-            ovf0 = st.overflow
-            d_h, snap = st.change([(i, x, y, r)], nets)
-            ov, bl = st.overlap(i), st.blocked(i)
-        delta = d_h + congestion_weight * (st.overflow - ovf0) + lam * ((ov - ov0) + (bl - bl0))
-        return delta, snap
+    def sweep(count, mode, temp, lam, window, ovf):
+        U = rng.random((count, 5))
+        return _sweep(U, mode, temp, lam, window, congestion_weight, X, Y, R, off, rect, half, bounds,
+                      pt_ptr, pt_idx, pn_ptr, pn_idx, t_off, tx, ty, tw, rows, net_box,
+                      demand, grid.x0, grid.y0, grid.cell, grid.capacity, ovf, prob.sat, prob.h,
+                      prob.rx0, prob.ry0, nets, mark)
 
-    # the starting temperature: the mean uphill step of a few random changes at the start
-    ups = []
-    for _ in range(min(200, 20 * n)):
-        d, snap = propose(lam_start)
-        if d > 0:
-            ups.append(d)
-        st.undo(snap)
-    t0 = float(np.mean(ups)) if ups else 1.0
-    t_end = t0 * 1e-4
-    alpha = (t_end / t0) ** (1.0 / (steps - 1))
+    # the starting temperature: the mean uphill change of random changes at the start
+    _, up_sum, up_n, ovf = sweep(min(400, 40 * n), 2, 1.0, lam_start, window, ovf)
+    t0 = up_sum / up_n if up_n else 1.0
+    alpha = 1e-4 ** (1.0 / (steps - 1))
     temp = t0
     for step in range(steps + 1):
         frac = min(step / (steps - 1), 1.0)
         lam = lam_start * (lam_end / lam_start) ** frac
-        greedy = step == steps
-        accepted = 0
-        for _ in range(per_step):
-            d, snap = propose(lam)
-            if d <= 0 or (not greedy and rng.random() < math.exp(-d / temp)):
-                accepted += 1
-            else:
-                st.undo(snap)
+        mode = 1 if step == steps else 0
+        accepted, _, _, ovf = sweep(per_step, mode, temp, lam, window, ovf)
         rate = accepted / per_step
-        # keep about 44 % of the changes accepted by the size of the move window (Lam's rule)
-        window = min(max(window * (0.6 + rate / 0.44 * 0.4), prob.board.rules.grid * 2), span / 2)
+        # keep about 44 % of the changes accepted by the size of the move window
+        window = min(max(window * (0.6 + rate / 0.44 * 0.4), min_window), span / 2)
         temp *= alpha
-    return np.stack([st.x, st.y], axis=1), st.r.copy()
+    return np.stack([X, Y], axis=1), R.copy()

@@ -25,8 +25,12 @@ from router.geometry import outline_polygon, part_rect
 from router.model import Board, Part
 from router.units import TOL, snap
 
-__all__ = ["ROTATIONS", "Site", "effective_gap", "site_for", "rect_offsets", "free_area",
-           "check_fits", "legalize"]
+__all__ = ["ROTATIONS", "Site", "effective_gap", "routing_gap", "site_for", "rect_offsets",
+           "free_area", "area_needed", "check_fits", "legalize", "ROOMY"]
+
+#: The wider routing gap is kept only while the parts grown by it need at most this share
+#: of the free area (common practice: leave room for detours where the board allows).
+ROOMY = 0.7
 
 ROTATIONS = (0, 90, 180, 270)
 # Search radii, in mm, before the whole board is searched.
@@ -45,6 +49,19 @@ def effective_gap(board: Board, gap: Optional[float]) -> float:
         raise PlacementError(board.source, "--gap", f"the gap must be a number of mm, 0 or more, not {g}")
     need = max(class_clearance_table(board).values(), default=0.0)
     return max(g, need)
+
+
+def routing_gap(board: Board, least: float) -> float:
+    """A gap with room for two traces between neighbouring parts, never below `least`.
+
+    Room for one trace of the widest class used by a net (width plus clearance on both
+    sides) plus one default-class track (width plus clearance).
+    """
+    used = {n.net_class for n in board.nets} or {"default"}
+    widest = max(board.classes[c].trace_width + 2 * board.classes[c].clearance
+                 for c in used if c in board.classes)
+    d = board.classes.get("default") or next(iter(board.classes.values()))
+    return max(least, widest + d.trace_width + d.clearance)
 
 
 def rect_offsets(board: Board, part: Part) -> np.ndarray:
@@ -149,15 +166,21 @@ def free_area(board: Board, gap: float, fixed: Sequence[Part]) -> tuple[float, f
     return room, free
 
 
+def area_needed(board: Board, gap: float, movable: Sequence[Part]) -> float:
+    """The area the parts need: each rectangle grown by half the gap on every side, mm^2."""
+    need = 0.0
+    for p in movable:
+        x0, y0, x1, y1 = part_rect(board, p, at=(0.0, 0.0), rotation=0)
+        need += (x1 - x0 + gap) * (y1 - y0 + gap)
+    return need
+
+
 def check_fits(board: Board, gap: float, movable: Sequence[Part], fixed: Sequence[Part]) -> None:
     """Raise :class:`PlacementError` when the parts to place need more area than is free.
 
     Each part needs its rectangle grown by half the gap on every side.
     """
-    need = 0.0
-    for p in movable:
-        x0, y0, x1, y1 = part_rect(board, p, at=(0.0, 0.0), rotation=0)
-        need += (x1 - x0 + gap) * (y1 - y0 + gap)
+    need = area_needed(board, gap, movable)
     room, free = free_area(board, gap, fixed)
     if need > free + TOL:
         raise PlacementError(
