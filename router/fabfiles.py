@@ -481,7 +481,8 @@ def _silk(board: Board, side: str, openings: list[_Opening]) -> str:
 
 def _outline(board: Board) -> str:
     g = _Gerber(f"{board.name}: board outline (profile)",
-                [_software(), ("Part", "Single"), ("FileFunction", "Profile,NP")])
+                [_software(), ("Part", "Single"), ("FileFunction", "Profile,NP"),
+                 ("FilePolarity", "Positive")])
     code = g.aperture("Profile", "C", PROFILE_WIDTH)
     pts = [tuple(map(float, p)) for p in board.outline]
     g.polyline(code, pts + [pts[0]])

@@ -7,8 +7,6 @@ place with its drill (plated and non-plated apart), the outline's extent; and co
 from the files passes our own check exactly as the board does.
 """
 import glob
-import math
-import os
 import re
 import warnings
 from collections import Counter
@@ -19,7 +17,7 @@ from hypothesis import given, settings, strategies as st
 from gerbonara import ExcellonFile, GerberFile
 from gerbonara.apertures import CircleAperture, ObroundAperture, RectangleAperture
 from gerbonara.graphic_objects import Flash, Line
-from shapely.geometry import LineString, Point as SPoint, Polygon, box
+from shapely.geometry import LineString, Point as SPoint, box
 from shapely.ops import polygonize, unary_union
 
 from router.boardfile import load_board, loads_board
@@ -271,7 +269,7 @@ def test_every_file_read_back(exported):
         polarity = g.file_attrs.get(".FilePolarity")
         if role.startswith("mask"):
             assert polarity == ("Negative",)     # the mask image is its openings (Gerber spec)
-        elif role != "outline":
+        else:
             assert polarity == ("Positive",)
         for obj in g.objects:                    # every aperture carries its function (X2)
             assert ".AperFunction" in dict(obj.aperture.attrs or ()), (role, obj)
