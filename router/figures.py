@@ -230,25 +230,40 @@ def rect_distance(a: Rect, b: Rect) -> float:
     return float(dx + dy)
 
 
+def _uncovered(spans: list[tuple[float, float]]) -> float:
+    """Length of the hull of closed intervals that none of them covers (the gaps between them)."""
+    spans = sorted(spans)
+    gap, reach = 0.0, spans[0][1]
+    for a, b in spans[1:]:
+        if a > reach:
+            gap += a - reach
+        reach = max(reach, b)
+    return gap
+
+
 def hpwl(rects: Sequence[Rect]) -> float:
-    """The half-perimeter bound of a set of rectangles: the span copper touching all must cover.
+    """The half-perimeter bound of a set of pad rectangles: the span the copper must cover.
 
-    Copper that touches every rectangle reaches x >= max of the left edges and x <= min of the
-    right edges, so its x-extent is at least ``max(0, max x0 - min x1)``; the same for y. A
-    connected set of axis-parallel segments is at least as long as its x-extent plus its
-    y-extent (project each segment on both axes). For points it is the half perimeter of
-    their bounding box.
+    Pads conduct, so copper may run into a pad and leave it elsewhere: what the traces must
+    cover in x is the part of the rectangles' x-hull that no rectangle's x-range covers (the
+    gaps between them), and the same in y. The union of the copper and the pads is connected,
+    so its projection on each axis is the whole hull; each trace segment is at least as long
+    as its projections, and the pads cover only their own ranges. For points (and for
+    rectangles with disjoint ranges and nothing between) this is the half perimeter of the
+    bounding box.
 
-    >>> hpwl([(0, 0, 1, 1), (3, 2, 4, 5)])
+    Examples
+    --------
+    >>> hpwl([(0, 0, 1, 1), (3, 2, 4, 5)])                       # gaps 2 and 1
     3.0
-    >>> hpwl([(0, 0, 0, 0), (3, 0, 3, 0), (1, 2, 1, 2)])
+    >>> hpwl([(0, 0, 0, 0), (3, 0, 3, 0), (1, 2, 1, 2)])         # the box of points: 3 + 2
     5.0
+    >>> hpwl([(0, 0, 1, 1), (2, 0, 8, 1), (9, 0, 10, 1)])        # the wide middle pad conducts
+    2.0
     """
     if len(rects) < 2:
         return 0.0
-    dx = max(r[0] for r in rects) - min(r[2] for r in rects)
-    dy = max(r[1] for r in rects) - min(r[3] for r in rects)
-    return float(max(0.0, dx) + max(0.0, dy))
+    return float(_uncovered([(r[0], r[2]) for r in rects]) + _uncovered([(r[1], r[3]) for r in rects]))
 
 
 def rmst_length(rects: Sequence[Rect]) -> float:
@@ -293,17 +308,19 @@ def length_lower_bound(rects: Sequence[Rect]) -> float:
 
     Notes
     -----
-    What it bounds: the length of any rectilinear tree (trace centre lines and jumper wires,
-    meeting at points and at via centres) that touches every rectangle. A trace may end
-    anywhere on a pad, so each pad counts as its whole bounding rectangle, not its centre; a
-    pad's true copper lies inside its rectangle, so distances between rectangles never exceed
-    the real ones and the bound stays valid.
+    What it bounds: the length of the trace centre lines and jumper wires (meeting at points
+    and at via centres) that, together with the pads themselves, join every pad. A trace may
+    end anywhere on a pad and a pad conducts, so each pad counts as its whole bounding
+    rectangle, not its centre, and copper may enter a pad at one side and leave at the other
+    for free; a pad's true copper lies inside its rectangle, so the bound stays valid.
 
-    Proof of the 2/3 term: a tree touching every rectangle touches rectangle i at some point
-    p_i, so it is a rectilinear Steiner tree of the points p_i and is at least RSMT(p) >=
-    2/3 RMST(p) [1]_. Every distance |p_i - p_j|_1 is at least the rectangles' distance, so
-    RMST(p) >= RMST(rects) (a minimum spanning tree's weight never falls when no edge weight
-    falls). The half-perimeter term: see :func:`hpwl`.
+    Proof of the 2/3 term: split the copper into its connected pieces C_1 .. C_m; piece k
+    touches a set S_k of rectangles, at one chosen point p_i each, so it is a rectilinear
+    Steiner tree of those points and length(C_k) >= RSMT(p) >= 2/3 RMST(p) [1]_ >= 2/3
+    RMST(S_k), because every |p_i - p_j|_1 is at least the rectangles' distance and a minimum
+    spanning tree never grows lighter when no edge does. Pieces and pads together are
+    connected, so the spanning trees of the S_k together connect all the rectangles and
+    RMST(all) <= sum of RMST(S_k). The half-perimeter term: see :func:`hpwl`.
 
     Copper that joins only through width (two parallel traces overlapping side by side, a
     via disc reaching a pad the trace centre line does not) can beat the bound by at most those

@@ -12,6 +12,8 @@ from pathlib import Path
 
 import networkx as nx
 import pytest
+from shapely.geometry import LineString, Point
+from shapely.ops import unary_union
 
 from router.boardfile import load_board, loads_board
 from router.check import check
@@ -30,17 +32,23 @@ BOARDS = sorted(glob.glob(str(ROOT / "boards" / "*.toml")))
 
 # ---------------------------------------------------------------- building test boards
 
-def make(pads, nets, traces=(), vias=(), jumpers=(), layers=2, pad_size=1.0, unplaced=()):
-    """A board of one-pad parts: `pads` ref -> (x, y) (a plated square pad of `pad_size`),
+def make(pads, nets, traces=(), vias=(), jumpers=(), layers=2, unplaced=()):
+    """A board of one-pad parts: `pads` ref -> (x, y) (a plated 1 mm square pad) or (x, y, w, h),
     `nets` name -> [refs], `traces` (net, layer, points), `vias` (net, at), `jumpers` (net, a, b)."""
-    out = ["format = 1", "[board]", 'name = "t"', "size = [40.0, 40.0]", f"copper_layers = {layers}",
-           "[footprints.pt]", "body = [0.2, 0.2]",
-           f'pads = [{{ pin = "1", at = [0.0, 0.0], shape = "rect", size = [{pad_size}, {pad_size}], '
-           f"drill = 0.4 }}]"]
-    for ref, (x, y) in pads.items():
-        out += ["[[parts]]", f'ref = "{ref}"', 'footprint = "pt"', f"at = [{x}, {y}]"]
+    out = ["format = 1", "[board]", 'name = "t"', "size = [40.0, 40.0]", f"copper_layers = {layers}"]
+    sizes = {}
+    for ref, spec in pads.items():
+        w, h = spec[2:] if len(spec) == 4 else (1.0, 1.0)
+        sizes.setdefault((w, h), f"pt{len(sizes)}")
+    sizes.setdefault((1.0, 1.0), f"pt{len(sizes)}")
+    for (w, h), name in sizes.items():
+        out += [f"[footprints.{name}]", "body = [0.2, 0.2]",
+                f'pads = [{{ pin = "1", at = [0.0, 0.0], shape = "rect", size = [{w}, {h}], drill = 0.4 }}]']
+    for ref, spec in pads.items():
+        w, h = spec[2:] if len(spec) == 4 else (1.0, 1.0)
+        out += ["[[parts]]", f'ref = "{ref}"', f'footprint = "{sizes[(w, h)]}"', f"at = [{spec[0]}, {spec[1]}]"]
     for ref in unplaced:
-        out += ["[[parts]]", f'ref = "{ref}"', 'footprint = "pt"']
+        out += ["[[parts]]", f'ref = "{ref}"', f'footprint = "{sizes[(1.0, 1.0)]}"']
     for name, refs in nets.items():
         out += ["[[nets]]", f'name = "{name}"', "pins = [" + ", ".join(f'"{r}.1"' for r in refs) + "]"]
     for net, layer, pts in traces:
@@ -408,11 +416,53 @@ def test_rmst_against_networkx(seed):
         assert rmst_length(rects) == pytest.approx(ref, abs=1e-9)
 
 
+def _gaps_shapely(rects, axis):
+    """Reference for the half-perimeter term: the hull of the pads' ranges on one axis less their
+    union, measured with shapely on lines along that axis (shapely)."""
+    lines = [LineString([(r[axis], 0), (r[axis + 2], 0)]) if r[axis + 2] > r[axis] else Point(r[axis], 0)
+             for r in rects]
+    lo, hi = min(r[axis] for r in rects), max(r[axis + 2] for r in rects)
+    return (hi - lo) - unary_union(lines).length
+
+
+@pytest.mark.parametrize("seed", range(20))
+def test_hpwl_against_shapely(seed):
+    rng = random.Random(500 + seed)
+    rects = _random_rects(rng, rng.randint(2, 10))
+    assert hpwl(rects) == pytest.approx(_gaps_shapely(rects, 0) + _gaps_shapely(rects, 1), abs=1e-9)
+
+
+def test_copper_through_a_pad_stays_above_the_bound():
+    # pads conduct: A (5, 5), a 10 mm wide pad M centred at (15, 5), B at (25, 5); two traces
+    # A -> M's left end and M's right end -> B, 4.5 + 4.5 mm (hand computed), are routed copper.
+    # The span between A's and B's rectangles is 19 mm, so a bound that ignored the pad would
+    # lie above the copper; the gaps between the three pads are 4.5 + 4.5 = 9 mm.
+    pads = {"PA": (5.0, 5.0), "PM": (15.0, 5.0, 10.0, 1.0), "PB": (25.0, 5.0)}
+    b = make(pads, {"A": ["PA", "PM", "PB"]},
+             [("A", "top", [(5.5, 5), (10, 5)]), ("A", "top", [(20, 5), (24.5, 5)])])
+    f = net_figs(b)
+    assert f["routed"] and f["length"] == 9.0
+    assert f["length_lower_bound"] == pytest.approx(9.0)
+    assert f["length_lower_bound"] <= f["length"]
+
+
+def test_router_output_stays_above_the_bounds(tmp_path):
+    # every net the router joins is at least as long as its bound (route, then report the file)
+    pytest.importorskip("router.negotiate")
+    out = tmp_path / "r.toml"
+    assert main(["route", str(ROOT / "boards" / "starter-blinker.toml"), "-o", str(out), "-q"]) == 0
+    for n in board_figures(load_board(out))["nets"]:
+        assert n["routed"]
+        assert n["length"] + n["jumper_length"] >= n["length_lower_bound"] - 1e-6, n["name"]
+
+
 def test_hpwl_hand_computed():
     # points: half perimeter of the bounding box (common practice)
     assert hpwl([(1, 2, 1, 2), (4, 7, 4, 7), (3, 0, 3, 0)]) == 3 + 7
     # rectangles overlapping in x span nothing in x
     assert hpwl([(0, 0, 2, 1), (1, 5, 3, 6)]) == 0 + 4
+    # a pad between two others covers part of the span: gaps 1 + 2 in x, hand computed
+    assert hpwl([(0, 0, 1, 1), (2, 0, 5, 1), (7, 0, 8, 1)]) == 3
     assert hpwl([(0, 0, 1, 1)]) == 0.0 and hpwl([]) == 0.0
 
 
@@ -485,8 +535,7 @@ def test_example_boards_unrouted(path):
             g.add_edge(i, j, weight=max(0.0, max(a[0], c[0]) - min(a[2], c[2]))
                        + max(0.0, max(a[1], c[1]) - min(a[3], c[3])))
         mst = nx.minimum_spanning_tree(g).size(weight="weight")
-        xs = max(0.0, max(r[0] for r in rects) - min(r[2] for r in rects))
-        ys = max(0.0, max(r[1] for r in rects) - min(r[3] for r in rects))
+        xs, ys = _gaps_shapely(rects, 0), _gaps_shapely(rects, 1)
         assert n["length_lower_bound"] == pytest.approx(max(xs + ys, 2 * mst / 3), abs=1e-6)
         assert n["bends_lower_bound"] == 0
     t = figs["totals"]
