@@ -273,8 +273,7 @@ def board_figure(board: Board, violations: Optional[Sequence] = None, dpi: float
         bw, bh = bx1 - bx0, by1 - by0
         fs = min(9.0, max(3.5, 0.45 * min(max(bw, bh) / max(len(part.ref), 1) * 1.6, min(bw, bh)) * pt_per_mm))
         ax.text(part.at[0], part.at[1], part.ref, fontsize=fs, ha="center", va="center",
-                rotation=90 if bh > bw * 1.5 else 0, color=STYLE["body"], zorder=10, gid=f"ref-{part.ref}",
-                bbox=dict(boxstyle="square,pad=0.1", facecolor=STYLE["board"], edgecolor="none", alpha=0.75))
+                rotation=90 if bh > bw * 1.5 else 0, color=STYLE["body"], zorder=10, gid=f"ref-{part.ref}")
 
     # copper by layer: bottom first, then top over it
     pads = placed_pads(board)
@@ -305,7 +304,7 @@ def board_figure(board: Board, violations: Optional[Sequence] = None, dpi: float
         pc = PatchCollection(_patches(ends), facecolor=STYLE["through_pad"], edgecolor="none", zorder=5)
         ax.add_collection(pc)
         lc = LineCollection([[j.start, j.end] for j in board.jumpers], colors=STYLE["jumper"],
-                            linewidths=2.2, capstyle="round", zorder=8)
+                            linewidths=2.2, capstyle="round", zorder=6.5)
         lc.set_gid("jumpers")
         ax.add_collection(lc)
 
@@ -516,7 +515,9 @@ def compare_figure(comp, dpi: float = 150):
     xs = list(range(n))
     for ax, key in zip(axes, _KEYS):
         vals = [float(t.get(key) or 0.0) for _, t in rows]
-        bars = ax.bar(xs, vals, color=colours[key], edgecolor=OKABE_ITO["black"], linewidth=0.5, gid=f"bars-{key}")
+        bars = ax.bar(xs, vals, color=colours[key], edgecolor=OKABE_ITO["black"], linewidth=0.5)
+        for i, b in enumerate(bars):
+            b.set_gid(f"bar-{key}-{i + 1}")
         bound = f"{key}_lower_bound"
         lbs = [(x, float(t[bound])) for x, (_, t) in zip(xs, rows) if t.get(bound) is not None]
         if lbs:
