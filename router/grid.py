@@ -250,7 +250,7 @@ class RoutingGrid:
             if soft and ob.kind == "copper" and ob.radius > 0 and ob.box[0] == ob.box[2] and ob.box[1] == ob.box[3]:
                 # a via or jumper end of another net: its hole keeps min_hole_spacing too
                 drill = self.jump_drill if self.one_layer else self.via_drill
-                need = max(need, drill + self.rules.min_hole_spacing)
+                need = max(need, drill + self.rules.min_hole_spacing + 2 * self.jump_slack)
             self._stamp_points(ob.box, need, sign, vm)
 
     def _stamp_points(self, box: Box, need: float, sign: int, arr2d: np.ndarray) -> None:
@@ -344,7 +344,7 @@ class RoutingGrid:
             bad, _, _ = self._poly_block(Polygon(ko.polygon), half)
             okv &= ~bad
         blockv = np.zeros((ny, nx), np.int32)
-        spacing = self.rules.min_hole_spacing
+        spacing = self.rules.min_hole_spacing + self.jump_slack     # a jumper's far end sits up to the slack off its grid point
         for pad in self.pads:
             core, rad = pad_core(pad)
             self._stamp_points(box_of_core(core), rad + half, 1, blockv)

@@ -339,7 +339,7 @@ def _write(b: Board, grid: RoutingGrid, neg: _Negotiation, order: list[str]) -> 
         for l in sorted(per_layer):
             segs = trim_dangling(per_layer[l], anchored)
             for pts in polylines(segs):
-                b.traces.append(Trace(net, grid.layers[l], width, [[x, y] for x, y in pts]))
+                b.traces.append(Trace(net, grid.layers[l], width, [(x, y) for x, y in pts]))
         for at in r.via_points(grid):
             b.vias.append(Via(net, (at[0], at[1]), grid.via_drill, grid.via_d))
         for a, e in r.jumpers:

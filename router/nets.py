@@ -133,7 +133,7 @@ def terminals(grid: RoutingGrid, space: SearchSpace, net: str, pad_groups: list[
 def _block_hole(grid: RoutingGrid, space: SearchSpace, at, drill: float) -> None:
     """No other via or jumper end of this net within hole spacing of a new hole at `at`."""
     own = grid.jump_drill if grid.one_layer else grid.via_drill
-    need = drill / 2 + own / 2 + grid.rules.min_hole_spacing
+    need = drill / 2 + own / 2 + grid.rules.min_hole_spacing + grid.jump_slack
     arr = np.zeros((grid.ny, grid.nx), np.int32)
     grid._stamp_points((at[0], at[1], at[0], at[1]), need, 1, arr)
     if grid.one_layer:
@@ -142,13 +142,67 @@ def _block_hole(grid: RoutingGrid, space: SearchSpace, at, drill: float) -> None
         space.via_ok = np.ascontiguousarray((space.via_ok.astype(bool) & (arr == 0)).astype(np.uint8))
 
 
+def _path_holes(grid: RoutingGrid, cells: np.ndarray) -> list:
+    """The holes a path would drill, in order: ((j, i) of the grid point, (x, y) of the hole)."""
+    out = []
+    g = grid.pitch
+    for k in range(1, len(cells)):
+        p, c = cells[k - 1], cells[k]
+        if p[0] != c[0]:
+            out.append(((int(c[1]), int(c[2])), grid.point(int(c[1]), int(c[2]))))
+            continue
+        dist = abs(int(p[1]) - int(c[1])) + abs(int(p[2]) - int(c[2]))
+        if dist > 1:
+            m = _k_to_m(g)[dist]
+            a = grid.point(int(p[1]), int(p[2]))
+            ux = (int(c[2]) - int(p[2])) / dist
+            uy = (int(c[1]) - int(p[1])) / dist
+            end = (round(a[0] + ux * m * JUMP_PITCH, 6), round(a[1] + uy * m * JUMP_PITCH, 6))
+            out.append(((int(p[1]), int(p[2])), a))
+            out.append(((int(c[1]), int(c[2])), end))
+    return out
+
+
+def _hole_clash(grid: RoutingGrid, cells: np.ndarray):
+    """The grid point of the first hole of a path closer than min_hole_spacing to an earlier one."""
+    drill = grid.jump_drill if grid.one_layer else grid.via_drill
+    need = drill + grid.rules.min_hole_spacing - TOL
+    holes = _path_holes(grid, cells)
+    for k in range(1, len(holes)):
+        for q in range(k):
+            if math.dist(holes[k][1], holes[q][1]) < need:
+                return holes[k][0]
+    if grid.one_layer:
+        # jumper wires of one path may not cross each other either (holes come in pairs per jumper)
+        wires = [(holes[k][1], holes[k + 1][1], holes[k][0]) for k in range(0, len(holes) - 1, 2)]
+        for k in range(1, len(wires)):
+            for q in range(k):
+                if _wires_cross(wires[k][:2], wires[q][:2]):
+                    return wires[k][2]
+    return None
+
+
+def _wires_cross(a, b) -> bool:
+    """True when two axis-parallel wires share a point (touching counts: one wire may not rest on another)."""
+    ax0, ax1 = sorted((a[0][0], a[1][0]))
+    ay0, ay1 = sorted((a[0][1], a[1][1]))
+    bx0, bx1 = sorted((b[0][0], b[1][0]))
+    by0, by1 = sorted((b[0][1], b[1][1]))
+    return ax0 <= bx1 + TOL and bx0 <= ax1 + TOL and ay0 <= by1 + TOL and by0 <= ay1 + TOL
+
+
+def _k_to_m(g: float) -> dict:
+    k_to_m = {}
+    for m in range(1, 64):
+        k_to_m.setdefault(int(round(m * JUMP_PITCH / g)), m)
+    return k_to_m
+
+
 def _lay_path(grid: RoutingGrid, space: SearchSpace, route: NetRoute, cells: np.ndarray) -> list:
     """Turn a found path into edges, vias and jumpers; returns the new tree cells."""
     new = []
     g = grid.pitch
-    k_to_m = {}
-    for m in range(1, 64):
-        k_to_m.setdefault(int(round(m * JUMP_PITCH / g)), m)
+    k_to_m = _k_to_m(g)
     for k in range(len(cells)):
         c = tuple(int(v) for v in cells[k])
         new.append(c)
@@ -230,7 +284,19 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
                 owner.setdefault(c, k)
         targets = np.array(sorted(owner), dtype=np.int64)
         sources = np.array(sorted(tree), dtype=np.int64)
-        path = find_path(space, sources, targets, bend=bend, via=via, jump=jump)
+        path = None
+        for _ in range(32):
+            path = find_path(space, sources, targets, bend=bend, via=via, jump=jump)
+            if path is None:
+                break
+            clash = _hole_clash(grid, path.cells)
+            if clash is None:
+                break
+            j, i = clash                     # a hole of this path too near an earlier one: not there
+            if grid.one_layer:
+                space.jump_ok[j, i] = 0
+            else:
+                space.via_ok[j, i] = 0
         if path is None:
             names = ", ".join(terms[k].name for k in left[:3]) + (" ..." if len(left) > 3 else "")
             route.failed = f"no way from {terms[first].name} to {names} past the other copper"

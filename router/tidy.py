@@ -113,5 +113,5 @@ def net_traces(net: str, layer_segments: dict, width: float) -> list[Trace]:
     out = []
     for layer in sorted(layer_segments):
         for pts in polylines(layer_segments[layer]):
-            out.append(Trace(net, layer, width, [list(p) for p in pts]))
+            out.append(Trace(net, layer, width, [tuple(p) for p in pts]))
     return out
