@@ -345,6 +345,9 @@ def board_figure(board: Board, violations: Optional[Sequence] = None, dpi: float
     # title and legend
     n_routed = sum(1 for n in board.nets if len(groups.get(n.name, [])) <= 1)
     title = f"{board.name}: {n_routed} of {len(board.nets)} nets routed"
+    n_unplaced = sum(1 for p in board.parts if p.at is None)
+    if n_unplaced:
+        title += f", {n_unplaced} part{'s' if n_unplaced != 1 else ''} not placed"
     if violations is not None:
         unplaced = len(violations) - len(placed_v)
         title += f", {len(violations)} violation{'s' if len(violations) != 1 else ''}"

@@ -251,7 +251,7 @@ def _svg(board: Board, violations: Optional[Sequence], groups: dict) -> tuple[st
         for part in placed:
             bx0, by0, bx1, by1 = body_rect(board, part)
             bw, bh = bx1 - bx0, by1 - by0
-            fs = max(0.5, min(2.5, 0.45 * min(max(bw, bh) / max(len(part.ref), 1) * 1.6, min(bw, bh))))
+            fs = max(0.4, min(1.6, 0.45 * min(max(bw, bh) / max(len(part.ref), 1) * 1.6, min(bw, bh))))
             rot = f' transform="rotate(-90 {_n(part.at[0])} {_n(-part.at[1])})"' if bh > bw * 1.5 else ""
             out.append(f'<text x="{_n(part.at[0])}" y="{_n(-part.at[1])}" font-size="{_n(fs)}" '
                        f'text-anchor="middle" dominant-baseline="central" fill="{STYLE["body"]}"{rot}>'
