@@ -292,17 +292,71 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
         if net in neg.routes and neg.routes[net].failed:
             out.append(net)
             neg.rip(net)
+    lost: dict[str, str] = {}
     for net in [n for n in order if n in set(out)]:
         r = neg.route(net, strict=True)
         if r.failed:
-            failed[net] = r.failed
+            lost[net] = r.failed
         else:
             neg.lay(net, r)
+    if lost:
+        _repair(neg, lost, rounds=4 * len(lost) + 8)
+    failed.update(lost)
     _write(b, grid, neg, order)
     _settle(b, board, failed, order)
     result = RouteResult(b, _figures(b), {n: failed[n] for n in [m.name for m in b.nets] if n in failed},
                          time.perf_counter() - t0, npass, shared_left)
     return result
+
+
+def _repair(neg: _Negotiation, lost: dict, rounds: int) -> None:
+    """Rip-up and reroute for the nets still unrouted: each takes its way through the others
+    (at congestion cost), the nets it then shares cells with are ripped up and rerouted with
+    walls, and whatever fails queues up again. The best state seen (fewest unrouted) is kept."""
+    def snapshot():
+        return dict(neg.routes), dict(lost)
+
+    best = (len(lost), snapshot())
+    queue = list(lost)
+    hopeless = set()
+    for _ in range(rounds):
+        if not queue:
+            break
+        net = queue.pop(0)
+        if net not in lost:
+            continue
+        r = neg.route(net)
+        if r.failed:
+            hopeless.add(net)
+            continue
+        neg.lay(net, r)
+        del lost[net]
+        shared, _ = neg.conflicts()
+        victims = [n for n in sorted(shared) if n != net]
+        for v in victims:
+            neg.rip(v)
+        for v in victims:
+            rv = neg.route(v, strict=True)
+            if rv.failed:
+                lost[v] = rv.failed
+                queue.append(v)
+            else:
+                neg.lay(v, rv)
+        shared, _ = neg.conflicts()
+        if shared:                       # the net itself still shares: take it out again
+            neg.rip(net)
+            lost[net] = r.failed or "no way past the other nets after rip-up and reroute"
+            queue.append(net)
+        if len(lost) < best[0]:
+            best = (len(lost), snapshot())
+    if len(lost) > best[0]:
+        routes, was_lost = best[1]
+        for n in list(neg.routes):
+            neg.rip(n)
+        for n in sorted(routes, key=lambda n: neg.nets.index(n)):
+            neg.lay(n, routes[n])
+        lost.clear()
+        lost.update(was_lost)
 
 
 def _anchor_test(grid: RoutingGrid, net: str, r: NetRoute):

@@ -292,6 +292,7 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
             clash = _hole_clash(grid, path.cells)
             if clash is None:
                 break
+            path = None
             j, i = clash                     # a hole of this path too near an earlier one: not there
             if grid.one_layer:
                 space.jump_ok[j, i] = 0

@@ -314,6 +314,8 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, jump_ok, wire_rows, wire_co
             else:
                 if jump_cells.shape[0] == 0 or jump_ok[j, i] == 0:
                     continue
+                if d == 4 and g > 0:
+                    continue        # no jumper straight off another: the two holes would meet
                 nk = jump_cells.shape[0] * 4
                 nl = l
             for q in range(nk):
@@ -524,7 +526,7 @@ def reference_graph(space: SearchSpace, sources, targets, *, bend: int, via: int
                         G.add_edge(u, (l, nj, ni, nd), weight=w)
                     if L == 2 and space.via_ok[j, i] and cell_open(1 - l, j, i):
                         G.add_edge(u, (1 - l, j, i, NONE), weight=via + int(space.extra[1 - l, j, i]))
-                    if jump_cells and space.jump_ok[j, i]:
+                    if jump_cells and space.jump_ok[j, i] and d != NONE:
                         for k in jump_cells:
                             for nd in range(4):
                                 ni, nj = i + k * int(_DI[nd]), j + k * int(_DJ[nd])
@@ -539,8 +541,26 @@ def reference_graph(space: SearchSpace, sources, targets, *, bend: int, via: int
                                         continue
                                 G.add_edge(u, (l, nj, ni, NONE),
                                            weight=jump + step * k + int(space.extra[l, nj, ni]))
+    # a source state: like NONE, and a jumper may leave it (a jumper may not leave a jumper's landing)
     for (l, j, i) in np.asarray(sources).reshape(-1, 3):
-        G.add_edge("S", (int(l), int(j), int(i), NONE), weight=0)
+        l, j, i = int(l), int(j), int(i)
+        src = (l, j, i, "src")
+        G.add_edge("S", src, weight=0)
+        for _, v, w in list(G.out_edges((l, j, i, NONE), data="weight")):
+            G.add_edge(src, v, weight=w)
+        if jump_cells and space.jump_ok[j, i]:
+            for k in jump_cells:
+                for nd in range(4):
+                    ni, nj = i + k * int(_DI[nd]), j + k * int(_DJ[nd])
+                    if not cell_open(l, nj, ni) or not space.jump_ok[nj, ni]:
+                        continue
+                    if wire is not None:
+                        span = wire[j, min(i, ni):max(i, ni) + 1] if nd in (0, 2) else wire[min(j, nj):max(j, nj) + 1, i]
+                        if span.any():
+                            continue
+                    G.add_edge(src, (l, nj, ni, NONE), weight=jump + step * k + int(space.extra[l, nj, ni]))
+        if any(int(t[0]) == l and int(t[1]) == j and int(t[2]) == i for t in np.asarray(targets).reshape(-1, 3)):
+            G.add_edge(src, "T", weight=0)
     for (l, j, i) in np.asarray(targets).reshape(-1, 3):
         for d in range(NDIR):
             G.add_edge((int(l), int(j), int(i), d), "T", weight=0)

@@ -85,6 +85,17 @@ def test_jumper_hops_over_a_wall_on_one_layer():
     assert find_path(sp2, [(0, 1, 0)], [(0, 1, 4)], bend=1, via=0, jump=500) is None
 
 
+def test_no_jumper_straight_off_another():
+    """Two jumpers back to back would put two holes on one point: the search needs a step between."""
+    ok = dict(jump_ok=np.ones((1, 5), np.uint8), wire_block=np.zeros((1, 5), np.uint8),
+              jump_cells=np.array([2], np.int64))
+    assert find_path(space_from([".#.#."], **ok), [(0, 0, 0)], [(0, 0, 4)], bend=1, via=0, jump=500) is None
+    ok6 = dict(jump_ok=np.ones((1, 6), np.uint8), wire_block=np.zeros((1, 6), np.uint8),
+               jump_cells=np.array([2], np.int64))
+    p = find_path(space_from([".#..#."], **ok6), [(0, 0, 0)], [(0, 0, 5)], bend=1, via=0, jump=500)
+    assert p.jumpers == 2 and p.cost == 5 * STEP + 2 * 500
+
+
 def test_path_cost_agrees_with_search():
     rng = np.random.default_rng(5)
     sp = random_space(rng, 2, 12, 15)

@@ -1,0 +1,73 @@
+"""Route generated boards of growing size; completion, exact-check violations, bends and seconds.
+
+Usage: python scripts/bench_route.py [--quick] [--layers 2] [--seeds 1]
+
+For each board: nets, grid cells (layers x nx x ny), nets routed, violations found by
+the independent exact check (router.check, shapely geometry, not the router's grid),
+bends against the per-net path bound (a two-pad net on one layer that shares no x or y
+range must bend at least once), length against the length lower bound, seconds, and
+seconds per million (nets x cells) as a ratio to the smallest board of the same run:
+near 1 everywhere means time grows linearly in nets x cells.
+"""
+from __future__ import annotations
+
+import argparse
+import sys
+import time
+from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
+
+from router.boardgen import generate_board  # noqa: E402
+from router.check import check  # noqa: E402
+from router.negotiate import route_board  # noqa: E402
+
+SIZES = [  # nets, board size in mm
+    (10, (30.0, 25.0)),
+    (25, (45.0, 35.0)),
+    (50, (60.0, 45.0)),
+    (80, (80.0, 60.0)),
+    (120, (100.0, 80.0)),
+    (200, (100.0, 80.0)),
+]
+
+
+def main(argv=None) -> int:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--quick", action="store_true", help="only the three smallest sizes")
+    ap.add_argument("--layers", type=int, default=2, choices=(1, 2))
+    ap.add_argument("--seeds", type=int, default=1, help="boards per size")
+    ap.add_argument("--offgrid", action="store_true", help="parts off the routing grid")
+    args = ap.parse_args(argv)
+    sizes = SIZES[:3] if args.quick else SIZES
+    print(f"{'nets':>5} {'size mm':>11} {'cells':>9} {'routed':>8} {'viol':>5} {'bends':>6} {'b.bound':>7} "
+          f"{'len/bound':>9} {'passes':>6} {'seconds':>8} {'s/(n*c) ratio':>13}")
+    route_board(generate_board(99, nets=5, size=(20.0, 15.0), layers=args.layers))   # compile and load the kernel first
+    ref = None
+    worst = 0
+    for nets, size in sizes:
+        for seed in range(args.seeds):
+            b = generate_board(seed, nets=nets, size=size, layers=args.layers, offgrid=args.offgrid,
+                               max_pins=4)
+            g = b.rules.grid
+            cells = args.layers * (int(size[0] / g) + 1) * (int(size[1] / g) + 1)
+            t0 = time.perf_counter()
+            r = route_board(b, seed=seed)
+            dt = time.perf_counter() - t0
+            viol = [v for v in check(r.board) if v.rule not in ("open",)]
+            t = r.figures["totals"]
+            bound = sum(n.get("bends_lower_bound_path") or 0 for n in r.figures["nets"])
+            per = dt / (len(b.nets) * cells) * 1e6
+            ref = per if ref is None else ref
+            worst += len(viol) + (t["nets"] - t["routed"])
+            lr = t["length"] / t["length_lower_bound"] if t["length_lower_bound"] else float("nan")
+            print(f"{len(b.nets):>5} {size[0]:>5.0f}x{size[1]:<5.0f} {cells:>9} {t['routed']:>4}/{t['nets']:<3} "
+                  f"{len(viol):>5} {t['bends']:>6} {bound:>7} {lr:>9.3f} {r.passes:>6} {dt:>8.2f} {per / ref:>13.2f}",
+                  flush=True)
+            for net, why in r.failed.items():
+                print(f"      not routed: {net}: {why}")
+    return 0 if worst == 0 else 1
+
+
+if __name__ == "__main__":
+    sys.exit(main())
