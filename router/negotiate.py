@@ -116,6 +116,8 @@ class _Negotiation:
         grid = self.grid
         items = grid.soft_items(net, self.merged_segments(r), r.via_points(grid), r.jumpers)
         grid.add_soft(items, +1)
+        for a, b in r.jumpers:
+            grid.add_wire(a, b, +1)
         self.routes[net] = r
         self.soft[net] = items
 
@@ -193,7 +195,7 @@ def _hpwl(pads) -> float:
 
 def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty: Optional[float] = None,
                 seed: int = 0, reroute: bool = False, progress: bool = False, passes: Optional[int] = None,
-                jumper_penalty: Optional[float] = None) -> RouteResult:
+                jumper_penalty: Optional[float] = None, polish: bool = True) -> RouteResult:
     """Route every net of `board` not yet routed; the input board is not changed.
 
     Parameters
@@ -211,6 +213,10 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
         Show a progress bar (passes and nets) on stderr.
     passes : int, optional
         Most negotiation passes (default :data:`DEFAULT_PASSES`).
+    polish : bool
+        When the routing is legal, route each net once more with the others as walls and
+        no congestion costs, and keep the new route where it is cheaper: this takes out
+        the detours and jogs that congestion forced on a net and that are no longer needed.
 
     Returns
     -------
@@ -302,11 +308,39 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
     if lost:
         _repair(neg, lost, rounds=4 * len(lost) + 8)
     failed.update(lost)
+    if polish:
+        _polish(neg, order)
     _write(b, grid, neg, order)
     _settle(b, board, failed, order)
     result = RouteResult(b, _figures(b), {n: failed[n] for n in [m.name for m in b.nets] if n in failed},
                          time.perf_counter() - t0, npass, shared_left)
     return result
+
+
+def _pure_cost(neg: _Negotiation, r: NetRoute) -> int:
+    """A route's cost without congestion: steps, bends (corners of two unit steps, not at a via), vias, jumpers."""
+    inc = defaultdict(list)
+    for a, c in r.edges:
+        d = (c[1] - a[1], c[2] - a[2])
+        inc[a].append(d)
+        inc[c].append(d)
+    vias = set(r.vias)
+    bends = sum(1 for p, ds in inc.items() if len(ds) == 2 and ds[0] != ds[1] and (p[1], p[2]) not in vias)
+    jump_len = sum(abs(a[0] - b[0]) + abs(a[1] - b[1]) for a, b in r.jumpers) / neg.grid.pitch
+    return (STEP * len(r.edges) + neg.bend * bends + neg.via * len(r.vias) + neg.jump * len(r.jumpers)
+            + int(STEP * jump_len))
+
+
+def _polish(neg: _Negotiation, order: list[str]) -> None:
+    """Each routed net once more, alone against walls: keep the cheaper of the two routes."""
+    for net in order:
+        old = neg.routes.get(net)
+        if old is None or old.failed:
+            continue
+        neg.rip(net)
+        new = neg.route(net, strict=True)
+        keep = new if (not new.failed and _pure_cost(neg, new) < _pure_cost(neg, old)) else old
+        neg.lay(net, keep)
 
 
 def _repair(neg: _Negotiation, lost: dict, rounds: int) -> None:

@@ -230,7 +230,6 @@ def _lay_path(grid: RoutingGrid, space: SearchSpace, route: NetRoute, cells: np.
         route.jumpers.append((a, end))
         if end != b:
             route.stubs.append((b, end, c[0]))
-        grid.add_wire(a, end, +1)
         if space.wire_block is not None:
             sj, si = grid.wire_cells(a, end)
             space.wire_block[sj, si] = 1
