@@ -138,6 +138,10 @@ class _Negotiation:
             e = self.present * STEP * grid.soft_cell[k].astype(np.float64) + self.hist
             extra = np.minimum(e, 2**24).astype(np.int32)
         space = grid.space_for(net, extra, soft_block=strict, own=self.own[net])
+        if not strict:
+            # a via or jumper end near other nets' copper is priced like a shared cell
+            he = self.present * STEP * grid.soft_via[k].astype(np.float64) + self.hist.max(axis=0)
+            space.hole_extra = np.ascontiguousarray(np.minimum(he, 2**24).astype(np.int32))
         if strict:
             blocked = grid.soft_cell[k] > 0
             space.open_cell = np.ascontiguousarray(space.open_cell & ~blocked).astype(np.uint8)

@@ -61,6 +61,9 @@ class SearchSpace:
         One-layer boards: where a jumper end may stand, and where a jumper wire may not pass.
     jump_cells : int64 array [K] or None
         Allowed jumper lengths in whole cells.
+    hole_extra : int32 array [ny, nx] or None
+        Non-negative cost of drilling a hole at a cell: added for a via there, and for
+        each end of a jumper (the negotiated-congestion price of a via or jumper end).
     """
     open_cell: np.ndarray
     open_h: np.ndarray
@@ -70,6 +73,7 @@ class SearchSpace:
     jump_ok: Optional[np.ndarray] = None
     wire_block: Optional[np.ndarray] = None
     jump_cells: Optional[np.ndarray] = None
+    hole_extra: Optional[np.ndarray] = None
     _wire_rows: Optional[np.ndarray] = field(default=None, repr=False, compare=False)
     _wire_cols: Optional[np.ndarray] = field(default=None, repr=False, compare=False)
 
@@ -87,6 +91,13 @@ class SearchSpace:
         self.open_v = np.ascontiguousarray(self.open_v, dtype=np.uint8)
         self.via_ok = np.ascontiguousarray(self.via_ok, dtype=np.uint8)
         self.extra = np.ascontiguousarray(self.extra, dtype=np.int32)
+        if self.hole_extra is None:
+            self.hole_extra = np.zeros((ny, nx), dtype=np.int32)
+        if self.hole_extra.shape != (ny, nx):
+            raise ValueError(f"hole_extra has shape {self.hole_extra.shape}, expected {(ny, nx)}")
+        if self.hole_extra.min(initial=0) < 0:
+            raise ValueError("hole costs must be non-negative (A* needs them so)")
+        self.hole_extra = np.ascontiguousarray(self.hole_extra, dtype=np.int32)
 
     @property
     def shape(self) -> tuple[int, int, int]:
@@ -212,7 +223,7 @@ def _heuristic(l, j, i, d, tx0, ty0, tx1, ty1, tlayer, step, turn, via_need_cost
 
 
 @njit(cache=True)
-def _astar(open_cell, open_h, open_v, via_ok, extra, jump_ok, wire_rows, wire_cols, jump_cells,
+def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_rows, wire_cols, jump_cells,
            sources, tmask, tx0, ty0, tx1, ty1, tlayer, step, bend, via, jump,
            stamp_of, gbest, parent, stamp, head, ent_state, ent_g, ent_next):
     """Dial's bucket queue over integer f = g + h; returns (end state or -1 or -2 when the pool is full, expanded)."""
@@ -308,7 +319,7 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, jump_ok, wire_rows, wire_co
                 nj = j
                 if open_cell[nl, j, i] == 0:
                     continue
-                ng = g + via + extra[nl, j, i]
+                ng = g + via + extra[nl, j, i] + hole_extra[j, i]
                 ndir = 4
                 nk = 1
             else:
@@ -338,7 +349,7 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, jump_ok, wire_rows, wire_co
                         hi = nj if j < nj else j
                         if wire_cols[hi + 1, i] - wire_cols[lo, i] != 0:
                             continue
-                    ng = g + jump + step * k + extra[l, nj, ni]
+                    ng = g + jump + step * k + extra[l, nj, ni] + hole_extra[j, i] + hole_extra[nj, ni]
                     ndir = 4
                 t = ((nl * ny + nj) * nx + ni) * 5 + ndir
                 if stamp_of[t] != stamp or ng < gbest[t]:
@@ -420,13 +431,14 @@ def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump
     ws = _workspace(L * ny * nx * NDIR)
     # the largest rise of f = g + h in one move bounds the live keys to one window of buckets
     kmax = int(jump_cells.max()) if len(jump_cells) else 1
-    max_extra = int(space.extra.max(initial=0))
+    max_extra = int(space.extra.max(initial=0)) + 2 * int(space.hole_extra.max(initial=0))
     span = (max(step + bend, via, jump + step * kmax) + max_extra) + step * kmax + 2 * max(bend, via, jump) + via
     span += step * (nx + ny) + 2 * max(bend, via, jump)     # spread of the sources' keys
     head = ws.buckets(span)
     while True:
         stamp = ws.next_stamp()
         end, expanded = _astar(space.open_cell, space.open_h, space.open_v, space.via_ok, space.extra,
+                               space.hole_extra,
                                jump_ok, wire_rows, wire_cols, jump_cells, src, tmask, tx0, ty0, tx1, ty1,
                                tlayer, int(step), int(bend), int(via), int(jump),
                                ws.stamp_of, ws.g, ws.parent, stamp, head, ws.ent_state, ws.ent_g, ws.ent_next)
@@ -470,12 +482,12 @@ def path_cost(space: SearchSpace, cells, *, bend: int, via: int, jump: int = 0, 
         (l0, j0, i0), (l1, j1, i1) = cells[k - 1], cells[k]
         cost += int(space.extra[l1, j1, i1])
         if l0 != l1:
-            cost += via
+            cost += via + int(space.hole_extra[j1, i1])
             d_prev = NONE
             continue
         dist = abs(j1 - j0) + abs(i1 - i0)
         if dist > 1:
-            cost += jump + step * dist
+            cost += jump + step * dist + int(space.hole_extra[j0, i0]) + int(space.hole_extra[j1, i1])
             d_prev = NONE
             continue
         d = {(1, 0): 0, (0, 1): 1, (-1, 0): 2, (0, -1): 3}[(int(i1 - i0), int(j1 - j0))]
@@ -525,7 +537,8 @@ def reference_graph(space: SearchSpace, sources, targets, *, bend: int, via: int
                         w = step + int(space.extra[l, nj, ni]) + (bend if d != NONE and nd != d else 0)
                         G.add_edge(u, (l, nj, ni, nd), weight=w)
                     if L == 2 and space.via_ok[j, i] and cell_open(1 - l, j, i):
-                        G.add_edge(u, (1 - l, j, i, NONE), weight=via + int(space.extra[1 - l, j, i]))
+                        G.add_edge(u, (1 - l, j, i, NONE),
+                                   weight=via + int(space.extra[1 - l, j, i]) + int(space.hole_extra[j, i]))
                     if jump_cells and space.jump_ok[j, i] and d != NONE:
                         for k in jump_cells:
                             for nd in range(4):
@@ -540,7 +553,8 @@ def reference_graph(space: SearchSpace, sources, targets, *, bend: int, via: int
                                     if span.any():
                                         continue
                                 G.add_edge(u, (l, nj, ni, NONE),
-                                           weight=jump + step * k + int(space.extra[l, nj, ni]))
+                                           weight=jump + step * k + int(space.extra[l, nj, ni])
+                                           + int(space.hole_extra[j, i]) + int(space.hole_extra[nj, ni]))
     # a source state: like NONE, and a jumper may leave it (a jumper may not leave a jumper's landing)
     for (l, j, i) in np.asarray(sources).reshape(-1, 3):
         l, j, i = int(l), int(j), int(i)
@@ -558,7 +572,8 @@ def reference_graph(space: SearchSpace, sources, targets, *, bend: int, via: int
                         span = wire[j, min(i, ni):max(i, ni) + 1] if nd in (0, 2) else wire[min(j, nj):max(j, nj) + 1, i]
                         if span.any():
                             continue
-                    G.add_edge(src, (l, nj, ni, NONE), weight=jump + step * k + int(space.extra[l, nj, ni]))
+                    G.add_edge(src, (l, nj, ni, NONE), weight=jump + step * k + int(space.extra[l, nj, ni])
+                               + int(space.hole_extra[j, i]) + int(space.hole_extra[nj, ni]))
         if any(int(t[0]) == l and int(t[1]) == j and int(t[2]) == i for t in np.asarray(targets).reshape(-1, 3)):
             G.add_edge(src, "T", weight=0)
     for (l, j, i) in np.asarray(targets).reshape(-1, 3):

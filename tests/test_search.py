@@ -115,6 +115,7 @@ def random_space(rng, L, ny, nx_, density=0.25, jumpers=False):
         kw = dict(jump_ok=(rng.random((ny, nx_)) > 0.3).astype(np.uint8),
                   wire_block=(rng.random((ny, nx_)) > 0.85).astype(np.uint8),
                   jump_cells=np.array([3, 5], np.int64))
+    kw["hole_extra"] = np.where(rng.random((ny, nx_)) > 0.7, rng.integers(0, 600, (ny, nx_)), 0).astype(np.int32)
     return SearchSpace(cell, oh, ov, via_ok, extra, **kw)
 
 
