@@ -28,7 +28,7 @@ References
 from __future__ import annotations
 
 import math
-from typing import Sequence
+from typing import Optional, Sequence
 
 import numpy as np
 import shapely
@@ -395,7 +395,7 @@ def _csr(lists):
 
 
 def anneal(prob: Problem, xy: np.ndarray, rot: np.ndarray, rng: np.random.Generator,
-           effort: float = 1.0, congestion_weight: float = CONGESTION_WEIGHT):
+           effort: float = 1.0, congestion_weight: Optional[float] = None):
     """Simulated annealing from centres `xy` (n, 2) and rotation indices `rot` (n,).
 
     Parameters
@@ -405,6 +405,7 @@ def anneal(prob: Problem, xy: np.ndarray, rot: np.ndarray, rng: np.random.Genera
     rng : numpy Generator; every random number comes from it
     effort : scales the number of changes per temperature
     congestion_weight : weight of the congestion overflow against wirelength
+        (default :data:`CONGESTION_WEIGHT`)
 
     Returns
     -------
@@ -420,6 +421,8 @@ def anneal(prob: Problem, xy: np.ndarray, rot: np.ndarray, rng: np.random.Genera
     n = prob.n
     if n == 0:
         return xy, rot
+    if congestion_weight is None:
+        congestion_weight = CONGESTION_WEIGHT
     X = np.ascontiguousarray(xy[:, 0], dtype=np.float64).copy()
     Y = np.ascontiguousarray(xy[:, 1], dtype=np.float64).copy()
     R = np.asarray(rot, dtype=np.int64).copy()
