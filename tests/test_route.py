@@ -271,3 +271,44 @@ def test_route_json_has_the_contract_figures_and_seconds(tmp_path, capsys):
     assert {"nets", "routed", "bends", "length", "vias", "jumpers", "bends_lower_bound",
             "length_lower_bound", "seconds"} <= set(data["totals"])
     assert data["totals"]["routed"] == data["totals"]["nets"]
+
+
+# ---------------------------------------------------------------- generated boards, checked independently
+GENERATED = [
+    dict(seed=11, nets=20, size=(50.0, 40.0), layers=2),
+    dict(seed=12, nets=20, size=(50.0, 40.0), layers=2, offgrid=True),
+    dict(seed=13, nets=20, size=(50.0, 40.0), layers=1),
+    dict(seed=14, nets=20, size=(50.0, 40.0), layers=1, offgrid=True),
+    dict(seed=15, nets=12, size=(50.0, 40.0), layers=2, max_pins=8),
+    dict(seed=16, nets=12, size=(50.0, 40.0), layers=1, max_pins=8),
+]
+
+
+@pytest.mark.parametrize("spec", GENERATED, ids=lambda s: "-".join(f"{k}{v}" for k, v in s.items() if k != "size"))
+def test_generated_boards_route_completely_with_no_violation(spec):
+    """Seeded generated boards (router.boardgen): every net routed, and the exact check, which
+    measures the written file with shapely and knows nothing of the grid, finds nothing."""
+    from router.boardgen import generate_board
+    spec = dict(spec)
+    b = generate_board(spec.pop("seed"), **spec)
+    r = route_board(b)
+    assert r.failed == {}
+    assert check(r.board) == []
+    # what was written reads back as the same board, and the figures agree with the file
+    again = loads_board(dumps_board(r.board))
+    assert len(again.traces) == len(r.board.traces) and check(again) == []
+    for t in r.board.traces:
+        for (x0, y0), (x1, y1) in zip(t.points, t.points[1:]):
+            assert x0 == x1 or y0 == y1
+    if spec.get("layers") == 1:
+        for jm in r.board.jumpers:
+            m = (abs(jm.start[0] - jm.end[0]) + abs(jm.start[1] - jm.end[1])) / JUMP_PITCH
+            assert abs(m - round(m)) < 1e-6
+
+
+def test_progress_bar_only_when_asked(capsys):
+    b = make(part("R1", "axial-10.16", 15.0, 10.0) + net("A", "R1.1", "R1.2"))
+    route_board(b, progress=False)
+    assert capsys.readouterr().err == ""
+    route_board(b, progress=True)
+    assert "pass 1" in capsys.readouterr().err
