@@ -16,14 +16,19 @@ import numpy as np
 
 from router.model import Board
 
-from .anneal import Problem, anneal, quadratic_start
+from .anneal import Problem, anneal as anneal_parts, quadratic_start
 from router.errors import PlacementError
 
-from .legalize import (ROOMY, ROTATIONS, area_needed, check_fits, effective_gap, free_area, legalize,
-                       routing_gap, site_for)
+from .legalize import (ROOMY, ROTATIONS, area_needed, check_fits, effective_gap, free_area,
+                       legalize as legal_places, routing_gap, site_for)
 from .wirelength import congestion, total_hpwl
 
-__all__ = ["place", "PlaceResult"]
+__all__ = ["place", "PlaceResult", "ROUTING_TRACKS"]
+
+#: Traces that the gap between neighbouring parts should have room for, most first; the
+#: widest gap whose parts fit in a share of the free area is tried first (bench_place and
+#: generated boards: room for 3 or 4 traces cost wirelength and routed no more boards).
+ROUTING_TRACKS = (2, 1)
 
 
 @dataclass
@@ -111,10 +116,10 @@ def place(board: Board, seed: int = 0, all_parts: bool = False, gap: Optional[fl
     before = total_hpwl(board) if all(p.at is not None for p in board.parts) else None
     check_fits(out, g, movable, stay)
     # a wider gap leaves channels for traces between parts, where the board has the room
-    gaps = [g]
-    wide = routing_gap(out, g)
-    if movable and wide > g + 1e-9 and area_needed(out, wide, movable) <= ROOMY * free_area(out, wide, stay)[1]:
-        gaps.insert(0, wide)
+    # (the widest that leaves room, then narrower ones when legalisation finds no place)
+    wide = [round(routing_gap(out, g, t), 3) for t in ROUTING_TRACKS]
+    gaps = [w for w in dict.fromkeys(wide) if movable and w > g + 1e-9 and
+            area_needed(out, w, movable) <= ROOMY * free_area(out, w, stay)[1]] + [g]
     for k, gk in enumerate(gaps):
         rng = np.random.default_rng(seed)
         placed = out.copy()
@@ -149,8 +154,8 @@ def _place_into(out: Board, movable, stay, g: float, rng, effort: float) -> None
                      for p in movable], dtype=np.intp)
     xy0 = quadratic_start(prob)
     xy0 = np.array([prob.clamp(i, x, y, int(rot0[i])) for i, (x, y) in enumerate(xy0)]).reshape(-1, 2)
-    xy, rot = anneal(prob, xy0, rot0, rng, effort=effort)
-    spots = legalize(out, movable, xy, rot, site, prob.offsets)
+    xy, rot = anneal_parts(prob, xy0, rot0, rng, effort=effort)
+    spots = legal_places(out, movable, xy, rot, site, prob.offsets)
     index = {p.ref: k for k, p in enumerate(out.parts)}
     for p, (x, y, r) in zip(movable, spots):
         out.parts[index[p.ref]] = replace(p, at=(x, y), rotation=r)
@@ -171,7 +176,7 @@ def random_placement(board: Board, movable_refs, gap: float, rng: np.random.Gene
         x0, y0, x1, y1 = site.region.bounds
         targets = np.stack([rng.uniform(x0, x1, len(movable)), rng.uniform(y0, y1, len(movable))], axis=1)
         rots = rng.integers(0, 4, len(movable))
-        spots = legalize(board, movable, targets, rots, site, strict=False)
+        spots = legal_places(board, movable, targets, rots, site, strict=False)
         if spots is None:
             continue
         out = board.copy()

@@ -44,6 +44,10 @@ __all__ = ["Problem", "quadratic_start", "anneal", "CONGESTION_WEIGHT"]
 
 #: Weight of the congestion overflow against wirelength (both in mm).
 CONGESTION_WEIGHT = 1.0
+#: The overlap weight at the end, per mm of a typical part's side (mm of wirelength per mm^2
+#: of overlap times that side), and how many times smaller it starts.
+OVERLAP_END = 300.0
+OVERLAP_RAMP = 1000.0
 _ROTS = (0, 90, 180, 270)
 
 
@@ -463,8 +467,8 @@ def anneal(prob: Problem, xy: np.ndarray, rot: np.ndarray, rng: np.random.Genera
     span = max(bx1 - bx0, by1 - by0)
     sizes = (off[:, 0, 2] - off[:, 0, 0]) * (off[:, 0, 3] - off[:, 0, 1])
     typical = math.sqrt(float(np.mean(sizes))) + prob.gap
-    lam_end = 20.0 / max(typical, 0.5)
-    lam_start = lam_end / 200.0
+    lam_end = OVERLAP_END / max(typical, 0.5)
+    lam_start = lam_end / OVERLAP_RAMP
     window = span / 2
     steps = 60
     per_step = max(20, int(max(100, min(40 * n, 8000)) * effort))

@@ -51,17 +51,17 @@ def effective_gap(board: Board, gap: Optional[float]) -> float:
     return max(g, need)
 
 
-def routing_gap(board: Board, least: float) -> float:
-    """A gap with room for two traces between neighbouring parts, never below `least`.
+def routing_gap(board: Board, least: float, tracks: int = 2) -> float:
+    """A gap with room for `tracks` traces between neighbouring parts, never below `least`.
 
     Room for one trace of the widest class used by a net (width plus clearance on both
-    sides) plus one default-class track (width plus clearance).
+    sides) and `tracks` - 1 default-class tracks (width plus clearance each).
     """
     used = {n.net_class for n in board.nets} or {"default"}
-    widest = max(board.classes[c].trace_width + 2 * board.classes[c].clearance
-                 for c in used if c in board.classes)
+    widest = max((board.classes[c].trace_width + 2 * board.classes[c].clearance
+                  for c in used if c in board.classes), default=0.0)
     d = board.classes.get("default") or next(iter(board.classes.values()))
-    return max(least, widest + d.trace_width + d.clearance)
+    return max(least, widest + (tracks - 1) * (d.trace_width + d.clearance))
 
 
 def rect_offsets(board: Board, part: Part) -> np.ndarray:
