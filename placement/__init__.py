@@ -20,8 +20,8 @@ from .anneal import Problem, anneal as anneal_parts, quadratic_start
 from router.errors import PlacementError
 
 from .legalize import (ROOMY, ROTATIONS, area_needed, check_fits, effective_gap, free_area,
-                       legalize as legal_places, routing_gap, site_for)
-from .wirelength import congestion, total_hpwl
+                       legalize as legal_places, refine, routing_gap, site_for)
+from .wirelength import congestion, hpwl_rows, total_hpwl
 
 __all__ = ["place", "PlaceResult", "ROUTING_TRACKS"]
 
@@ -156,9 +156,60 @@ def _place_into(out: Board, movable, stay, g: float, rng, effort: float) -> None
     xy0 = np.array([prob.clamp(i, x, y, int(rot0[i])) for i, (x, y) in enumerate(xy0)]).reshape(-1, 2)
     xy, rot = anneal_parts(prob, xy0, rot0, rng, effort=effort)
     spots = legal_places(out, movable, xy, rot, site, prob.offsets)
+    cost, target, keep = _wirelength_of_one(prob, spots)
+    spots = refine(out, movable, spots, site, prob.offsets, cost, target, keep)
     index = {p.ref: k for k, p in enumerate(out.parts)}
     for p, (x, y, r) in zip(movable, spots):
         out.parts[index[p.ref]] = replace(p, at=(x, y), rotation=r)
+
+
+def _wirelength_of_one(prob: Problem, spots):
+    """For :func:`refine`: cost(i, x, y, r), the wirelength of part i's nets with it there;
+    target(i), the middle of its optimal region (the median of the edges of its nets' boxes
+    without it); keep(i, x, y, r), where it stays."""
+    tx = prob.t_fix[:, 0].copy()
+    ty = prob.t_fix[:, 1].copy()
+
+    def put(i, x, y, r):
+        ts = prob.part_terms[i]
+        tx[ts] = x + prob.t_off[ts, r, 0]
+        ty[ts] = y + prob.t_off[ts, r, 1]
+
+    for i, (x, y, deg) in enumerate(spots):
+        put(i, x, y, ROTATIONS.index(deg))
+    state = {"at": [(x, y, ROTATIONS.index(d)) for x, y, d in spots]}
+
+    def cost(i, x, y, r):
+        nets = prob.part_nets[i]
+        if len(nets) == 0:
+            return 0.0
+        put(i, x, y, r)
+        return float(hpwl_rows(tx, ty, prob.rows[nets]).sum())
+
+    def target(i):
+        # called before the trials of part i: remember where it is, measure the others
+        nets = prob.part_nets[i]
+        if len(nets) == 0:
+            x, y, _ = state["at"][i]
+            return (x, y)
+        own = set(prob.part_terms[i].tolist())
+        xs, ys = [], []
+        for k in nets:
+            others = [t for t in prob.nets[k] if t not in own]
+            if not others:
+                continue
+            xs += [tx[others].min(), tx[others].max()]
+            ys += [ty[others].min(), ty[others].max()]
+        if not xs:
+            x, y, _ = state["at"][i]
+            return (x, y)
+        return (float(np.median(xs)), float(np.median(ys)))
+
+    def keep(i, x, y, r):
+        put(i, x, y, r)
+        state["at"][i] = (x, y, r)
+
+    return cost, target, keep
 
 
 def random_placement(board: Board, movable_refs, gap: float, rng: np.random.Generator,

@@ -25,7 +25,7 @@ from router.geometry import outline_polygon, part_rect
 from router.model import Board, Part
 from router.units import TOL, snap
 
-__all__ = ["ROTATIONS", "Site", "effective_gap", "routing_gap", "site_for", "rect_offsets",
+__all__ = ["ROTATIONS", "Site", "refine", "effective_gap", "routing_gap", "site_for", "rect_offsets",
            "free_area", "area_needed", "check_fits", "legalize", "ROOMY"]
 
 #: The wider routing gap is kept only while the parts grown by it need at most this share
@@ -91,6 +91,15 @@ class Site:
         self.taken.append(tuple(rect))
         self.taken_refs.append(ref)
         self._arr = np.vstack([self._arr, np.array(rect, dtype=float)[None, :]])
+
+    def release(self, ref: str) -> None:
+        """Take a part's rectangle out for a while (it clashes with nothing until put back)."""
+        self._arr[self.taken_refs.index(ref)] = np.nan
+
+    def put_back(self, ref: str, rect) -> None:
+        k = self.taken_refs.index(ref)
+        self.taken[k] = tuple(rect)
+        self._arr[k] = np.array(rect, dtype=float)
 
     def free(self, cx: np.ndarray, cy: np.ndarray, off: np.ndarray) -> np.ndarray:
         """Mask of the candidate centres where a rectangle of offsets `off` fits (fast tests only)."""
@@ -202,12 +211,16 @@ def _offsets(radius_cells: int) -> np.ndarray:
     return np.stack([i[order], j[order]], axis=1)
 
 
-def _place_one(site: Site, off4: np.ndarray, target, rots: Sequence[int], grid: float):
-    """The nearest free grid centre for one part: (x, y, rotation index) or None."""
+def _place_one(site: Site, off4: np.ndarray, target, rots: Sequence[int], grid: float,
+               radii=_RADII + (None,)):
+    """The nearest free grid centre for one part: (x, y, rotation index) or None.
+
+    `radii` in mm are searched in turn; None is the whole board.
+    """
     tx, ty = target
     bi, bj = round(tx / grid), round(ty / grid)
     bx0, by0, bx1, by1 = site.region.bounds
-    for radius in _RADII + (None,):
+    for radius in radii:
         for r in rots:
             off = off4[r]
             if radius is None:
@@ -278,3 +291,49 @@ def legalize(board: Board, parts: Sequence[Part], targets, rotations, site: Site
         site.take((x + off[0], y + off[1], x + off[2], y + off[3]), parts[i].ref)
         out[i] = (snap(x), snap(y), ROTATIONS[r])
     return out
+
+
+def refine(board: Board, parts: Sequence[Part], spots: list, site: Site, offsets, cost, target, keep,
+           passes: int = 2, radii=(1.0, 3.0, 8.0)) -> list:
+    """Greedy improvement of a legal placement: each part in turn tries the free grid points
+    nearest its best place, in each rotation, and moves when its cost falls.
+
+    Parameters
+    ----------
+    spots : legal (x, y, rotation_degrees) per part, as :func:`legalize` returns them
+    site : the site holding every part's rectangle under its ref
+    cost : cost(i, x, y, rotation_index) -> float, the part's nets' wirelength there
+    target : target(i) -> (x, y), where part i would best be with the others where they are
+    keep : keep(i, x, y, rotation_index), told where part i stays after its trials
+
+    Returns
+    -------
+    The improved spots (still legal: every trial passes the same tests as legalisation).
+    """
+    grid = board.rules.grid
+    spots = list(spots)
+    for _ in range(passes):
+        moved = 0
+        for i, part in enumerate(parts):
+            x, y, deg = spots[i]
+            r = ROTATIONS.index(deg)
+            best = (cost(i, x, y, r), x, y, r)
+            site.release(part.ref)
+            goal = target(i)
+            for rr in range(4):
+                spot = _place_one(site, offsets[i], goal, [rr], grid, radii)
+                if spot is None:
+                    continue
+                c = cost(i, spot[0], spot[1], rr)
+                if c < best[0] - 1e-9:
+                    best = (c, snap(spot[0]), snap(spot[1]), rr)
+            _, x, y, r = best
+            keep(i, x, y, r)
+            off = offsets[i][r]
+            site.put_back(part.ref, (x + off[0], y + off[1], x + off[2], y + off[3]))
+            if (x, y, ROTATIONS[r]) != spots[i]:
+                moved += 1
+            spots[i] = (x, y, ROTATIONS[r])
+        if not moved:
+            break
+    return spots
