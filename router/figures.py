@@ -692,12 +692,14 @@ def format_report(figs: dict, board: Optional[Board] = None) -> str:
     >>> print(format_report(figs).splitlines()[-1])
     length 12.00 mm, bound 10.00 mm: 1.20x, 2.00 mm above
     """
-    head = ["net", "routed", "bends", "bound", "length", "bound", "ratio", "vias", "jumpers"]
+    head = ["net", "routed", "bends", "bound", "path>=", "length", "bound", "ratio", "vias", "jumpers"]
     rows = []
     for n in figs["nets"]:
         jl = n.get("jumper_length", 0.0) or 0.0
         ratio = n.get("length_ratio", _ratio(n["length"] + jl, n["length_lower_bound"]))
+        pb = n.get("bends_lower_bound_path")
         rows.append([n["name"], _fmt(n["routed"], ""), str(n["bends"]), str(n["bends_lower_bound"]),
+                     "-" if pb is None else str(pb),
                      _fmt(n["length"], "length"), _fmt(n["length_lower_bound"], "length"),
                      "-" if ratio is None else f"{ratio:.2f}", str(n["vias"]), str(n["jumpers"])])
     t = figs["totals"]
@@ -712,6 +714,11 @@ def format_report(figs: dict, board: Optional[Board] = None) -> str:
                + f", {t['vias']} vias, {t['jumpers']} jumpers")
     out.append(f"bends {t['bends']}, bound {t['bends_lower_bound']}: "
                f"{t['bends'] - t['bends_lower_bound']} above")
+    paths = [n for n in figs["nets"] if n.get("bends_lower_bound_path") is not None]
+    if paths:
+        out.append(f"  (the bound is 0 for any copper, since a T with a short overhang is not a bend; "
+                   f"path>= is the bound for a net drawn as one path on one layer: {len(paths)} such nets, "
+                   f"{sum(n['bends'] for n in paths)} bends, path bound {sum(n['bends_lower_bound_path'] for n in paths)})")
     tj = t.get("jumper_length", 0.0) or 0.0
     lb = t["length_lower_bound"]
     total = t["length"] + tj
