@@ -255,6 +255,7 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
             todo_names.append(n.name)
     grid = RoutingGrid(b)
     groups = _pad_groups(b, grid)
+    start = b.copy()
     nets = [n for n in todo_names if len(groups.get(n, [])) > 1]
     rng = np.random.default_rng(seed)
     ties = rng.random(len(nets))
@@ -315,7 +316,7 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
     if polish:
         _polish(neg, order)
     _write(b, grid, neg, order)
-    _settle(b, board, failed, order)
+    _settle(b, start, failed, order)
     result = RouteResult(b, _figures(b), {n: failed[n] for n in [m.name for m in b.nets] if n in failed},
                          time.perf_counter() - t0, npass, shared_left)
     return result
@@ -445,14 +446,12 @@ def _settle(b: Board, original: Board, failed: dict, order: list[str]) -> None:
     """Check the written board exactly; take out new copper of any net that breaks a rule."""
     from .check import check
     before_t, before_v, before_j = len(original.traces), len(original.vias), len(original.jumpers)
-    if len(b.traces) < before_t:          # rerouted: nothing of the file's own is new here
-        before_t = sum(1 for t in b.traces if t.fixed)
-        before_v = before_j = 0
     new_nets = set(order)
+    known = {(v.rule, v.message) for v in check(original) if v.rule in _GEOMETRY_RULES}   # not the router's doing
     for _ in range(len(order) + 1):
         bad: dict[str, tuple] = {}
         for v in check(b):
-            if v.rule not in _GEOMETRY_RULES:
+            if v.rule not in _GEOMETRY_RULES or (v.rule, v.message) in known:
                 continue
             for n in v.nets:
                 if n in new_nets and n not in failed and _has_new(b, n, before_t, before_v, before_j):
