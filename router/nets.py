@@ -39,7 +39,7 @@ __all__ = ["Terminal", "NetRoute", "terminals", "route_net"]
 class Terminal:
     """Pads of one net already joined to each other, and their access to the grid."""
     pads: list                                   # PlacedPad
-    cells: dict = field(default_factory=dict)    # (l, j, i) -> stub segment ((x, y), (x, y)) or None
+    cells: dict = field(default_factory=dict)    # (l, j, i) -> stub points ((x, y), ...) from the pad, or None
 
     @property
     def name(self) -> str:
@@ -68,7 +68,8 @@ class NetRoute:
 
 
 def _access(grid: RoutingGrid, space: SearchSpace, net: str, pad) -> dict:
-    """Access cells of one pad: inside its copper, or one straight stub away."""
+    """Access cells of one pad: inside its copper, or one straight stub away, or (a pad no grid
+    line crosses) an L-shaped stub from its centre."""
     core, rad = pad_core(pad)
     bx = box_of_core(core)
     g = grid.pitch
@@ -108,10 +109,29 @@ def _access(grid: RoutingGrid, space: SearchSpace, net: str, pad) -> dict:
             cands.append((length, l, int(j + ja), int(i + ia), stub))
     cands.sort(key=lambda c: (c[0], c[1], c[2], c[3]))
     for length, l, j, i, stub in cands[:24]:
-        a = (round(stub[0][0], 6), round(stub[0][1], 6))
-        b = (round(stub[1][0], 6), round(stub[1][1], 6))
-        if grid.segment_clear(net, a, b, l, width):
-            out[(l, j, i)] = (a, b)
+        pts = tuple((round(p[0], 6), round(p[1], 6)) for p in stub)
+        if grid.segment_clear(net, pts[0], pts[1], l, width):
+            out[(l, j, i)] = pts
+            if len(out) >= 6:
+                break
+    if out:
+        return out
+    # a pad no grid line crosses: leave its centre along x to a grid column, then along y
+    lcands = []
+    for l in layers:
+        oc = space.open_cell[l, ja:jb, ia:ib].astype(bool)
+        for j, i in zip(*np.nonzero(oc)):
+            x, y = float(X[i]), float(Y[j])
+            for corner in ((x, pad.y), (pad.x, y)):
+                pts = tuple((round(p[0], 6), round(p[1], 6)) for p in ((pad.x, pad.y), corner, (x, y)))
+                length = abs(pad.x - x) + abs(pad.y - y)
+                lcands.append((length, l, int(j + ja), int(i + ia), pts))
+    lcands.sort(key=lambda c: (c[0], c[1], c[2], c[3], c[4]))
+    for length, l, j, i, pts in lcands[:48]:
+        if (l, j, i) in out:
+            continue
+        if all(grid.segment_clear(net, a, b, l, width) for a, b in zip(pts, pts[1:]) if a != b):
+            out[(l, j, i)] = pts
             if len(out) >= 6:
                 break
     return out
@@ -305,14 +325,14 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
         end = tuple(int(v) for v in path.cells[-1])
         stub = tree.get(start)
         if stub is not None and start not in used_stub:
-            route.stubs.append((stub[0], stub[1], start[0]))
+            route.stubs.extend((a, b, start[0]) for a, b in zip(stub, stub[1:]) if a != b)
             used_stub.add(start)
             tree[start] = None
         new = _lay_path(grid, space, route, path.cells)
         k = owner[end]
         stub = terms[k].cells[end]
         if stub is not None:
-            route.stubs.append((stub[0], stub[1], end[0]))
+            route.stubs.extend((a, b, end[0]) for a, b in zip(stub, stub[1:]) if a != b)
         # every terminal whose pad holds the end point directly is joined as well
         joined = {k} | {q for q in left if terms[q].cells.get(end, 0) is None}
         for q in sorted(joined):

@@ -312,3 +312,38 @@ def test_progress_bar_only_when_asked(capsys):
     assert capsys.readouterr().err == ""
     route_board(b, progress=True)
     assert "pass 1" in capsys.readouterr().err
+
+
+def test_tiny_off_grid_pads_are_reached_by_stubs():
+    """Pads smaller than the grid pitch, crossed by no grid line: an L-shaped stub from the pad's
+    centre reaches the grid, and the exact check finds nothing (0.2 mm test pads, our own footprint)."""
+    b = loads_board('''format = 1
+[board]
+name = "tiny"
+size = [20.0, 12.0]
+[rules]
+grid = 0.5
+min_trace_width = 0.15
+[classes.default]
+trace_width = 0.15
+clearance = 0.15
+[footprints.probe]
+body = [0.4, 0.4]
+pads = [{ pin = "1", at = [0.0, 0.0], shape = "rect", size = [0.2, 0.2] }]
+[[parts]]
+ref = "P1"
+footprint = "probe"
+at = [4.13, 6.17]
+[[parts]]
+ref = "P2"
+footprint = "probe"
+at = [15.88, 3.29]
+[[nets]]
+name = "A"
+pins = ["P1.1", "P2.1"]
+''')
+    r = route_board(b)
+    assert r.failed == {}
+    assert check(r.board) == []
+    ends = {tuple(p) for t in r.board.traces for p in (t.points[0], t.points[-1])}
+    assert (4.13, 6.17) in ends and (15.88, 3.29) in ends
