@@ -14,6 +14,13 @@ from pathlib import Path
 __all__ = ["write_atomic", "atomic_dir"]
 
 
+def _file_mode() -> int:
+    """The mode a plain new file gets (0666 less the umask); temporary files start at 0600."""
+    mask = os.umask(0)
+    os.umask(mask)
+    return 0o666 & ~mask
+
+
 def write_atomic(path, data: str | bytes) -> None:
     """Write `data` to `path` through a temporary file and a rename."""
     path = Path(path)
@@ -26,6 +33,7 @@ def write_atomic(path, data: str | bytes) -> None:
             fh.write(data)
             fh.flush()
             os.fsync(fh.fileno())
+        os.chmod(tmp, _file_mode())
         os.replace(tmp, path)
     except BaseException:
         try:

@@ -31,3 +31,15 @@ def test_save_over_input_is_safe(tmp_path):
     save_board(board, src)
     assert loads_board(src.read_text()) == board
     assert [p.name for p in tmp_path.iterdir()] == ["b.toml"]   # no temporary file left behind
+
+
+def test_written_files_get_the_usual_mode(tmp_path):
+    """Atomic writes go through a temporary file (mode 0600); the result gets 0666 less the umask."""
+    import os
+    from router.safefile import write_atomic
+    old = os.umask(0o022)
+    try:
+        write_atomic(tmp_path / "a.txt", "x")
+    finally:
+        os.umask(old)
+    assert (tmp_path / "a.txt").stat().st_mode & 0o777 == 0o644
