@@ -25,10 +25,12 @@ from .wirelength import congestion, hpwl_rows, total_hpwl
 
 __all__ = ["place", "PlaceResult", "ROUTING_TRACKS"]
 
-#: Traces that the gap between neighbouring parts should have room for, most first; the
-#: widest gap whose parts fit in a share of the free area is tried first (bench_place and
-#: generated boards: room for 3 or 4 traces cost wirelength and routed no more boards).
-ROUTING_TRACKS = (2, 1)
+#: Traces that the gap between neighbouring parts should have room for, most first, by
+#: copper layer count; the widest gap whose parts fit in a share of the free area is tried
+#: first. Chosen with generated boards (router.boardgen) placed and routed: on two layers room
+#: for 3 or 4 traces cost wirelength and routed no more boards; on one layer, where traces
+#: cannot cross, room for 6 routed more boards completely than room for 2.
+ROUTING_TRACKS = {1: (6, 4, 2, 1), 2: (2, 1)}
 
 
 @dataclass
@@ -117,7 +119,7 @@ def place(board: Board, seed: int = 0, all_parts: bool = False, gap: Optional[fl
     check_fits(out, g, movable, stay)
     # a wider gap leaves channels for traces between parts, where the board has the room
     # (the widest that leaves room, then narrower ones when legalisation finds no place)
-    wide = [round(routing_gap(out, g, t), 3) for t in ROUTING_TRACKS]
+    wide = [round(routing_gap(out, g, t), 3) for t in ROUTING_TRACKS[out.copper_layers]]
     gaps = [w for w in dict.fromkeys(wide) if movable and w > g + 1e-9 and
             area_needed(out, w, movable) <= ROOMY * free_area(out, w, stay)[1]] + [g]
     for k, gk in enumerate(gaps):

@@ -28,9 +28,10 @@ __all__ = ["pin_points", "net_hpwl", "total_hpwl", "hpwl_rows", "CongestionGrid"
 
 #: Share of a cell's track capacity that routing may use before the estimate counts an
 #: overflow. Low, because pads, vias, both directions on each layer and detours take most of
-#: the room; chosen with scripts/bench_place.py (0.2 routed the generated boards completely
-#: and faster than 0.6, and with less wirelength after legalisation).
-UTILISATION = 0.2
+#: the room; chosen with generated boards placed and routed (scripts/bench_place.py): 0.2
+#: routed two-layer boards completely and faster than 0.6; 0.1 as well, and more one-layer
+#: boards than 0.2.
+UTILISATION = 0.1
 
 
 def pin_points(board: Board) -> dict[str, list[tuple[float, float]]]:

@@ -1,7 +1,6 @@
 """Placement: legal places on every example board, determinism, wirelength against a random
 placement and against hand-computed values, the quadratic start, and boards that cannot fit."""
 import itertools
-import math
 from dataclasses import replace
 from pathlib import Path
 
@@ -19,7 +18,7 @@ from router.check import check
 from router.cli import main
 from router.errors import PlacementError
 from router.geometry import outline_polygon, part_rect
-from router.model import Board, Keepout, Net, Part
+from router.model import Board
 from router.units import TOL, on_grid
 
 BOARDS = sorted((Path(__file__).parent.parent / "boards").glob("*.toml"))
@@ -313,13 +312,13 @@ def test_hpwl_bounds_against_the_rectilinear_spanning_tree(seed):
 
 
 def test_congestion_grid_hand_computed():
-    # a 10 x 10 mm area in 10 cells of 1 mm; two layers, 0.5 mm pitch: capacity UTILISATION * 2 * 1 / 0.5
-    g = CongestionGrid((0.0, 0.0, 10.0, 10.0), layers=2, pitch=0.5, cells=10)
+    # a 10 x 10 mm area in 10 cells of 1 mm; two layers, 0.1 mm pitch: capacity UTILISATION * 2 * 1 / 0.1
+    g = CongestionGrid((0.0, 0.0, 10.0, 10.0), layers=2, pitch=0.1, cells=10)
     assert (g.nx, g.ny, g.cell) == (10, 10, 1.0)
-    assert g.capacity == pytest.approx(UTILISATION * 2 * 1.0 / 0.5)
+    assert g.capacity == pytest.approx(UTILISATION * 2 * 1.0 / 0.1)
     g.add_box(0.5, 0.5, 2.5, 1.5)           # 3 x 2 cells, 2 + 1 = 3 mm of track: 0.5 each
     assert g.demand[0:3, 0:2].tolist() == [[0.5, 0.5]] * 3 and g.demand.sum() == pytest.approx(3.0)
-    assert g.overflow() == 0.0
+    assert g.overflow() == pytest.approx(6 * max(0.5 - g.capacity, 0))
     g.add_pads([0.2, 0.3], [0.2, 0.4], [1.5, 1.0])   # both in cell (0, 0): 0.5 + 2.5 = 3.0
     assert g.overflow() == pytest.approx(max(3.0 - g.capacity, 0) + 5 * max(0.5 - g.capacity, 0))
     g.add_box(0.5, 0.5, 2.5, 1.5, -1.0)
