@@ -3,8 +3,12 @@
 :func:`place` places every part without ``at`` (with ``all_parts``, every part that
 is not ``fixed``): a quadratic start, simulated annealing on wirelength,
 congestion and overlap (:mod:`placement.anneal`), then legalisation onto the
-grid (:mod:`placement.legalize`). Parts that are fixed, or placed and not to be
-moved, stay exactly where they are.
+grid and a greedy refinement there (:mod:`placement.legalize`). Parts that are
+fixed, or placed and not to be moved, stay exactly where they are.
+
+The gap kept between parts is the one asked for (``rules.part_gap`` by default)
+at least, and wider where the board has the room, so that traces pass between
+neighbours (:data:`ROUTING_TRACKS`).
 """
 from __future__ import annotations
 
@@ -14,11 +18,10 @@ from typing import Optional
 
 import numpy as np
 
+from router.errors import PlacementError
 from router.model import Board
 
 from .anneal import Problem, anneal as anneal_parts, quadratic_start
-from router.errors import PlacementError
-
 from .legalize import (ROOMY, ROTATIONS, area_needed, check_fits, effective_gap, free_area,
                        legalize as legal_places, refine, routing_gap, site_for)
 from .wirelength import congestion, hpwl_rows, total_hpwl

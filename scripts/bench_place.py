@@ -6,8 +6,8 @@ the seeds: parts placed, wirelength (HPWL) of a random legal placement made in t
 of the generator's own rows and of ours, the ratio random / ours, seconds, and, when the router
 is built, on how many boards routing the placed board completes.
 
-    python scripts/bench_place.py                 # 10, 25, 50, 100, 150 parts, 2 seeds
-    python scripts/bench_place.py --seeds 3 --route-up-to 150
+    python scripts/bench_place.py                 # 10, 25, 50, 100, 150 parts, 2 seeds (about a minute)
+    python scripts/bench_place.py --seeds 4 --route-up-to 60
 """
 from __future__ import annotations
 
@@ -38,8 +38,8 @@ def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--sizes", type=int, nargs="+", default=[10, 25, 50, 100, 150])
     ap.add_argument("--seeds", type=int, default=2)
-    ap.add_argument("--route-up-to", type=int, default=100, metavar="N",
-                    help="route the placed boards up to this many parts (routing is the slow part)")
+    ap.add_argument("--route-up-to", type=int, default=None, metavar="N",
+                    help="route only the boards of up to N parts (default all; routing is the slow part)")
     args = ap.parse_args(argv)
     can_route = importlib.util.find_spec("router.negotiate") is not None
     if can_route:
@@ -63,7 +63,7 @@ def main(argv=None) -> int:
             res = place(board, seed=seed)
             secs = time.perf_counter() - t
             done = None
-            if can_route and len(board.parts) <= args.route_up_to:
+            if can_route and (args.route_up_to is None or len(board.parts) <= args.route_up_to):
                 done = not route(res.board, seed=0).failed
             rows.append((len(board.parts), len(res.placed), res.random, rows_hpwl, res.after, secs, done))
         n = len(rows)
