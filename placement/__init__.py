@@ -24,7 +24,7 @@ from router.model import Board
 from .anneal import Problem, anneal as anneal_parts, quadratic_start
 from .legalize import (ROOMY, ROTATIONS, area_needed, check_fits, effective_gap, free_area,
                        legalize as legal_places, refine, routing_gap, site_for)
-from .wirelength import congestion, hpwl_rows, total_hpwl
+from .wirelength import UTILISATION, congestion, hpwl_rows, total_hpwl
 
 __all__ = ["place", "PlaceResult", "ROUTING_TRACKS"]
 
@@ -73,9 +73,12 @@ class PlaceResult:
         if self.random is not None:
             ratio = self.after / self.random if self.random > 0 else float("nan")
             lines.append(f"  a random legal placement: {self.random:.1f} mm (after/random {ratio:.2f})")
-        else:
+        elif self.placed:
             lines.append("  a random legal placement: - (none found)")
-        lines.append(f"  congestion estimate: {self.congestion:.1f} mm of track over capacity")
+        else:
+            lines.append("  a random legal placement: - (nothing to place)")
+        lines.append(f"  congestion estimate: {self.congestion:.1f} mm of track over "
+                     f"{UTILISATION:.0%} of the routing room")
         return "\n".join(lines)
 
 

@@ -124,6 +124,7 @@ def test_nothing_to_place_changes_nothing():
     board = load_board(BOARDS[0])
     result = place(board)
     assert result.placed == [] and dumps_board(result.board) == dumps_board(board)
+    assert result.before == result.after and "nothing to place" in result.summary()
 
 
 def test_gap_option_is_kept():
