@@ -2,8 +2,8 @@
 
 A legal place for a part: its rectangle (body, pads and holes, see
 :func:`router.geometry.part_rect`) lies inside the outline shrunk by
-``rules.edge_clearance``, keeps the gap to every other part's rectangle and to
-every keepout, its centre is on ``rules.grid`` and its rotation is 0, 90, 180
+``rules.edge_clearance``, keeps the gap to every other part's rectangle, to
+every keepout and to the copper already on the board (traces, vias, jumpers), its centre is on ``rules.grid`` and its rotation is 0, 90, 180
 or 270. Parts are taken largest first; each goes to the free grid point nearest
 its target, trying its own rotation first at every search radius.
 
@@ -25,7 +25,7 @@ from router.geometry import outline_polygon, part_rect
 from router.model import Board, Part
 from router.units import TOL, snap
 
-__all__ = ["ROTATIONS", "Site", "refine", "effective_gap", "routing_gap", "site_for", "rect_offsets",
+__all__ = ["ROTATIONS", "Site", "refine", "copper_rects", "effective_gap", "routing_gap", "site_for", "rect_offsets",
            "free_area", "area_needed", "check_fits", "legalize", "ROOMY"]
 
 #: The wider routing gap is kept only while the parts grown by it need at most this share
@@ -158,12 +158,35 @@ def site_for(board: Board, gap: float, fixed: Sequence[Part]) -> Site:
     for p in fixed:
         taken.append(part_rect(board, p))
         refs.append(p.ref)
+    for rect in copper_rects(board):
+        taken.append(rect)
+        refs.append("copper")
     return Site(board, gap, region, rect_region, polys, taken, refs)
 
 
+def copper_rects(board: Board) -> list[tuple[float, float, float, float]]:
+    """Boxes around the copper already on the board: each trace step, via and jumper (its ends
+    and its wire, which must not cross a part's body)."""
+    out = []
+    for t in board.traces:
+        h = t.width / 2
+        pts = t.points if len(t.points) > 1 else t.points * 2
+        for (ax, ay), (bx, by) in zip(pts, pts[1:]):
+            out.append((min(ax, bx) - h, min(ay, by) - h, max(ax, bx) + h, max(ay, by) + h))
+    for v in board.vias:
+        h = v.diameter / 2
+        out.append((v.at[0] - h, v.at[1] - h, v.at[0] + h, v.at[1] + h))
+    for j in board.jumpers:
+        h = j.diameter / 2
+        (ax, ay), (bx, by) = j.start, j.end
+        out.append((min(ax, bx) - h, min(ay, by) - h, max(ax, bx) + h, max(ay, by) + h))
+    return out
+
+
 def free_area(board: Board, gap: float, fixed: Sequence[Part]) -> tuple[float, float]:
-    """(room, free): the area inside the outline less the edge margin, and what keepouts and
-    the rectangles of `fixed` (each grown by half the gap) leave of it, in mm^2."""
+    """(room, free): the area inside the outline less the edge margin, and what keepouts,
+    copper already there and the rectangles of `fixed` (each grown by half the gap) leave of
+    it, in mm^2."""
     site = site_for(board, gap, fixed)
     room = site.region.area
     blocked = [box(*r).buffer(gap / 2, join_style="mitre") for r in site.taken]
@@ -196,7 +219,7 @@ def check_fits(board: Board, gap: float, movable: Sequence[Part], fixed: Sequenc
             board.source, "parts",
             f"{len(movable)} parts need {need:.1f} mm^2 with a {gap:g} mm gap, but only {free:.1f} mm^2 "
             f"of the board is free ({room:.1f} mm^2 inside the {board.rules.edge_clearance:g} mm edge "
-            f"clearance, less keepouts and {len(fixed)} parts that stay); use a larger board, fewer "
+            f"clearance, less keepouts, copper and {len(fixed)} parts that stay); use a larger board, fewer "
             f"parts or a smaller gap")
 
 

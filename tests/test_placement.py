@@ -190,6 +190,53 @@ def test_polygon_outline_and_keepouts():
     assert result.after < result.random
 
 
+COPPER = """format = 1
+[board]
+name = "copper"
+size = [40.0, 30.0]
+[[parts]]
+ref = "J1"
+footprint = "header-1x2"
+at = [4.0, 15.0]
+rotation = 90
+fixed = true
+""" + "".join(f'[[parts]]\nref = "R{k}"\nfootprint = "chip-0805"\n' for k in range(1, 7)) + """
+[[parts]]
+ref = "U1"
+footprint = "soic-8"
+[[nets]]
+name = "GND"
+pins = ["J1.2", "R1.1", "R2.1", "U1.4"]
+[[nets]]
+name = "S"
+pins = ["J1.1", "R3.1", "U1.2", "R4.2", "R5.1", "R6.2"]
+[[traces]]
+net = "GND"
+layer = "top"
+width = 0.5
+points = [[4.0, 16.27], [20.0, 16.27], [20.0, 28.0]]
+fixed = true
+[[vias]]
+net = "GND"
+at = [20.0, 28.0]
+drill = 0.4
+diameter = 0.8
+"""
+
+
+def test_copper_already_on_the_board_is_kept_clear():
+    board = loads_board(COPPER, "copper.toml")
+    result = place(board, seed=0)
+    assert_legal(board, result.board, board.rules.part_gap)
+    copper = [box(3.75, 16.02, 20.25, 16.52), box(19.75, 16.02, 20.25, 28.25), box(19.6, 27.6, 20.4, 28.4)]
+    for p in result.board.parts:
+        if p.ref != "J1":
+            r = box(*part_rect(result.board, p))
+            assert min(c.distance(r) for c in copper) >= board.rules.part_gap - TOL, p.ref
+    # nothing but the opens of nets whose parts are not joined yet: no short, no clearance
+    assert {v.rule for v in check(result.board)} <= {"open"}
+
+
 # ----------------------------------------------------------------------------- cannot fit
 
 CROWDED = """format = 1
