@@ -145,6 +145,20 @@ def test_gap_is_raised_to_the_largest_class_clearance():
     assert effective_gap(board, 0.0) >= need
 
 
+@pytest.mark.parametrize("seed,options", [
+    (1, dict(nets=12, size=(40, 30), layers=1)),
+    (2, dict(nets=30, size=(60, 40), offgrid=True)),
+    (3, dict(nets=40, size=(60, 45), grid=0.5, max_pins=6)),
+    (4, dict(nets=25, size=(70, 50), layers=1, grid=1.27)),
+])
+def test_generated_boards_place_legally(seed, options):
+    from router.boardgen import generate_board
+    board = generate_board(seed, unplaced=True, **options)
+    result = place(board, seed=seed)
+    assert_legal(board, result.board, board.rules.part_gap)
+    assert result.after < result.random
+
+
 # ----------------------------------------------------------------------------- outline, keepouts
 
 L_SHAPE = """format = 1
