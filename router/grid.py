@@ -484,23 +484,43 @@ class RoutingGrid:
                            via_ok.astype(np.uint8), extra)
 
     # ----------------------------------------------------------------- exact tests for off-grid pieces
+    def _obstacle_arrays(self):
+        """The hard obstacles as arrays (boxes, radii, layer bits, nets, kinds), built once."""
+        if getattr(self, "_ob_arrays", None) is None:
+            obs = self.obstacles
+            boxes = np.array([ob.box for ob in obs], dtype=np.float64).reshape(-1, 4)
+            rads = np.array([ob.radius for ob in obs], dtype=np.float64)
+            lmask = np.array([sum(1 << l for l in ob.layers) for ob in obs], dtype=np.int64)
+            self._ob_arrays = (boxes, rads, lmask, [ob.net for ob in obs], [ob.kind for ob in obs],
+                               [ob.owners for ob in obs])
+            self._ob_need = {}
+        return self._ob_arrays
+
+    def _base_need(self, prof: ClassProfile) -> np.ndarray:
+        """Per obstacle: the centre distance a zero-width trace of class `prof` must keep."""
+        need = self._ob_need.get(prof.name)
+        if need is None:
+            need = np.array([self._need(ob, prof, 0.0) for ob in self.obstacles], dtype=np.float64)
+            self._ob_need[prof.name] = need
+        return need
+
     def segment_clear(self, net: str, a, b, layer: int, width: float) -> bool:
         """True when a trace segment a-b of `net` keeps every required distance (hard and edge)."""
         prof = self.profile_of(net)
         half = width / 2
         bx = (min(a[0], b[0]), min(a[1], b[1]), max(a[0], b[0]), max(a[1], b[1]))
-        for ob in self.obstacles:
-            if layer not in ob.layers:
-                continue
+        boxes, rads, lmask, nets, kinds, owners = self._obstacle_arrays()
+        base = self._base_need(prof)
+        gx = np.maximum(np.maximum(boxes[:, 0] - bx[2], 0.0), bx[0] - boxes[:, 2])
+        gy = np.maximum(np.maximum(boxes[:, 1] - bx[3], 0.0), bx[1] - boxes[:, 3])
+        hit = (np.hypot(gx, gy) < base + half - TOL) & ((lmask >> layer) & 1).astype(bool)
+        for k in np.nonzero(hit)[0]:
+            ob = self.obstacles[k]
             if ob.kind == "copper" and ob.net == net:
                 continue
             if ob.kind == "body" and net in ob.owners:
                 continue
-            need = self._need(ob, prof, half)
-            gx = max(ob.box[0] - bx[2], 0.0, bx[0] - ob.box[2])
-            gy = max(ob.box[1] - bx[3], 0.0, bx[1] - ob.box[3])
-            if math.hypot(gx, gy) < need - TOL:
-                return False
+            return False
         line = shapely.linestrings([a, b]) if a != b else shapely.points(a)
         if not shapely.covers(self.outline, line):
             return False
