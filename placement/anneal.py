@@ -471,7 +471,7 @@ def anneal(prob: Problem, xy: np.ndarray, rot: np.ndarray, rng: np.random.Genera
     lam_start = lam_end / OVERLAP_RAMP
     window = span / 2
     steps = 60
-    per_step = max(20, int(max(100, min(40 * n, 8000)) * effort))
+    per_step = max(20, int(max(300, min(120 * n, 24000)) * effort))
     min_window = prob.board.rules.grid * 2
 
     def sweep(count, mode, temp, lam, window, ovf):

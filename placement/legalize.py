@@ -110,6 +110,11 @@ class Site:
         a = self._arr
         idx = np.nonzero(ok)[0]
         if len(a) and len(idx):
+            # only the rectangles near the candidates can clash (NaN rows, released, never do)
+            near = ((a[:, 0] - g < x1[idx].max()) & (a[:, 2] + g > x0[idx].min()) &
+                    (a[:, 1] - g < y1[idx].max()) & (a[:, 3] + g > y0[idx].min()))
+            a = a[near]
+        if len(a) and len(idx):
             # chunks keep the (candidates x rectangles) matrix small
             for s in range(0, len(idx), 4096):
                 sel = idx[s:s + 4096]
