@@ -71,8 +71,8 @@ class PlaceResult:
                      else "  wirelength before: - (not every part had a place)")
         lines.append(f"  wirelength after:  {self.after:.1f} mm")
         if self.random is not None:
-            ratio = self.after / self.random if self.random > 0 else float("nan")
-            lines.append(f"  a random legal placement: {self.random:.1f} mm (after/random {ratio:.2f})")
+            ratio = f"{self.after / self.random:.2f}" if self.random > 0 else "-"
+            lines.append(f"  a random legal placement: {self.random:.1f} mm (after/random {ratio})")
         elif self.placed:
             lines.append("  a random legal placement: - (none found)")
         else:
