@@ -199,7 +199,8 @@ def _hpwl(pads) -> float:
 
 def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty: Optional[float] = None,
                 seed: int = 0, reroute: bool = False, progress: bool = False, passes: Optional[int] = None,
-                jumper_penalty: Optional[float] = None, polish: bool = True) -> RouteResult:
+                jumper_penalty: Optional[float] = None, polish: bool = True,
+                retries: int = 2) -> RouteResult:
     """Route every net of `board` not yet routed; the input board is not changed.
 
     Parameters
@@ -217,6 +218,9 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
         Show a progress bar (passes and nets) on stderr.
     passes : int, optional
         Most negotiation passes (default :data:`DEFAULT_PASSES`).
+    retries : int
+        When nets stay unrouted, route the board again from scratch up to this many times in
+        other net orders (drawn from the seed) and keep the routing that leaves fewest unrouted.
     polish : bool
         When the routing is legal, route each net once more with the others as walls and
         no congestion costs, and keep the new route where it is cheaper: this takes out
@@ -253,13 +257,35 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
             failed[n.name] = f"part {missing[0]} has no place yet (run `elbowroom place` first)"
         else:
             todo_names.append(n.name)
+    start = b.copy()
+    best = None
+    for attempt in range(1 + max(0, int(retries))):
+        out_board, lost, npass, shared_left = _attempt(start, todo_names, seed, attempt, bend, via, jump, passes,
+                                                       progress, polish)
+        if best is None or len(lost) < len(best[1]):
+            best = (out_board, lost, npass, shared_left)
+        if not best[1]:
+            break
+    b, lost, npass, shared_left = best
+    failed.update(lost)
+    return RouteResult(b, _figures(b), {n: failed[n] for n in [m.name for m in b.nets] if n in failed},
+                       time.perf_counter() - t0, npass, shared_left)
+
+
+def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend: int, via: int, jump: int,
+             passes: int, progress: bool, polish: bool):
+    """One complete routing of `start`; attempt 0 takes nets shortest first, later attempts a
+    shuffled order (each net's half-perimeter scaled by a random factor from the seed)."""
+    b = start.copy()
     grid = RoutingGrid(b)
     groups = _pad_groups(b, grid)
-    start = b.copy()
     nets = [n for n in todo_names if len(groups.get(n, [])) > 1]
-    rng = np.random.default_rng(seed)
+    rng = np.random.default_rng([seed, attempt])
     ties = rng.random(len(nets))
-    order = [n for _, _, n in sorted(zip([_hpwl([p for g in groups[n] for p in g]) for n in nets], ties, nets))]
+    sizes = [_hpwl([p for g in groups[n] for p in g]) for n in nets]
+    if attempt:
+        sizes = [s * math.exp(rng.normal(0.0, 0.7)) for s in sizes]
+    order = [n for _, _, n in sorted(zip(sizes, ties, nets))]
     neg = _Negotiation(b, grid, order, groups, bend, via, jump)
     bar = None
     if progress:
@@ -271,7 +297,7 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
     for npass in range(1, passes + 1):
         if bar is not None:
             bar.reset(total=len(todo))
-            bar.set_description(f"pass {npass}")
+            bar.set_description(f"pass {npass}" + (f" (order {attempt + 1})" if attempt else ""))
         for net in todo:
             neg.rip(net)
             r = neg.route(net)
@@ -312,14 +338,11 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
             neg.lay(net, r)
     if lost:
         _repair(neg, lost, rounds=4 * len(lost) + 8)
-    failed.update(lost)
     if polish:
         _polish(neg, order)
     _write(b, grid, neg, order)
-    _settle(b, start, failed, order)
-    result = RouteResult(b, _figures(b), {n: failed[n] for n in [m.name for m in b.nets] if n in failed},
-                         time.perf_counter() - t0, npass, shared_left)
-    return result
+    _settle(b, start, lost, order)
+    return b, lost, npass, shared_left
 
 
 def _pure_cost(neg: _Negotiation, r: NetRoute) -> int:
