@@ -7,7 +7,7 @@ Usage::
 Each seed in ``A .. B-1`` makes one board with a random mix of features:
 
     layers1     one copper layer (surface parts on the bottom, jumpers allowed)
-    outline     a polygon outline: an L shape or a notched rectangle
+    outline     a polygon outline: an L shape, a notched rectangle, or chamfered corners
     custom      footprints of the file's own: circle/rect/oval pads of odd sizes, drills,
                 one pin on two pads, ``keepout_body``, non-plated holes
     rotated     parts at 90, 180, 270
@@ -18,6 +18,9 @@ Each seed in ``A .. B-1`` makes one board with a random mix of features:
     offgrid     parts placed off the grid (pads off the grid)
     bignets     nets of up to 12 pins
     onepin      one-pin nets
+    rules       other design rules: via and jumper sizes, edge clearance, default class
+    spread      some many-pin nets over pins far apart (a ground or a bus), and nets within one part
+    tight       parts closer to the edge and to keepouts (a channel of 1.2 mm, not 2.5 mm)
     grid=G      the routing grid pitch
 
 Parts are spread out (their rectangles grown by a 2.5 mm channel never overlap, and
@@ -56,7 +59,7 @@ from router.negotiate import route_board  # noqa: E402
 
 GRIDS = (0.1, 0.127, 0.2, 0.25, 0.5, 0.635, 1.27)
 FEATURES = ("layers1", "outline", "custom", "rotated", "bottom", "keepouts", "fixed", "classes",
-            "offgrid", "bignets", "onepin")
+            "offgrid", "bignets", "onepin", "rules", "spread", "tight")
 MARGIN = 1.5     # outline to a part rectangle
 GAP = 2.5        # part rectangle to part rectangle (about five 0.25 mm tracks)
 COVER = 0.40     # share of the board the part rectangles may cover
@@ -168,6 +171,9 @@ def _outline(rng, w: float, h: float, kind: str):
                1: [(0, 0), (w, 0), (w, h), (cw, h), (cw, h - ch), (0, h - ch)],
                2: [(cw, 0), (w, 0), (w, h), (0, h), (0, ch), (cw, ch)],
                3: [(0, 0), (w - cw, 0), (w - cw, ch), (w, ch), (w, h), (0, h)]}[c]
+    elif kind == "chamfer":    # 45-degree corners
+        c = _r(min(w, h) * rng.uniform(0.08, 0.2), 1)
+        pts = [(c, 0), (w - c, 0), (w, c), (w, h - c), (w - c, h), (c, h), (0, h - c), (0, c)]
     else:   # a notch in the middle of the bottom or the top edge
         nw, nh = _r(w * rng.uniform(0.15, 0.3), 1), _r(h * rng.uniform(0.15, 0.3), 1)
         x0 = _r((w - nw) / 2 + rng.uniform(-w / 6, w / 6), 1)
@@ -181,8 +187,10 @@ def _outline(rng, w: float, h: float, kind: str):
 def make_board(seed: int, nets: int | None = None, only: list[str] | None = None):
     """A varied board for `seed`; returns (board, features)."""
     rng = np.random.default_rng(seed)
+    rng2 = np.random.default_rng([seed, 2])     # the later features draw from here
     if only is None:
-        feats = {f for f in FEATURES if rng.random() < (0.3 if f == "layers1" else 0.5)}
+        feats = {f for f in FEATURES[:11] if rng.random() < (0.3 if f == "layers1" else 0.5)}
+        feats |= {f for f in FEATURES[11:] if rng2.random() < 0.35}
     else:
         feats = {f for f in only if f in FEATURES}
         rng.random(len(FEATURES))
@@ -206,12 +214,26 @@ def make_board(seed: int, nets: int | None = None, only: list[str] | None = None
     area = max(area, 900.0)
     aspect = float(rng.uniform(1.0, 1.7))
     okind = str(rng.choice(["L", "notch"])) if "outline" in feats else "rect"
+    if okind != "rect" and rng2.random() < 0.3:
+        okind = "chamfer"
     grow = 1.3 if okind != "rect" else 1.0
     if "keepouts" in feats:
         grow *= 1.1
     w = _r(math.sqrt(area * grow * aspect), 0)
     h = _r(math.sqrt(area * grow / aspect), 0)
     rules = Rules(grid=grid)
+    if "rules" in feats:
+        vd = float(rng2.choice([0.3, 0.35, 0.4, 0.5]))
+        rules.via_drill = vd
+        rules.via_diameter = _r(vd + 2 * float(rng2.choice([0.15, 0.2, 0.25])), 3)
+        rules.edge_clearance = float(rng2.choice([0.25, 0.3, 0.5, 0.8, 1.0]))
+        rules.min_hole_spacing = float(rng2.choice([0.25, 0.5, 0.6]))
+        jd = float(rng2.choice([0.6, 0.8, 1.0]))
+        rules.jumper_drill = jd
+        rules.jumper_diameter = _r(jd + float(rng2.choice([0.6, 0.8, 1.0])), 3)
+    tight = "tight" in feats
+    gap = 1.2 if tight else GAP
+    margin = 0.9 + rules.edge_clearance if tight else MARGIN + max(0.0, rules.edge_clearance - 0.5)
     if okind == "rect":
         outline = [(0.0, 0.0), (w, 0.0), (w, h), (0.0, h)]
         size = (w, h)
@@ -220,14 +242,18 @@ def make_board(seed: int, nets: int | None = None, only: list[str] | None = None
         size = None
     board = Board(f"stress-{seed}", outline, copper_layers=layers, rules=rules, size=size)
     board.classes["power"] = NetClass("power", 0.5, 0.25, current=1.0)
+    if "rules" in feats:
+        board.classes["default"] = NetClass("default", float(rng2.choice([0.15, 0.2, 0.25, 0.3])),
+                                            float(rng2.choice([0.15, 0.2, 0.25])))
     if "classes" in feats:
         board.classes["power"] = NetClass("power", 0.6, 0.3, current=1.2, voltage=24.0)
         board.classes["mains"] = NetClass("mains", 0.4, 0.3, voltage=float(rng.choice([60.0, 120.0])))
         board.classes["thin"] = NetClass("thin", 0.2, 0.15)
+        board.classes["wide"] = NetClass("wide", 1.0, 0.3, current=2.2)
     custom = _custom_footprints(rng) if "custom" in feats else {}
     board.footprints = dict(custom)
 
-    room = Polygon(outline).buffer(-MARGIN, join_style=2)
+    room = Polygon(outline).buffer(-margin, join_style=2)
     blocked = []      # grown rectangles and keepouts as shapely shapes
     # keepouts first, in free space
     if "keepouts" in feats:
@@ -256,7 +282,7 @@ def make_board(seed: int, nets: int | None = None, only: list[str] | None = None
                 else:
                     klayers = [None, ["top"], ["bottom"], ["top", "bottom"]][int(rng.integers(4))]
                 board.keepouts.append(Keepout(poly, klayers, is_rect))
-                blocked.append(shp.buffer(GAP / 2, join_style=2))
+                blocked.append(shp.buffer(gap / 2, join_style=2))
                 break
 
     # parts by rejection: random place, rectangle grown by the channel clear of all others
@@ -307,7 +333,7 @@ def make_board(seed: int, nets: int | None = None, only: list[str] | None = None
                                                 "header": "J"}[fpname.split("-")[0]]
         count[letter] += 1
         parts.append(Part(f"{letter}{count[letter]}", fpname, "", (px, py), rot, side, False))
-        blocked.append(rect.buffer(GAP / 2, join_style=2))
+        blocked.append(rect.buffer((gap if not tight or rng2.random() < 0.5 else GAP) / 2, join_style=2))
         cover += rect.area
         pins += len(fp.pins())
     board.parts = parts
@@ -340,7 +366,7 @@ def make_board(seed: int, nets: int | None = None, only: list[str] | None = None
             sizes.pop()
     classes = ["default"]
     if "classes" in feats:
-        classes = ["power", "mains", "thin"]
+        classes = ["power", "mains", "thin", "wide"]
     n_special = max(1, len(sizes) // 6)
     special = set(int(i) for i in rng.choice(len(sizes), size=min(n_special, len(sizes)), replace=False)) \
         if sizes else set()
@@ -352,16 +378,23 @@ def make_board(seed: int, nets: int | None = None, only: list[str] | None = None
         first = int(idx[int(rng.integers(len(idx)))])
         members = [first]
         free[first] = False
+        far = "spread" in feats and k >= 5 and rng2.random() < 0.5
+        within = "spread" in feats and k == 2 and rng2.random() < 0.15
         while len(members) < k:
             idx = np.flatnonzero(free)
             if len(idx) == 0:
                 break
             others = idx[~np.isin(part_of[idx], part_of[members])]
+            same = idx[np.isin(part_of[idx], part_of[members])]
             cand = others if len(others) else idx
+            if within and len(same):
+                cand = same
             d = np.min(np.hypot(xy[cand, None, 0] - xy[None, members, 0], xy[cand, None, 1] - xy[None, members, 1]),
                        axis=1)
             order = cand[np.argsort(d, kind="stable")]
             pick = int(order[int(rng.integers(min(3, len(order))))])
+            if far and len(order) > 3:
+                pick = int(order[int(rng2.integers(len(order)))])
             members.append(pick)
             free[pick] = False
         cls = "default"
