@@ -347,3 +347,10 @@ pins = ["P1.1", "P2.1"]
     assert check(r.board) == []
     ends = {tuple(p) for t in r.board.traces for p in (t.points[0], t.points[-1])}
     assert (4.13, 6.17) in ends and (15.88, 3.29) in ends
+
+
+def test_rerouting_every_net_each_pass_also_completes():
+    """The original negotiation (every net ripped up each pass) reaches a legal, complete routing too."""
+    b = load_board(BOARDS[[p.name for p in BOARDS].index("bench-power-monitor.toml")])
+    r = route_board(b, every_net=True)
+    assert r.failed == {} and check(r.board) == []
