@@ -504,8 +504,19 @@ class RoutingGrid:
             self._ob_need[prof.name] = need
         return need
 
-    def segment_clear(self, net: str, a, b, layer: int, width: float) -> bool:
-        """True when a trace segment a-b of `net` keeps every required distance (hard and edge)."""
+    def obstacle_arrays(self, items: list, prof: ClassProfile):
+        """Other copper as arrays for :meth:`segment_clear`: boxes, layer bits, and the centre
+        distance a zero-width trace of class `prof` must keep from each."""
+        if not items:
+            return None
+        boxes = np.array([ob.box for ob in items], dtype=np.float64).reshape(-1, 4)
+        lmask = np.array([sum(1 << l for l in ob.layers) for ob in items], dtype=np.int64)
+        need = np.array([self._need(ob, prof, 0.0) for ob in items], dtype=np.float64)
+        return boxes, lmask, need
+
+    def segment_clear(self, net: str, a, b, layer: int, width: float, others=None) -> bool:
+        """True when a trace segment a-b of `net` keeps every required distance (hard and edge,
+        and from `others`, :meth:`obstacle_arrays` of copper laid for other nets)."""
         prof = self.profile_of(net)
         half = width / 2
         bx = (min(a[0], b[0]), min(a[1], b[1]), max(a[0], b[0]), max(a[1], b[1]))
@@ -514,6 +525,12 @@ class RoutingGrid:
         gx = np.maximum(np.maximum(boxes[:, 0] - bx[2], 0.0), bx[0] - boxes[:, 2])
         gy = np.maximum(np.maximum(boxes[:, 1] - bx[3], 0.0), bx[1] - boxes[:, 3])
         hit = (np.hypot(gx, gy) < base + half - TOL) & ((lmask >> layer) & 1).astype(bool)
+        if others is not None:
+            oboxes, omask, oneed = others
+            ox = np.maximum(np.maximum(oboxes[:, 0] - bx[2], 0.0), bx[0] - oboxes[:, 2])
+            oy = np.maximum(np.maximum(oboxes[:, 1] - bx[3], 0.0), bx[1] - oboxes[:, 3])
+            if np.any((np.hypot(ox, oy) < oneed + half - TOL) & ((omask >> layer) & 1).astype(bool)):
+                return False
         for k in np.nonzero(hit)[0]:
             ob = self.obstacles[k]
             if ob.kind == "copper" and ob.net == net:

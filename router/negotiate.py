@@ -145,7 +145,13 @@ class _Negotiation:
         if strict:
             blocked = grid.soft_cell[k] > 0
             space.open_cell = np.ascontiguousarray(space.open_cell & ~blocked).astype(np.uint8)
-        return route_net(grid, net, space, self.groups[net], bend=self.bend, via=self.via, jump=self.jump)
+        others = None
+        if strict:
+            prof = grid.profile_of(net)
+            others = grid.obstacle_arrays([ob for n, items in sorted(self.soft.items()) if n != net
+                                           for ob in items], prof)
+        return route_net(grid, net, space, self.groups[net], bend=self.bend, via=self.via, jump=self.jump,
+                         others=others)
 
     def conflicts(self) -> tuple[dict, list]:
         """Nets sharing cells with other nets: net -> number of shared cells, and the cells."""
@@ -159,8 +165,8 @@ class _Negotiation:
             k = grid.profile_of(net).index
             grid.add_soft(self.soft[net], -1)
             n = 0
-            if r.cells:
-                c = np.array(sorted(r.cells), dtype=np.int64)
+            if r.cells or r.near:
+                c = np.array(sorted(r.cells | r.near), dtype=np.int64)
                 hit = grid.soft_cell[k][c[:, 0], c[:, 1], c[:, 2]] > 0
                 n += int(hit.sum())
                 cells_all.append(c[hit])
@@ -485,7 +491,7 @@ def _settle(b: Board, original: Board, failed: dict, order: list[str]) -> None:
                     bad.setdefault(n, (v.rule, v.at))
                     break
         if not bad:
-            return
+            break
         # take out the last-routed offender first; others may be clean without it
         net = max(bad, key=lambda n: order.index(n))
         rule, at = bad[net]
@@ -494,6 +500,11 @@ def _settle(b: Board, original: Board, failed: dict, order: list[str]) -> None:
         b.traces = b.traces[:before_t] + [t for t in b.traces[before_t:] if t.net != net]
         b.vias = b.vias[:before_v] + [v for v in b.vias[before_v:] if v.net != net]
         b.jumpers = b.jumpers[:before_j] + [j for j in b.jumpers[before_j:] if j.net != net]
+    from .connectivity import routed
+    joined = routed(b)
+    for net in order:
+        if net not in failed and not joined.get(net, True):
+            failed[net] = "its copper does not join every pin on the exact check; left as routed so far"
 
 
 def _has_new(b: Board, net: str, t0: int, v0: int, j0: int) -> bool:

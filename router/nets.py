@@ -55,6 +55,7 @@ class NetRoute:
     vias: list = field(default_factory=list)     # (j, i)
     jumpers: list = field(default_factory=list)  # ((x, y), (x, y))
     cells: set = field(default_factory=set)      # every (l, j, i) its copper uses
+    near: set = field(default_factory=set)       # grid points within half a pitch of its stubs (for sharing)
     failed: Optional[str] = None
 
     def segments(self, grid: RoutingGrid, width: float):
@@ -67,7 +68,7 @@ class NetRoute:
         return [grid.point(j, i) for j, i in self.vias]
 
 
-def _access(grid: RoutingGrid, space: SearchSpace, net: str, pad) -> dict:
+def _access(grid: RoutingGrid, space: SearchSpace, net: str, pad, others=None) -> dict:
     """Access cells of one pad: inside its copper, or one straight stub away, or (a pad no grid
     line crosses) an L-shaped stub from its centre."""
     core, rad = pad_core(pad)
@@ -110,7 +111,7 @@ def _access(grid: RoutingGrid, space: SearchSpace, net: str, pad) -> dict:
     cands.sort(key=lambda c: (c[0], c[1], c[2], c[3]))
     for length, l, j, i, stub in cands[:24]:
         pts = tuple((round(p[0], 6), round(p[1], 6)) for p in stub)
-        if grid.segment_clear(net, pts[0], pts[1], l, width):
+        if length <= _STUB_MAX * grid.pitch and grid.segment_clear(net, pts[0], pts[1], l, width, others):
             out[(l, j, i)] = pts
             if len(out) >= 6:
                 break
@@ -130,20 +131,43 @@ def _access(grid: RoutingGrid, space: SearchSpace, net: str, pad) -> dict:
     for length, l, j, i, pts in lcands[:48]:
         if (l, j, i) in out:
             continue
-        if all(grid.segment_clear(net, a, b, l, width) for a, b in zip(pts, pts[1:]) if a != b):
+        if all(grid.segment_clear(net, a, b, l, width, others) for a, b in zip(pts, pts[1:]) if a != b):
             out[(l, j, i)] = pts
             if len(out) >= 6:
                 break
     return out
 
 
-def terminals(grid: RoutingGrid, space: SearchSpace, net: str, pad_groups: list[list]) -> list[Terminal]:
+#: Longest straight stub, in grid pitches (a stub is free in the search, so it is kept short).
+_STUB_MAX = 1.5
+
+
+def _add_stub(grid: RoutingGrid, route: NetRoute, stub, layer: int) -> None:
+    """Lay a stub's segments, and count the grid points near it as cells the net uses."""
+    g = grid.pitch
+    for a, b in zip(stub, stub[1:]):
+        if a == b:
+            continue
+        route.stubs.append((a, b, layer))
+        x0, x1 = sorted((a[0], b[0]))
+        y0, y1 = sorted((a[1], b[1]))
+        ia, ib, ja, jb = grid._window((x0, y0, x1, y1), g / 2)
+        for j in range(ja, jb):
+            for i in range(ia, ib):
+                x, y = grid.x(i), grid.y(j)
+                gx = max(x0 - x, 0.0, x - x1)
+                gy = max(y0 - y, 0.0, y - y1)
+                if gx * gx + gy * gy <= (g / 2) ** 2 + TOL:
+                    route.near.add((layer, j, i))
+
+
+def terminals(grid: RoutingGrid, space: SearchSpace, net: str, pad_groups: list[list], others=None) -> list[Terminal]:
     """The terminals of `net`: groups of already-joined pads with their access cells."""
     out = []
     for pads in pad_groups:
         t = Terminal(list(pads))
         for p in pads:
-            for c, stub in _access(grid, space, net, p).items():
+            for c, stub in _access(grid, space, net, p, others).items():
                 if c not in t.cells or (t.cells[c] is not None and stub is None):
                     t.cells[c] = stub
         out.append(t)
@@ -260,7 +284,7 @@ def _lay_path(grid: RoutingGrid, space: SearchSpace, route: NetRoute, cells: np.
 
 
 def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[list], *,
-              bend: int, via: int, jump: int) -> NetRoute:
+              bend: int, via: int, jump: int, others=None) -> NetRoute:
     """Grow the rectilinear Steiner tree of one net.
 
     Parameters
@@ -273,6 +297,9 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
         The net's pads, grouped by the copper that already joins them.
     bend, via, jump : int
         Penalties in search units (:data:`router.search.STEP` per grid step).
+    others : tuple of arrays, optional
+        Copper the router laid for other nets (:meth:`RoutingGrid.obstacle_arrays`): stubs,
+        which leave the grid, must keep clear of it too (used when other nets are walls).
 
     Returns
     -------
@@ -281,7 +308,7 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
         (the copper of the pins that were joined is kept in the route).
     """
     route = NetRoute(net)
-    terms = terminals(grid, space, net, pad_groups)
+    terms = terminals(grid, space, net, pad_groups, others)
     if len(terms) <= 1:
         return route
     blind = [t for t in terms if not t.cells]
@@ -325,14 +352,14 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
         end = tuple(int(v) for v in path.cells[-1])
         stub = tree.get(start)
         if stub is not None and start not in used_stub:
-            route.stubs.extend((a, b, start[0]) for a, b in zip(stub, stub[1:]) if a != b)
+            _add_stub(grid, route, stub, start[0])
             used_stub.add(start)
             tree[start] = None
         new = _lay_path(grid, space, route, path.cells)
         k = owner[end]
         stub = terms[k].cells[end]
         if stub is not None:
-            route.stubs.extend((a, b, end[0]) for a, b in zip(stub, stub[1:]) if a != b)
+            _add_stub(grid, route, stub, end[0])
         # every terminal whose pad holds the end point directly is joined as well
         joined = {k} | {q for q in left if terms[q].cells.get(end, 0) is None}
         for q in sorted(joined):

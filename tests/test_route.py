@@ -354,3 +354,37 @@ def test_rerouting_every_net_each_pass_also_completes():
     b = load_board(BOARDS[[p.name for p in BOARDS].index("bench-power-monitor.toml")])
     r = route_board(b, every_net=True)
     assert r.failed == {} and check(r.board) == []
+
+
+def test_stubs_of_two_nets_do_not_cross_on_a_coarse_grid():
+    """On a 1.27 mm grid two SOT-23 pads leave by stubs; the stubs are kept clear of each other
+    (a case the stress script found: it used to end in a short and one net dropped)."""
+    b = loads_board('''format = 1
+[board]
+name = "stub-short"
+size = [70.0, 45.0]
+[rules]
+grid = 1.27
+[[parts]]
+ref = "Q5"
+footprint = "sot-23"
+at = [37.445, 4.178]
+rotation = 270
+[[parts]]
+ref = "Q12"
+footprint = "sot-23"
+at = [39.354, 13.038]
+[[parts]]
+ref = "R32"
+footprint = "chip-1206"
+at = [49.851, 11.893]
+rotation = 270
+[[nets]]
+name = "N4"
+pins = ["Q12.3", "Q5.3"]
+[[nets]]
+name = "N37"
+pins = ["Q5.1", "R32.2"]
+''')
+    r = route_board(b)
+    assert r.failed == {} and check(r.board) == []
