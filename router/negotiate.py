@@ -145,6 +145,19 @@ class _Negotiation:
         if strict:
             blocked = grid.soft_cell[k] > 0
             space.open_cell = np.ascontiguousarray(space.open_cell & ~blocked).astype(np.uint8)
+            # copper off the grid (stubs, jumpers' far ends) can sit between two open points: block those steps too
+            prof = grid.profile_of(net)
+            off = [ob for n, items in sorted(self.soft.items()) if n != net for ob in items
+                   if not all(abs(v / grid.pitch - round(v / grid.pitch)) < 1e-6 for v in ob.box)]
+            if off:
+                c = np.zeros((grid.L, grid.ny, grid.nx), np.int32)
+                h = np.zeros_like(c)
+                v = np.zeros_like(c)
+                for ob in off:
+                    grid._stamp_maps(ob, grid._need(ob, prof, prof.half), 1, c, h, v)
+                space.open_cell = np.ascontiguousarray((space.open_cell.astype(bool) & (c == 0)).astype(np.uint8))
+                space.open_h = np.ascontiguousarray((space.open_h.astype(bool) & (h == 0)).astype(np.uint8))
+                space.open_v = np.ascontiguousarray((space.open_v.astype(bool) & (v == 0)).astype(np.uint8))
         others = None
         if strict:
             prof = grid.profile_of(net)
