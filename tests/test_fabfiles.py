@@ -464,9 +464,12 @@ def test_any_coordinates_read_back_within_a_nanometre(tmp_path_factory, routes):
     files = export(board, tmp_path_factory.mktemp("fab"))
     for layer in board.layers:
         objs = _read_gerber(_role_path(board, files, f"copper-{layer}")).objects
-        got = sorted([(min((o.x1, o.y1), (o.x2, o.y2)), max((o.x1, o.y1), (o.x2, o.y2)), o.aperture.diameter)
-                      for o in objs if isinstance(o, Line)])
-        want = sorted([(min(a, b), max(a, b), t.width) for t in traces if t.layer == layer
+        def nm(p):      # the file's resolution: pair segments up by their coordinates at 1 nm
+            return (round(p[0], 6), round(p[1], 6))
+
+        got = sorted([(min(nm((o.x1, o.y1)), nm((o.x2, o.y2))), max(nm((o.x1, o.y1)), nm((o.x2, o.y2))),
+                       round(o.aperture.diameter, 6)) for o in objs if isinstance(o, Line)])
+        want = sorted([(min(nm(a), nm(b)), max(nm(a), nm(b)), round(t.width, 6)) for t in traces if t.layer == layer
                        for a, b in zip(t.points, t.points[1:]) if a != b])
         assert len(got) == len(want)
         for g, w in zip(got, want):
