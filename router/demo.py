@@ -41,9 +41,12 @@ def run_demo(out: Path, quiet: bool = False) -> int:
     if any(p.at is None for p in board.parts):
         if _have("placement.anneal"):
             from placement import place
-            board = place(board, seed=0).board
+            placed = place(board, seed=0)
+            board = placed.board
             save_board(board, out / "placed.toml")
             say(f"placed -> {out / 'placed.toml'}")
+            for line in placed.summary().splitlines()[1:]:
+                say("  " + line.strip())
         else:
             skipped.append("place")
 
@@ -53,7 +56,9 @@ def run_demo(out: Path, quiet: bool = False) -> int:
         board = result.board
         save_board(board, out / "routed.toml")
         t = result.figures["totals"]
-        say(f"routed {t['routed']} of {t['nets']} nets in {result.seconds:.1f} s -> {out / 'routed.toml'}")
+        say(f"routed {t['routed']} of {t['nets']} nets in {result.seconds:.1f} s: {t['bends']} bends, "
+            f"{t['length']:.1f} mm (lower bound {t['length_lower_bound']:.1f} mm), {t['vias']} vias "
+            f"-> {out / 'routed.toml'}")
     else:
         skipped.append("route")
 
