@@ -63,7 +63,6 @@ class Problem:
         self.site = site
         self.gap = site.gap
         n = self.n = len(self.parts)
-        index = {p.ref: i for i, p in enumerate(self.parts)}
         self.offsets = [rect_offsets(board, p) for p in self.parts]
         self.off = np.array(self.offsets).reshape(n, 4, 4) if n else np.zeros((0, 4, 4))
         stay_pads: dict[str, list] = {}

@@ -24,11 +24,11 @@ from shapely.geometry import LineString, Point as SPoint, Polygon, box
 from shapely.ops import nearest_points
 
 from .connectivity import components, item_index
-from .copper import CopperItem, HoleItem, copper_items, holes
+from .copper import CopperItem, copper_items, holes
 from .geometry import body_rect, outline_polygon, part_footprint, placed_pads
 from .model import Board
 from .rules import ipc2221_spacing, ipc2221_width_for_current, required_clearance
-from .units import TOL, meets, short_of
+from .units import TOL, short_of
 
 __all__ = ["RULES", "Violation", "check", "warnings", "violations_json", "format_violations",
            "candidate_pairs"]

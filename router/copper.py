@@ -14,7 +14,7 @@ polygon for drawing only.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Optional
 
 from shapely.geometry import LineString, Point as SPoint, box

@@ -27,7 +27,7 @@ Copper laid by the router during negotiation is counted in separate *soft* maps
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Optional
 
 import numpy as np
@@ -36,7 +36,7 @@ from shapely.geometry import Polygon
 
 from .copper import pad_core
 from .geometry import (PlacedPad, body_rect, outline_polygon, part_footprint, placed_holes, placed_pads)
-from .model import Board, NetClass
+from .model import Board
 from .rules import required_clearance
 from .search import SearchSpace
 from .units import TOL

@@ -69,15 +69,7 @@ class RouteResult:
 
 
 def _figures(board: Board) -> dict:
-    try:
-        from .figures import board_figures
-    except ImportError:           # a version without figures: the counts the contract names, no bounds
-        from .connectivity import routed
-        r = routed(board)
-        nets = [{"name": n.name, "routed": r[n.name]} for n in board.nets]
-        return {"nets": nets, "totals": {"nets": len(nets), "routed": sum(r.values()), "bends": 0,
-                                         "length": 0.0, "vias": len(board.vias), "jumpers": len(board.jumpers),
-                                         "bends_lower_bound": 0, "length_lower_bound": 0.0}}
+    from .figures import board_figures
     return board_figures(board)
 
 

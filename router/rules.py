@@ -12,7 +12,6 @@ References
 """
 from __future__ import annotations
 
-import math
 
 from .model import Board, NetClass
 

@@ -66,7 +66,6 @@ def main(argv=None) -> int:
             if can_route and (args.route_up_to is None or len(board.parts) <= args.route_up_to):
                 done = not route(res.board, seed=0).failed
             rows.append((len(board.parts), len(res.placed), res.random, rows_hpwl, res.after, secs, done))
-        n = len(rows)
         mean = lambda k: sum(r[k] for r in rows if r[k] is not None) / max(1, sum(r[k] is not None for r in rows))
         ratio = sum(r[2] / r[4] for r in rows if r[2]) / max(1, sum(1 for r in rows if r[2]))
         line = (f"{mean(0):6.0f} {mean(1):7.0f} {mean(2):10.1f} {mean(3):9.1f} {mean(4):9.1f} "

@@ -45,8 +45,7 @@ from collections import Counter
 from pathlib import Path
 
 import numpy as np
-from shapely.geometry import LineString, Point as SPoint, Polygon, box
-from shapely.ops import unary_union
+from shapely.geometry import LineString, Polygon, box
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
