@@ -32,10 +32,11 @@ def run_demo(out: Path, quiet: bool = False) -> int:
     src = out / "demo.toml"
     write_atomic(src, demo_text())
     board = loads_board(demo_text(), str(src))
-    from .geometry import placed_pads
-    pads = placed_pads(board)
-    say(f"demo board '{board.name}': {len(board.parts)} parts, {len(pads)} pads, {len(board.nets)} nets, "
-        f"{board.copper_layers} copper layers -> {src}")
+    from .geometry import part_footprint
+    pads = sum(len(part_footprint(board, p).pads) for p in board.parts)
+    waiting = sum(1 for p in board.parts if p.at is None)
+    say(f"demo board '{board.name}': {len(board.parts)} parts ({waiting} without a place), {pads} pads, "
+        f"{len(board.nets)} nets, {board.copper_layers} copper layers -> {src}")
     skipped = []
 
     if any(p.at is None for p in board.parts):
