@@ -84,6 +84,7 @@ class _Negotiation:
         self.bend, self.via, self.jump = bend, via, jump
         self.routes: dict[str, NetRoute] = {}
         self.soft: dict[str, list] = {}
+        self.off_grid: dict[str, list] = {}       # the soft items of each net that lie off the grid
         self.own = {n: grid.own_obstacles(n) for n in nets}
         self.hist = np.zeros((grid.L, grid.ny, grid.nx), np.int64)
         self.present = 0.5
@@ -112,12 +113,15 @@ class _Negotiation:
             grid.add_wire(a, b, +1)
         self.routes[net] = r
         self.soft[net] = items
+        g = grid.pitch
+        self.off_grid[net] = [ob for ob in items if not all(abs(v / g - round(v / g)) < 1e-6 for v in ob.box)]
 
     def rip(self, net: str) -> None:
         r = self.routes.pop(net, None)
         if r is None:
             return
         self.grid.add_soft(self.soft.pop(net), -1)
+        self.off_grid.pop(net, None)
         for a, b in r.jumpers:
             self.grid.add_wire(a, b, -1)
 
@@ -139,8 +143,7 @@ class _Negotiation:
             space.open_cell = np.ascontiguousarray(space.open_cell & ~blocked).astype(np.uint8)
             # copper off the grid (stubs, jumpers' far ends) can sit between two open points: block those steps too
             prof = grid.profile_of(net)
-            off = [ob for n, items in sorted(self.soft.items()) if n != net for ob in items
-                   if not all(abs(v / grid.pitch - round(v / grid.pitch)) < 1e-6 for v in ob.box)]
+            off = [ob for n, items in sorted(self.off_grid.items()) if n != net for ob in items]
             if off:
                 c = np.zeros((grid.L, grid.ny, grid.nx), np.int32)
                 h = np.zeros_like(c)
@@ -196,10 +199,9 @@ def _pad_groups(board: Board, grid: RoutingGrid):
     items = copper_items(board)
     labels = components(board, items)
     by_net: dict[str, dict[int, list]] = defaultdict(dict)
-    for k, pad in enumerate(grid.pads):
+    for k, pad in enumerate(grid.pads):          # pads in file order, so groups come in a fixed order
         by_net[pad.net].setdefault(labels[k], []).append(pad)
-    return {net: [g for _, g in sorted(d.items(), key=lambda kv: min(p.index for p in kv[1]) + 0 * kv[0])]
-            for net, d in by_net.items()}
+    return {net: list(d.values()) for net, d in by_net.items()}
 
 
 def _hpwl(pads) -> float:

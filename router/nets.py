@@ -23,6 +23,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
+from functools import lru_cache
 from typing import Optional
 
 import numpy as np
@@ -235,7 +236,9 @@ def _wires_cross(a, b) -> bool:
     return ax0 <= bx1 + TOL and bx0 <= ax1 + TOL and ay0 <= by1 + TOL and by0 <= ay1 + TOL
 
 
+@lru_cache(maxsize=8)
 def _k_to_m(g: float) -> dict:
+    """Jumper length in cells -> the multiple of 2.54 mm it stands for (the first that rounds to it)."""
     k_to_m = {}
     for m in range(1, 64):
         k_to_m.setdefault(int(round(m * JUMP_PITCH / g)), m)

@@ -515,6 +515,22 @@ def reference_graph(space: SearchSpace, sources, targets, *, bend: int, via: int
     def cell_open(l, j, i):
         return 0 <= i < nx and 0 <= j < ny and space.open_cell[l, j, i] != 0
 
+    def add_jumpers(u, l, j, i):
+        """Edges for every jumper that may leave cell (l, j, i) from state u."""
+        if not jump_cells or not space.jump_ok[j, i]:
+            return
+        for k in jump_cells:
+            for nd in range(4):
+                ni, nj = i + k * int(_DI[nd]), j + k * int(_DJ[nd])
+                if not cell_open(l, nj, ni) or not space.jump_ok[nj, ni]:
+                    continue
+                if wire is not None:
+                    span = wire[j, min(i, ni):max(i, ni) + 1] if nd in (0, 2) else wire[min(j, nj):max(j, nj) + 1, i]
+                    if span.any():
+                        continue
+                G.add_edge(u, (l, nj, ni, NONE), weight=jump + step * k + int(space.extra[l, nj, ni])
+                           + int(space.hole_extra[j, i]) + int(space.hole_extra[nj, ni]))
+
     for l in range(L):
         for j in range(ny):
             for i in range(nx):
@@ -539,22 +555,8 @@ def reference_graph(space: SearchSpace, sources, targets, *, bend: int, via: int
                     if L == 2 and space.via_ok[j, i] and cell_open(1 - l, j, i):
                         G.add_edge(u, (1 - l, j, i, NONE),
                                    weight=via + int(space.extra[1 - l, j, i]) + int(space.hole_extra[j, i]))
-                    if jump_cells and space.jump_ok[j, i] and d != NONE:
-                        for k in jump_cells:
-                            for nd in range(4):
-                                ni, nj = i + k * int(_DI[nd]), j + k * int(_DJ[nd])
-                                if not cell_open(l, nj, ni) or not space.jump_ok[nj, ni]:
-                                    continue
-                                if wire is not None:
-                                    if nd in (0, 2):
-                                        span = wire[j, min(i, ni):max(i, ni) + 1]
-                                    else:
-                                        span = wire[min(j, nj):max(j, nj) + 1, i]
-                                    if span.any():
-                                        continue
-                                G.add_edge(u, (l, nj, ni, NONE),
-                                           weight=jump + step * k + int(space.extra[l, nj, ni])
-                                           + int(space.hole_extra[j, i]) + int(space.hole_extra[nj, ni]))
+                    if d != NONE:
+                        add_jumpers(u, l, j, i)
     # a source state: like NONE, and a jumper may leave it (a jumper may not leave a jumper's landing)
     for (l, j, i) in np.asarray(sources).reshape(-1, 3):
         l, j, i = int(l), int(j), int(i)
@@ -562,18 +564,7 @@ def reference_graph(space: SearchSpace, sources, targets, *, bend: int, via: int
         G.add_edge("S", src, weight=0)
         for _, v, w in list(G.out_edges((l, j, i, NONE), data="weight")):
             G.add_edge(src, v, weight=w)
-        if jump_cells and space.jump_ok[j, i]:
-            for k in jump_cells:
-                for nd in range(4):
-                    ni, nj = i + k * int(_DI[nd]), j + k * int(_DJ[nd])
-                    if not cell_open(l, nj, ni) or not space.jump_ok[nj, ni]:
-                        continue
-                    if wire is not None:
-                        span = wire[j, min(i, ni):max(i, ni) + 1] if nd in (0, 2) else wire[min(j, nj):max(j, nj) + 1, i]
-                        if span.any():
-                            continue
-                    G.add_edge(src, (l, nj, ni, NONE), weight=jump + step * k + int(space.extra[l, nj, ni])
-                               + int(space.hole_extra[j, i]) + int(space.hole_extra[nj, ni]))
+        add_jumpers(src, l, j, i)
         if any(int(t[0]) == l and int(t[1]) == j and int(t[2]) == i for t in np.asarray(targets).reshape(-1, 3)):
             G.add_edge(src, "T", weight=0)
     for (l, j, i) in np.asarray(targets).reshape(-1, 3):

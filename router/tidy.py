@@ -13,9 +13,7 @@ from __future__ import annotations
 
 from collections import defaultdict
 
-from .model import Trace
-
-__all__ = ["polylines", "trim_dangling", "net_traces"]
+__all__ = ["polylines", "trim_dangling"]
 
 
 def _key(p):
@@ -106,12 +104,3 @@ def polylines(segments) -> list[list]:
                 pts.append(q)
         merged.append([(float(x), float(y)) for x, y in pts])
     return merged
-
-
-def net_traces(net: str, layer_segments: dict, width: float) -> list[Trace]:
-    """Traces of one net from its segments per layer name."""
-    out = []
-    for layer in sorted(layer_segments):
-        for pts in polylines(layer_segments[layer]):
-            out.append(Trace(net, layer, width, [tuple(p) for p in pts]))
-    return out
