@@ -76,7 +76,7 @@ class Problem:
                 offs = []
                 for r in _ROTS:
                     probe = Part(p.ref, p.footprint, at=(0.0, 0.0), rotation=r, side=p.side)
-                    offs.append(transform(probe, pad.at))
+                    offs.append(transform(probe, pad.offset))
                 pins.setdefault(f"{p.ref}.{pad.pin}", []).append(len(t_part))
                 t_part.append(i)
                 t_off.append(offs)

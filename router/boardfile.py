@@ -30,7 +30,9 @@ __all__ = ["load_board", "save_board", "loads_board", "dumps_board", "validate_b
 FORMAT = 1
 TOP_KEYS = {"format", "board", "rules", "classes", "footprints", "parts", "nets", "keepouts",
             "traces", "vias", "jumpers"}
-PAD_SHAPES = ("circle", "rect", "oval")
+PAD_SHAPES = ("round", "rectangle", "obround")   # the open Gerber standard's aperture words
+#: words of an older pad vocabulary, refused with the word to use instead
+OLD_PAD_SHAPES = {"circle": "round", "rect": "rectangle", "oval": "obround"}
 RULE_FIELDS = {f.name: f for f in fields(Rules)}
 # rules that may be zero (a board with no edge margin is odd but legal)
 RULES_NONNEGATIVE = {"edge_clearance", "min_annular_ring", "min_hole_spacing", "mask_expansion",
@@ -446,13 +448,18 @@ def _footprint(r: _Reader, fname, fval) -> Footprint:
     for k, pv in enumerate(r.array(fval.get("pads", []), f"{entry}.pads")):
         pentry = f"{entry}.pads[{k}]"
         pv = r.table(pv, pentry)
-        r.keys(pv, pentry, {"pin", "at", "shape", "size", "drill"}, ("pin", "at", "size"))
+        if "at" in pv:
+            r.fail(pentry, "a pad's place in its footprint is 'offset', not 'at'; rename the key")
+        r.keys(pv, pentry, {"pin", "offset", "shape", "size", "drill"}, ("pin", "offset", "size"))
         pin = pv["pin"]
         if isinstance(pin, int) and not isinstance(pin, bool):
             pin = str(pin)
         pin = r.string(pin, f"{pentry}.pin")
         pentry = f"{entry} pad of pin {pin}"
-        shape = r.string(pv.get("shape", "circle"), f"{pentry} shape")
+        shape = r.string(pv.get("shape", "round"), f"{pentry} shape")
+        if shape in OLD_PAD_SHAPES:
+            r.fail(pentry, f"shape '{shape}' is not a pad word of this format; "
+                           f"use '{OLD_PAD_SHAPES[shape]}' (pad shapes: {', '.join(PAD_SHAPES)})")
         if shape not in PAD_SHAPES:
             r.fail(pentry, f"unknown shape '{shape}' (known: {', '.join(PAD_SHAPES)})")
         size = r.size(pv["size"], f"{pentry} size")
@@ -462,13 +469,15 @@ def _footprint(r: _Reader, fname, fval) -> Footprint:
             if drill >= min(size) - TOL:
                 r.fail(pentry, f"drill {drill} is as large as the pad's smaller side {min(size)}; "
                                "make the pad larger or the drill smaller")
-        pads.append(Pad(pin, r.point(pv["at"], f"{pentry} at"), shape, size, drill))
+        pads.append(Pad(pin, r.point(pv["offset"], f"{pentry} offset"), shape, size, drill))
     holes = []
     for k, hv in enumerate(r.array(fval.get("holes", []), f"{entry}.holes")):
         hentry = f"{entry}.holes[{k}]"
         hv = r.table(hv, hentry)
-        r.keys(hv, hentry, {"at", "drill"}, ("at", "drill"))
-        holes.append(Hole(r.point(hv["at"], f"{hentry} at"), r.number(hv["drill"], f"{hentry} drill", positive=True)))
+        if "at" in hv:
+            r.fail(hentry, "a hole's place in its footprint is 'offset', not 'at'; rename the key")
+        r.keys(hv, hentry, {"offset", "drill"}, ("offset", "drill"))
+        holes.append(Hole(r.point(hv["offset"], f"{hentry} offset"), r.number(hv["drill"], f"{hentry} drill", positive=True)))
     keepout_body = r.boolean(fval.get("keepout_body", False), f"{entry}.keepout_body")
     return Footprint(fname, body, pads, holes, keepout_body)
 
@@ -519,13 +528,13 @@ def _to_dict(board: Board) -> dict:
                 f["keepout_body"] = True
             pads = []
             for pad in fp.pads:
-                pd = {"pin": pad.pin, "at": _pt(pad.at), "shape": pad.shape, "size": _pt(pad.size)}
+                pd = {"pin": pad.pin, "offset": _pt(pad.offset), "shape": pad.shape, "size": _pt(pad.size)}
                 if pad.drill is not None:
                     pd["drill"] = _num(pad.drill)
                 pads.append(pd)
             f["pads"] = pads
             if fp.holes:
-                f["holes"] = [{"at": _pt(h.at), "drill": _num(h.drill)} for h in fp.holes]
+                f["holes"] = [{"offset": _pt(h.offset), "drill": _num(h.drill)} for h in fp.holes]
             fps[name] = f
         d["footprints"] = fps
     parts = []

@@ -431,7 +431,7 @@ def generate_board(seed, *, nets: int = 20, size=(60.0, 40.0), layers: int = 2, 
                 continue
             seen.add(pad.pin)
             pin_names.append(f"{p.ref}.{pad.pin}")
-            pin_xy.append(transform(p, pad.at))
+            pin_xy.append(transform(p, pad.offset))
             pin_part.append(k)
     sizes = _fit_sizes(sizes, len(pin_names))
     n_power = max(1, min(8, len(sizes) // 8))

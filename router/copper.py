@@ -101,15 +101,15 @@ def pad_core(pad: PlacedPad) -> tuple[BaseGeometry, float]:
     Examples
     --------
     >>> from router.geometry import PlacedPad
-    >>> core, r = pad_core(PlacedPad("U1", "1", "N", 0.0, 0.0, "oval", 3.0, 1.0, None, ("top",), 0))
+    >>> core, r = pad_core(PlacedPad("U1", "1", "N", 0.0, 0.0, "obround", 3.0, 1.0, None, ("top",), 0))
     >>> list(core.coords), r
     ([(-1.0, 0.0), (1.0, 0.0)], 0.5)
     """
     x, y, w, h = pad.x, pad.y, pad.w, pad.h
-    if pad.shape == "rect":
+    if pad.shape == "rectangle":
         return box(x - w / 2, y - h / 2, x + w / 2, y + h / 2), 0.0
     r = min(w, h) / 2
-    if pad.shape == "circle" or abs(w - h) <= 1e-12:
+    if pad.shape == "round" or abs(w - h) <= 1e-12:
         return SPoint(x, y), r
     if w > h:
         return LineString([(x - w / 2 + r, y), (x + w / 2 - r, y)]), r

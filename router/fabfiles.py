@@ -214,11 +214,11 @@ class _Gerber:
         return self.apertures[key]
 
     def pad_aperture(self, function: str, shape: str, w: float, h: float) -> int:
-        if shape == "circle":
+        if shape == "round":
             return self.aperture(function, "C", min(w, h))
-        if shape == "oval" and abs(w - h) <= 1e-12:
+        if shape == "obround" and abs(w - h) <= 1e-12:
             return self.aperture(function, "C", w)
-        return self.aperture(function, "R" if shape == "rect" else "O", w, h)
+        return self.aperture(function, "R" if shape == "rectangle" else "O", w, h)
 
     def _use(self, code: int) -> None:
         if code != self._current:
@@ -382,12 +382,12 @@ def _openings(board: Board, side: str, pads: list[PlacedPad], open_vias: bool) -
             out.append(_Opening(_pad_function(pad), pad.shape, pad.at, pad.w + 2 * e, pad.h + 2 * e))
     for j in board.jumpers:
         for at in (j.start, j.end):
-            out.append(_Opening("ComponentPad", "circle", at, j.diameter + 2 * e, j.diameter + 2 * e))
+            out.append(_Opening("ComponentPad", "round", at, j.diameter + 2 * e, j.diameter + 2 * e))
     if open_vias:
         for v in board.vias:
-            out.append(_Opening("ViaPad", "circle", v.at, v.diameter + 2 * e, v.diameter + 2 * e))
+            out.append(_Opening("ViaPad", "round", v.at, v.diameter + 2 * e, v.diameter + 2 * e))
     for h in placed_holes(board):
-        out.append(_Opening("Other,NonPlatedHole", "circle", (h.x, h.y),
+        out.append(_Opening("Other,NonPlatedHole", "round", (h.x, h.y),
                             h.drill + 2 * e, h.drill + 2 * e))
     return out
 

@@ -46,8 +46,8 @@ def _round(v: float) -> float:
 def _chip(code: str) -> Footprint:
     length, width, px, py, cx = CHIP_SIZES[code]
     pads = [
-        Pad("1", (-cx, 0.0), "rect", (px, py)),
-        Pad("2", (cx, 0.0), "rect", (px, py)),
+        Pad("1", (-cx, 0.0), "rectangle", (px, py)),
+        Pad("2", (cx, 0.0), "rectangle", (px, py)),
     ]
     return Footprint(f"chip-{code}", (length, width), pads)
 
@@ -57,9 +57,9 @@ def _sot23() -> Footprint:
     # across the body (IPC-7351B nominal, from memory); pad 0.6 x 0.7 mm, from memory.
     pad = (0.6, 0.7)
     pads = [
-        Pad("1", (-0.95, -1.1), "rect", pad),
-        Pad("2", (0.95, -1.1), "rect", pad),
-        Pad("3", (0.0, 1.1), "rect", pad),
+        Pad("1", (-0.95, -1.1), "rectangle", pad),
+        Pad("2", (0.95, -1.1), "rectangle", pad),
+        Pad("3", (0.0, 1.1), "rectangle", pad),
     ]
     return Footprint("sot-23", (2.9, 1.3), pads)
 
@@ -88,7 +88,7 @@ def _soic(n: int) -> Footprint:
     else:
         width, rows, pad = 7.5, 9.4, (0.6, 2.0)
         length = n / 2 * 1.27 + 0.1
-    pads = _dual_row(n, 1.27, rows, pad, None, "rect", "rect")
+    pads = _dual_row(n, 1.27, rows, pad, None, "rectangle", "rectangle")
     return Footprint(f"soic-{n}", (_round(length), width), pads)
 
 
@@ -97,7 +97,7 @@ def _dip(n: int, wide: bool) -> Footprint:
     rows = 15.24 if wide else 7.62
     width = 13.7 if wide else 6.35
     dia, drill = DIP_PAD
-    pads = _dual_row(n, PITCH_100MIL, rows, (dia, dia), drill, "circle", "rect")
+    pads = _dual_row(n, PITCH_100MIL, rows, (dia, dia), drill, "round", "rectangle")
     name = f"dip-{n}-wide" if wide else f"dip-{n}"
     return Footprint(name, (_round(n / 2 * PITCH_100MIL), width), pads)
 
@@ -109,14 +109,14 @@ def _header(rows: int, n: int) -> Footprint:
     if rows == 1:
         for i in range(n):
             pads.append(Pad(str(i + 1), (_round(x0 + i * PITCH_100MIL), 0.0),
-                            "rect" if i == 0 else "circle", (dia, dia), drill))
+                            "rectangle" if i == 0 else "round", (dia, dia), drill))
         body = (n * PITCH_100MIL, PITCH_100MIL)
     else:
         # two rows: pins 1 and 2 side by side across the rows, odd pins on the lower row
         for i in range(n):
             x = _round(x0 + i * PITCH_100MIL)
-            pads.append(Pad(str(2 * i + 1), (x, -PITCH_100MIL / 2), "rect" if i == 0 else "circle", (dia, dia), drill))
-            pads.append(Pad(str(2 * i + 2), (x, PITCH_100MIL / 2), "circle", (dia, dia), drill))
+            pads.append(Pad(str(2 * i + 1), (x, -PITCH_100MIL / 2), "rectangle" if i == 0 else "round", (dia, dia), drill))
+            pads.append(Pad(str(2 * i + 2), (x, PITCH_100MIL / 2), "round", (dia, dia), drill))
         body = (n * PITCH_100MIL, 2 * PITCH_100MIL)
     return Footprint(f"header-{rows}x{n}", (_round(body[0]), _round(body[1])), pads)
 
@@ -124,7 +124,7 @@ def _header(rows: int, n: int) -> Footprint:
 def _to220() -> Footprint:
     # JEDEC TO-220AB: three leads in line, 2.54 mm pitch; body 10.2 x 4.6 mm seen from above.
     dia, drill = TO220_PAD
-    pads = [Pad(str(i + 1), ((i - 1) * PITCH_100MIL, 0.0), "rect" if i == 0 else "circle", (dia, dia), drill)
+    pads = [Pad(str(i + 1), ((i - 1) * PITCH_100MIL, 0.0), "rectangle" if i == 0 else "round", (dia, dia), drill)
             for i in range(3)]
     return Footprint("to-220", (10.2, 4.6), pads)
 
@@ -134,7 +134,7 @@ def _terminal(n: int) -> Footprint:
     dia, drill = TERMINAL_PAD
     p = 5.08
     x0 = -(n - 1) * p / 2
-    pads = [Pad(str(i + 1), (_round(x0 + i * p), 0.0), "rect" if i == 0 else "circle", (dia, dia), drill)
+    pads = [Pad(str(i + 1), (_round(x0 + i * p), 0.0), "rectangle" if i == 0 else "round", (dia, dia), drill)
             for i in range(n)]
     return Footprint(f"terminal-{n}", (_round(n * p), 8.0), pads)
 
@@ -142,16 +142,16 @@ def _terminal(n: int) -> Footprint:
 def _axial(spacing: float, name: str) -> Footprint:
     dia, drill = AXIAL_PAD
     body_len = max(spacing - 2 * dia, 1.0)
-    pads = [Pad("1", (_round(-spacing / 2), 0.0), "circle", (dia, dia), drill),
-            Pad("2", (_round(spacing / 2), 0.0), "circle", (dia, dia), drill)]
+    pads = [Pad("1", (_round(-spacing / 2), 0.0), "round", (dia, dia), drill),
+            Pad("2", (_round(spacing / 2), 0.0), "round", (dia, dia), drill)]
     return Footprint(name, (_round(body_len), 2.5), pads)
 
 
 def _radial(spacing: float, name: str) -> Footprint:
     dia, drill = RADIAL_PAD
     body = _round(2 * spacing)   # an electrolytic of about twice its lead spacing, common practice
-    pads = [Pad("1", (_round(-spacing / 2), 0.0), "rect", (dia, dia), drill),
-            Pad("2", (_round(spacing / 2), 0.0), "circle", (dia, dia), drill)]
+    pads = [Pad("1", (_round(-spacing / 2), 0.0), "rectangle", (dia, dia), drill),
+            Pad("2", (_round(spacing / 2), 0.0), "round", (dia, dia), drill)]
     return Footprint(name, (body, body), pads)
 
 
@@ -208,7 +208,7 @@ def builtin_footprint(name: str) -> Footprint | None:
     Examples
     --------
     >>> fp = builtin_footprint("dip-8")
-    >>> [p.pin for p in fp.pads][:4], fp.pads[0].at
+    >>> [p.pin for p in fp.pads][:4], fp.pads[0].offset
     (['1', '2', '3', '4'], (-3.81, -3.81))
     >>> builtin_footprint("dip-7") is None
     True

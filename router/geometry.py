@@ -39,7 +39,7 @@ class PlacedPad:
     net: str                      # its net's name; a pad in no net gets :func:`lone_pad_net`
     x: float
     y: float
-    shape: str                    # "circle", "rect" or "oval"
+    shape: str                    # "round", "rectangle" or "obround"
     w: float                      # along x, after rotation
     h: float                      # along y, after rotation
     drill: Optional[float]        # None: a surface pad
@@ -131,7 +131,7 @@ def placed_pads(board: Board, parts: Optional[list[Part]] = None) -> list[Placed
             continue
         fp = part_footprint(board, part)
         for i, pad in enumerate(fp.pads):
-            x, y = transform(part, pad.at)
+            x, y = transform(part, pad.offset)
             w, h = _turned(part, pad.size)
             name = f"{part.ref}.{pad.pin}"
             layers = board.layers if pad.drill is not None else (part.side,)
@@ -147,18 +147,18 @@ def placed_holes(board: Board) -> list[PlacedHole]:
         if part.at is None:
             continue
         for hole in part_footprint(board, part).holes:
-            x, y = transform(part, hole.at)
+            x, y = transform(part, hole.offset)
             out.append(PlacedHole(part.ref, x, y, hole.drill))
     return out
 
 
 @lru_cache(maxsize=65536)
 def _pad_shape_cached(shape: str, x: float, y: float, w: float, h: float) -> BaseGeometry:
-    if shape == "rect":
+    if shape == "rectangle":
         return box(x - w / 2, y - h / 2, x + w / 2, y + h / 2)
-    if shape == "circle" or (shape == "oval" and abs(w - h) < 1e-12):
+    if shape == "round" or (shape == "obround" and abs(w - h) < 1e-12):
         return SPoint(x, y).buffer(min(w, h) / 2, quad_segs=ARC_SEGMENTS)
-    # oval: a stadium, the stroke of its long axis with round ends
+    # obround: a stadium, the stroke of its long axis with round ends
     r = min(w, h) / 2
     if w > h:
         seg = LineString([(x - w / 2 + r, y), (x + w / 2 - r, y)])
@@ -193,12 +193,12 @@ def part_rect(board: Board, part: Part, at: Optional[Point] = None, rotation: Op
     x, y = probe.at
     x0, y0, x1, y1 = x - w / 2, y - h / 2, x + w / 2, y + h / 2
     for pad in fp.pads:
-        px, py = transform(probe, pad.at)
+        px, py = transform(probe, pad.offset)
         pw, ph = _turned(probe, pad.size)
         x0, y0 = min(x0, px - pw / 2), min(y0, py - ph / 2)
         x1, y1 = max(x1, px + pw / 2), max(y1, py + ph / 2)
     for hole in fp.holes:
-        px, py = transform(probe, hole.at)
+        px, py = transform(probe, hole.offset)
         x0, y0 = min(x0, px - hole.drill / 2), min(y0, py - hole.drill / 2)
         x1, y1 = max(x1, px + hole.drill / 2), max(y1, py + hole.drill / 2)
     return (x0, y0, x1, y1)

@@ -56,8 +56,8 @@ class NetClass:
 class Pad:
     """A pad of a footprint, in the footprint's own coordinates (body centre at 0, 0)."""
     pin: str
-    at: Point
-    shape: str = "circle"            # "circle", "rect" or "oval"
+    offset: Point                    # the pad centre in the footprint's own coordinates
+    shape: str = "round"             # "round", "rectangle" or "obround" (Gerber aperture words)
     size: Point = (1.6, 1.6)         # width along x, height along y
     drill: Optional[float] = None    # None: a surface pad on the part's side
 
@@ -69,7 +69,7 @@ class Pad:
 @dataclass
 class Hole:
     """A non-plated hole of a footprint (local coordinates)."""
-    at: Point
+    offset: Point
     drill: float
 
 

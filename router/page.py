@@ -85,10 +85,10 @@ def page_figures(board: Board) -> dict:
 # ----------------------------------------------------------------------------- SVG
 
 def _pad_svg(p, fill: str) -> str:
-    if p.shape == "circle" or (p.shape == "oval" and abs(p.w - p.h) < 1e-12):
+    if p.shape == "round" or (p.shape == "obround" and abs(p.w - p.h) < 1e-12):
         el = f'<circle cx="{_n(p.x)}" cy="{_n(p.y)}" r="{_n(min(p.w, p.h) / 2)}" fill="{fill}"'
     else:
-        r = min(p.w, p.h) / 2 if p.shape == "oval" else 0.0
+        r = min(p.w, p.h) / 2 if p.shape == "obround" else 0.0
         el = (f'<rect x="{_n(p.x - p.w / 2)}" y="{_n(p.y - p.h / 2)}" width="{_n(p.w)}" height="{_n(p.h)}"'
               + (f' rx="{_n(r)}" ry="{_n(r)}"' if r else "") + f' fill="{fill}"')
     return el + f'><title>{_a(p.name)} ({_a(p.net)})</title></{"circle" if el.startswith("<circle") else "rect"}>'

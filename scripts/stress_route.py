@@ -88,23 +88,23 @@ def _custom_footprints(rng) -> dict[str, Footprint]:
             n = int(rng.integers(2, 7))
             rows = int(rng.integers(1, 3))
             pitch = float(rng.choice([2.0, 2.54, 3.0, 3.5, 3.96]))
-            shape = str(rng.choice(["circle", "rect", "oval"]))
+            shape = str(rng.choice(["round", "rectangle", "obround"]))
             d = _r(rng.uniform(0.7, 1.0), 2)
             sw = _r(rng.uniform(d + 0.45, min(pitch - 0.45, d + 0.9)), 2)
-            sh = sw if shape == "circle" else _r(rng.uniform(sw, sw + 0.6), 2)
+            sh = sw if shape == "round" else _r(rng.uniform(sw, sw + 0.6), 2)
             pin = 1
             for r in range(rows):
                 for i in range(n):
                     x = (i - (n - 1) / 2) * pitch
                     y = (r - (rows - 1) / 2) * (pitch + max(0.0, sh - sw))
-                    pads.append(Pad(str(pin), (_r(x), _r(y)), "rect" if pin == 1 else shape, (sw, sh), d))
+                    pads.append(Pad(str(pin), (_r(x), _r(y)), "rectangle" if pin == 1 else shape, (sw, sh), d))
                     pin += 1
             body = (_r(n * pitch + 0.6), _r(rows * (pitch + max(0.0, sh - sw)) + 0.6))
         elif kind == "smd":      # two rows of surface pads
             n = int(rng.integers(1, 6))
             pitch = float(rng.choice([1.0, 1.27, 1.5, 2.0]))
             span = _r(rng.uniform(3.0, 6.0), 2)
-            shape = str(rng.choice(["rect", "oval"]))
+            shape = str(rng.choice(["rectangle", "obround"]))
             pw = _r(rng.uniform(0.45, min(0.9, pitch - 0.4)), 2)
             ph = _r(rng.uniform(1.0, 1.8), 2)
             pin = 1
@@ -122,24 +122,24 @@ def _custom_footprints(rng) -> dict[str, Footprint]:
             corners = [(-bw / 2 + 1.6, -bh / 2 + 1.6), (bw / 2 - 1.6, -bh / 2 + 1.6),
                        (bw / 2 - 1.6, bh / 2 - 1.6), (-bw / 2 + 1.6, bh / 2 - 1.6)]
             for i, (x, y) in enumerate(corners):
-                pads.append(Pad(str(i + 1), (_r(x), _r(y)), "circle", (s, s), d))
+                pads.append(Pad(str(i + 1), (_r(x), _r(y)), "round", (s, s), d))
             if rng.random() < 0.5:
-                pads.append(Pad("5", (0.0, _r(-bh / 2 + 1.6)), "oval", (s, _r(s + 0.8)), d))
+                pads.append(Pad("5", (0.0, _r(-bh / 2 + 1.6)), "obround", (s, _r(s + 0.8)), d))
             holes.append(Hole((0.0, _r(bh / 4)), 2.2))
             keepout = bool(rng.random() < 0.8)
             body = (bw, bh)
         elif kind == "testpoint":   # one odd pad, surface or plated
             s = _r(rng.uniform(1.0, 2.2), 2)
             if rng.random() < 0.5:
-                pads.append(Pad("1", (0.0, 0.0), "circle", (s, s), None))
+                pads.append(Pad("1", (0.0, 0.0), "round", (s, s), None))
             else:
-                pads.append(Pad("1", (0.0, 0.0), "circle", (s + 0.3, s + 0.3), _r(s * 0.5, 2)))
+                pads.append(Pad("1", (0.0, 0.0), "round", (s + 0.3, s + 0.3), _r(s * 0.5, 2)))
             body = (_r(s + 0.4), _r(s + 0.4))
         else:                    # "tab": a power part whose middle pin is also a large tab
             pitch = 2.3
             for i in range(3):
-                pads.append(Pad(str(i + 1), (_r((i - 1) * pitch), -3.0), "rect", (1.0, 1.6), None))
-            pads.append(Pad("2", (0.0, 2.5), "rect", (_r(rng.uniform(4.0, 6.0), 2), _r(rng.uniform(2.5, 3.5), 2)),
+                pads.append(Pad(str(i + 1), (_r((i - 1) * pitch), -3.0), "rectangle", (1.0, 1.6), None))
+            pads.append(Pad("2", (0.0, 2.5), "rectangle", (_r(rng.uniform(4.0, 6.0), 2), _r(rng.uniform(2.5, 3.5), 2)),
                             None))
             body = (6.6, 6.2)
         out[name] = Footprint(name, body, pads, holes, keepout)
@@ -152,7 +152,7 @@ def _has_surface(fp: Footprint) -> bool:
 
 def _coarse(fp: Footprint) -> bool:
     """True when a wide trace can leave every pad (pads 2 mm or more apart)."""
-    pts = [p.at for p in fp.pads]
+    pts = [p.offset for p in fp.pads]
     for i in range(len(pts)):
         for j in range(i + 1, len(pts)):
             if math.dist(pts[i], pts[j]) < 1.99 and fp.pads[i].pin != fp.pads[j].pin:

@@ -76,8 +76,8 @@ def test_rect_pad_to_circle_pad():
     # is sqrt(18), less the radius
     b = board("""[footprints.two]
 body = [1.0, 1.0]
-pads = [{ pin = "1", at = [-24.0, -5.5], shape = "rect", size = [2.0, 1.0] },
-        { pin = "2", at = [-20.0, -2.0], shape = "circle", size = [1.0, 1.0] }]
+pads = [{ pin = "1", offset = [-24.0, -5.5], shape = "rectangle", size = [2.0, 1.0] },
+        { pin = "2", offset = [-20.0, -2.0], shape = "round", size = [1.0, 1.0] }]
 [[parts]]
 ref = "X1"
 footprint = "two"
@@ -211,7 +211,7 @@ def test_keepout_body():
     fp = """[footprints.quiet]
 body = [4.0, 4.0]
 keepout_body = true
-pads = [{ pin = "1", at = [0.0, 0.0], shape = "circle", size = [1.6, 1.6], drill = 0.8 }]
+pads = [{ pin = "1", offset = [0.0, 0.0], shape = "round", size = [1.6, 1.6], drill = 0.8 }]
 [[parts]]
 ref = "K1"
 footprint = "quiet"

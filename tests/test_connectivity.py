@@ -68,9 +68,9 @@ name = "tab"
 size = [30.0, 20.0]
 [footprints.tabbed]
 body = [6.0, 6.0]
-pads = [{ pin = "1", at = [-2.0, 0.0], shape = "circle", size = [1.6, 1.6], drill = 0.8 },
-        { pin = "2", at = [2.0, -2.0], shape = "circle", size = [1.6, 1.6], drill = 0.8 },
-        { pin = "2", at = [2.0, 2.0], shape = "rect", size = [2.0, 2.0], drill = 1.0 }]
+pads = [{ pin = "1", offset = [-2.0, 0.0], shape = "round", size = [1.6, 1.6], drill = 0.8 },
+        { pin = "2", offset = [2.0, -2.0], shape = "round", size = [1.6, 1.6], drill = 0.8 },
+        { pin = "2", offset = [2.0, 2.0], shape = "rectangle", size = [2.0, 2.0], drill = 1.0 }]
 [[parts]]
 ref = "U1"
 footprint = "tabbed"

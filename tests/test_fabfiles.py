@@ -46,8 +46,8 @@ name = "hand routed"
 size = [40.0, 20.0]
 [footprints.ovals]
 body = [6.0, 2.0]
-pads = [{ pin = "1", at = [-2.0, 0.0], shape = "oval", size = [2.0, 1.0], drill = 0.6 },
-        { pin = "2", at = [2.0, 0.0], shape = "oval", size = [2.0, 1.0], drill = 0.6 }]
+pads = [{ pin = "1", offset = [-2.0, 0.0], shape = "obround", size = [2.0, 1.0], drill = 0.6 },
+        { pin = "2", offset = [2.0, 0.0], shape = "obround", size = [2.0, 1.0], drill = 0.6 }]
 [[parts]]
 ref = "R1"
 footprint = "axial-10.16"
@@ -213,9 +213,9 @@ def _k(v: float, tol: float) -> int:
 
 
 def _pad_key(x, y, shape, w, h, tol=GERBER_TOL):
-    if shape == "oval" and abs(w - h) < 1e-9:
-        shape = "circle"
-    if shape == "circle":
+    if shape == "obround" and abs(w - h) < 1e-9:
+        shape = "round"
+    if shape == "round":
         w = h = min(w, h)
     return (_k(x, tol), _k(y, tol), shape, _k(w, tol), _k(h, tol))
 
@@ -223,11 +223,11 @@ def _pad_key(x, y, shape, w, h, tol=GERBER_TOL):
 def _flash_key(f: Flash):
     ap = f.aperture
     if isinstance(ap, CircleAperture):
-        return _pad_key(f.x, f.y, "circle", ap.diameter, ap.diameter)
+        return _pad_key(f.x, f.y, "round", ap.diameter, ap.diameter)
     if isinstance(ap, RectangleAperture):
-        return _pad_key(f.x, f.y, "rect", ap.w, ap.h)
+        return _pad_key(f.x, f.y, "rectangle", ap.w, ap.h)
     if isinstance(ap, ObroundAperture):
-        return _pad_key(f.x, f.y, "oval", ap.w, ap.h)
+        return _pad_key(f.x, f.y, "obround", ap.w, ap.h)
     raise AssertionError(f"unexpected aperture {ap}")
 
 
@@ -557,10 +557,10 @@ def test_mask_opens_pads_by_the_expansion_and_covers_vias(tmp_path):
             got = Counter(_flash_key(o) for o in g.objects)
             want = Counter(_pad_key(p.x, p.y, p.shape, p.w + 2 * e, p.h + 2 * e)
                            for p in placed_pads(board) if layer in p.layers)
-            want += Counter(_pad_key(h.x, h.y, "circle", h.drill + 2 * e, h.drill + 2 * e)
+            want += Counter(_pad_key(h.x, h.y, "round", h.drill + 2 * e, h.drill + 2 * e)
                             for h in placed_holes(board))
             if open_vias:
-                want += Counter(_pad_key(*v.at, "circle", v.diameter + 2 * e, v.diameter + 2 * e)
+                want += Counter(_pad_key(*v.at, "round", v.diameter + 2 * e, v.diameter + 2 * e)
                                 for v in board.vias)
             assert got == want
 

@@ -43,7 +43,7 @@ def make(pads, nets, traces=(), vias=(), jumpers=(), layers=2, unplaced=()):
     sizes.setdefault((1.0, 1.0), f"pt{len(sizes)}")
     for (w, h), name in sizes.items():
         out += [f"[footprints.{name}]", "body = [0.2, 0.2]",
-                f'pads = [{{ pin = "1", at = [0.0, 0.0], shape = "rect", size = [{w}, {h}], drill = 0.4 }}]']
+                f'pads = [{{ pin = "1", offset = [0.0, 0.0], shape = "rectangle", size = [{w}, {h}], drill = 0.4 }}]']
     for ref, spec in pads.items():
         w, h = spec[2:] if len(spec) == 4 else (1.0, 1.0)
         out += ["[[parts]]", f'ref = "{ref}"', f'footprint = "{sizes[(w, h)]}"', f"at = [{spec[0]}, {spec[1]}]"]

@@ -9,7 +9,7 @@ from router.model import Board, Part
 
 
 def pitch_along_row(fp, pins):
-    xs = [next(p.at for p in fp.pads if p.pin == q)[0] for q in pins]
+    xs = [next(p.offset for p in fp.pads if p.pin == q)[0] for q in pins]
     return [round(b - a, 6) for a, b in zip(xs, xs[1:])]
 
 
@@ -24,7 +24,7 @@ def test_dual_row_pitch_and_rows(name, pitch, rows):
     n = len(fp.pads)
     assert pitch_along_row(fp, [str(i) for i in range(1, n // 2 + 1)]) == [pitch] * (n // 2 - 1)
     if rows is not None:
-        assert round(fp.pads[-1].at[1] - fp.pads[0].at[1], 6) == rows
+        assert round(fp.pads[-1].offset[1] - fp.pads[0].offset[1], 6) == rows
 
 
 @pytest.mark.parametrize("name,pitch", [
@@ -41,7 +41,7 @@ def test_single_row_pitch(name, pitch):
 def test_sot23_pitch():
     # JEDEC TO-236: pins 1 and 2 on the lower row 1.90 mm apart (2 x 0.95), pin 3 alone on the upper row
     fp = builtin_footprint("sot-23")
-    p = {pad.pin: pad.at for pad in fp.pads}
+    p = {pad.pin: pad.offset for pad in fp.pads}
     assert round(p["2"][0] - p["1"][0], 6) == 1.9 and p["1"][1] == p["2"][1] < p["3"][1]
 
 
@@ -62,17 +62,17 @@ def test_pin1_lower_left_and_counter_clockwise(name):
     fp = builtin_footprint(name)
     first = fp.pads[0]
     assert first.pin == "1"
-    assert first.at == min((p.at for p in fp.pads), key=lambda a: (a[0], a[1]))
+    assert first.offset == min((p.offset for p in fp.pads), key=lambda a: (a[0], a[1]))
     if name.startswith(("dip", "soic")):
         # walking the pins in order turns counter-clockwise around the centre: positive signed area
-        pts = [p.at for p in fp.pads]
+        pts = [p.offset for p in fp.pads]
         area = sum(x0 * y1 - x1 * y0 for (x0, y0), (x1, y1) in zip(pts, pts[1:] + pts[:1])) / 2
         assert area > 0
 
 
 def test_header_2xn_pins_1_and_2_across_the_rows():
     fp = builtin_footprint("header-2x3")
-    p = {pad.pin: pad.at for pad in fp.pads}
+    p = {pad.pin: pad.offset for pad in fp.pads}
     assert p["1"][0] == p["2"][0] and round(p["2"][1] - p["1"][1], 6) == 2.54
 
 

@@ -329,7 +329,7 @@ trace_width = 0.15
 clearance = 0.15
 [footprints.probe]
 body = [0.4, 0.4]
-pads = [{ pin = "1", at = [0.0, 0.0], shape = "rect", size = [0.2, 0.2] }]
+pads = [{ pin = "1", offset = [0.0, 0.0], shape = "rectangle", size = [0.2, 0.2] }]
 [[parts]]
 ref = "P1"
 footprint = "probe"

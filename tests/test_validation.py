@@ -71,8 +71,17 @@ def test_bad_entries(old, new, words):
     ('[[vias]]\nnet = "A"\nat = [3, 3]\ndrill = 0.8\ndiameter = 0.8', ["vias[0]", "as large as the diameter"]),
     ('[[jumpers]]\nnet = "A"\nfrom = [3, 3]\nto = [3, 8]', ["jumpers[0]", "one-layer boards"]),
     ('[classes.thin]\ntrace_width = 0.1', ["classes.thin.trace_width", "below rules.min_trace_width"]),
-    ('[footprints.blob]\nbody = [3, 3]\npads = [{ pin = "1", at = [0, 0], size = [1.0, 1.0], drill = 1.0 }]',
+    ('[footprints.blob]\nbody = [3, 3]\npads = [{ pin = "1", offset = [0, 0], size = [1.0, 1.0], drill = 1.0 }]',
      ["footprints.blob pad of pin 1", "as large as the pad"]),
+    # an older pad vocabulary is refused with the word to use (board-format.md: offset, round/rectangle/obround)
+    ('[footprints.blob]\nbody = [3, 3]\npads = [{ pin = "1", offset = [0, 0], shape = "circle", size = [1.0, 1.0] }]',
+     ["footprints.blob pad of pin 1", "use 'round'"]),
+    ('[footprints.blob]\nbody = [3, 3]\npads = [{ pin = "1", offset = [0, 0], shape = "rect", size = [1.0, 1.0] }]',
+     ["use 'rectangle'"]),
+    ('[footprints.blob]\nbody = [3, 3]\npads = [{ pin = "1", offset = [0, 0], shape = "oval", size = [1.0, 1.0] }]',
+     ["use 'obround'"]),
+    ('[footprints.blob]\nbody = [3, 3]\npads = [{ pin = "1", at = [0, 0], size = [1.0, 1.0] }]',
+     ["footprints.blob.pads[0]", "'offset', not 'at'"]),
 ])
 def test_bad_copper_and_classes(extra, words):
     with pytest.raises(BoardError) as info:
