@@ -29,7 +29,7 @@ __all__ = ["load_board", "save_board", "loads_board", "dumps_board", "validate_b
 
 FORMAT = 1
 TOP_KEYS = {"format", "board", "rules", "classes", "footprints", "parts", "nets", "keepouts",
-            "traces", "vias", "jumpers"}
+            "traces", "vias", "jumpers", "pours"}
 PAD_SHAPES = ("round", "rectangle", "obround")   # the open Gerber standard's aperture words
 #: words of an older pad vocabulary, refused with the word to use instead
 OLD_PAD_SHAPES = {"circle": "round", "rect": "rectangle", "oval": "obround"}
@@ -420,9 +420,12 @@ def _from_dict(data: dict, file) -> Board:
             r.fail(entry, f"drill {drill} is as large as the diameter {dia}; make the drill smaller")
         jumpers.append(Jumper(net, a, b, drill, dia))
 
+    from .pourfile import read_pours
+    pours = read_pours(r, data.get("pours", []), layers, net_names, rules, outline)
+
     return Board(name=name, outline=outline, copper_layers=layers_n, rules=rules, classes=classes,
                  footprints=own, parts=parts, nets=nets, keepouts=keepouts, traces=traces, vias=vias,
-                 jumpers=jumpers, size=size, format=fmt)
+                 jumpers=jumpers, pours=pours, size=size, format=fmt)
 
 
 def _pin_list(fp: Footprint) -> str:
@@ -577,6 +580,9 @@ def _to_dict(board: Board) -> dict:
     if board.jumpers:
         d["jumpers"] = [{"net": j.net, "from": _pt(j.start), "to": _pt(j.end), "drill": _num(j.drill),
                          "diameter": _num(j.diameter)} for j in board.jumpers]
+    if board.pours:
+        from .pourfile import pours_to_list
+        d["pours"] = pours_to_list(board.pours)
     return d
 
 
@@ -603,7 +609,9 @@ def _key(k: str) -> str:
 def _emit_table(lines: list[str], header: str, table: dict) -> None:
     """Write one table: scalars and inline arrays first, then sub-tables and arrays of tables."""
     simple = {k: v for k, v in table.items()
-              if not isinstance(v, dict) and not (isinstance(v, list) and v and isinstance(v[0], dict))}
+              if (not isinstance(v, dict) or (header.startswith("[[") and v and   # small inline tables
+                                              not any(isinstance(x, (dict, list)) for x in v.values())))
+              and not (isinstance(v, list) and v and isinstance(v[0], dict))}
     if header and (simple or not table):
         lines.append("")
         lines.append(header)

@@ -17,7 +17,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Optional
 
-from shapely.geometry import LineString, Point as SPoint, box
+from shapely.geometry import LineString, Point as SPoint, Polygon, box
 from shapely.geometry.base import BaseGeometry
 
 from .geometry import ARC_SEGMENTS, PlacedPad, placed_holes, placed_pads
@@ -33,7 +33,8 @@ class CopperItem:
     Attributes
     ----------
     kind : str
-        "pad", "trace", "via" or "jumper_end".
+        "pad", "trace", "via", "jumper_end" or "pour" (a piece of a pour's filled copper:
+        its polygon is the core, radius 0).
     net : str
         Its net's name (a pad in no net carries :func:`router.geometry.lone_pad_net`).
     layers : tuple of str
@@ -128,7 +129,8 @@ def copper_items(board: Board) -> list[CopperItem]:
     list of CopperItem
         Pads of placed parts (with their layers: all copper layers for a pad with a drill,
         the part's side for a surface pad), each trace segment (a trace of one point, or of
-        repeated points only, is one point item), each via, and both ends of each jumper.
+        repeated points only, is one point item), each via, both ends of each jumper, and
+        each piece of each pour's `filled` copper (last, so pads keep their positions).
     """
     items: list[CopperItem] = []
     for i, pad in enumerate(placed_pads(board)):
@@ -156,6 +158,10 @@ def copper_items(board: Board) -> list[CopperItem]:
             items.append(CopperItem("jumper_end", j.net, tuple(board.layers),
                                     f"jumper {ji + 1} of {j.net}, {'from' if end == 0 else 'to'} end",
                                     SPoint(at), j.diameter / 2, index=(ji, end)))
+    for pi, p in enumerate(board.pours):          # poured copper: each filled piece, exactly as stored
+        for m, piece in enumerate(p.filled):
+            items.append(CopperItem("pour", p.net, (p.layer,), f"pour {pi + 1} of {p.net}, piece {m + 1}",
+                                    Polygon(piece[0], piece[1:]), 0.0, index=(pi, m)))
     return items
 
 

@@ -12,7 +12,7 @@ from typing import Optional
 
 __all__ = [
     "Point", "Rules", "NetClass", "Pad", "Hole", "Footprint", "Part", "Net",
-    "Keepout", "Trace", "Via", "Jumper", "Board", "LAYERS",
+    "Keepout", "Trace", "Via", "Jumper", "Board", "LAYERS", "Pour", "Thermal",
 ]
 
 Point = tuple[float, float]
@@ -148,6 +148,28 @@ class Jumper:
 
 
 @dataclass
+class Thermal:
+    """Thermal relief of a pour for its net's pads; None fields take the defaults (router.pour)."""
+    spokes: int = 4
+    width: Optional[float] = None     # default: the net's class trace width
+    gap: Optional[float] = None       # default: the pour's clearance
+
+
+@dataclass
+class Pour:
+    """A filled copper area of one net on one layer (``[[pours]]``); `filled` is computed (router.pour)."""
+    net: str
+    layer: str
+    polygon: Optional[list[Point]] = None     # None: the outline less edge_clearance
+    clearance: Optional[float] = None         # None: as for any copper of the net (router.rules)
+    thermal: Thermal = field(default_factory=Thermal)
+    min_island_area: float = 0.0              # mm^2
+    priority: int = 0
+    filled: list = field(default_factory=list)   # [[ring, hole, ...], ...], each ring [(x, y), ...]
+    filled_for: Optional[str] = None          # digest of the copper the fill was computed against
+
+
+@dataclass
 class Board:
     name: str
     outline: list[Point]              # a simple polygon; from `size` it is the rectangle
@@ -161,6 +183,7 @@ class Board:
     traces: list[Trace] = field(default_factory=list)
     vias: list[Via] = field(default_factory=list)
     jumpers: list[Jumper] = field(default_factory=list)
+    pours: list[Pour] = field(default_factory=list)
     size: Optional[Point] = None      # set when the file gave `size`, kept for writing back
     format: int = 1
     source: Optional[str] = field(default=None, compare=False)   # the path it was read from
@@ -201,5 +224,6 @@ class Board:
             traces=[replace(t, points=list(t.points)) for t in self.traces],
             vias=[replace(v) for v in self.vias],
             jumpers=[replace(j) for j in self.jumpers],
+            pours=[replace(p, thermal=replace(p.thermal), filled=list(p.filled)) for p in self.pours],
             rules=replace(self.rules),
         )

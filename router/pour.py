@@ -1,0 +1,383 @@
+"""Copper pours: the filled area of one net on one layer, with thermal reliefs.
+
+A pour's copper is computed from the board's other copper with shapely's
+boolean operations only (buffer, difference, union); there is no polygon
+clipping of our own:
+
+    area   = pour polygon (default: the outline shrunk by edge_clearance)
+             - every other net's copper on the layer, grown by the clearance the two nets need
+             - non-plated holes grown by edge_clearance
+             - keepouts on the layer, and bodies with ``keepout_body`` of parts the net is not on
+             - pours of other nets already filled (higher priority), grown by the clearance
+    fill   = (area - the net's own pads grown by the thermal gap) opened by half the
+             board house's minimum width (no neck or sliver narrower than it survives)
+    copper = fill + thermal spokes from each own pad (each spoke kept only where it lies
+             wholly inside `area` and reaches the fill), less pieces smaller than
+             `min_island_area` and pieces touching no copper of the net
+
+Distances are made safe against polygon error: every circle is approximated by a
+polygon that *circumscribes* it (the buffer distance is divided by cos(pi / 4q) for
+q segments a quarter), so the exact distance check (:mod:`router.check`, cores and
+radii) always finds the clearance met. The net's own traces and vias are not cut out:
+the pour runs over them and joins them, which is how a via reaches a poured layer.
+
+Pours fill in order of `priority` (highest first, then file order); a lower pour keeps
+its clearance from the copper of higher pours of other nets.
+"""
+from __future__ import annotations
+
+import hashlib
+import json
+import math
+from dataclasses import dataclass, field, replace
+from typing import Optional
+
+import numpy as np
+import shapely
+from shapely.geometry import MultiPolygon, Polygon, box
+
+from .copper import CopperItem, copper_items
+from .errors import BoardError
+from .geometry import body_rect, outline_polygon, part_footprint, placed_holes, placed_pads
+from .model import Board, Pour
+from .rules import required_clearance
+from .units import TOL
+
+__all__ = ["PourResult", "pour_board", "fill_pour", "pour_clearance", "thermal_of", "copper_digest",
+           "stale_pours", "pour_geometry", "poured_area", "neck_findings", "QUAD_SEGS"]
+
+#: Segments per quarter circle in the buffers of the pour (the check measures exactly).
+QUAD_SEGS = 8
+#: Grow factor that makes a buffered polygon circumscribe its true circle.
+_CIRCUMSCRIBE = 1.0 / math.cos(math.pi / (4 * QUAD_SEGS))
+#: Safety margin on every grown distance, in mm: covers the 1 nm rounding of the written
+#: coordinates (:func:`router.units.snap`) with room to spare.
+_MARGIN = 1e-5
+#: Written coordinates are on this grid (mm), as everywhere in the board file.
+_PRECISION = 1e-6
+
+
+@dataclass
+class PourResult:
+    """What :func:`pour_board` returns."""
+    board: Board
+    unreached: dict = field(default_factory=dict)      # pour index -> {pad name: reason}
+    area: dict = field(default_factory=dict)           # pour index -> mm^2 filled
+
+
+def pour_clearance(board: Board, pour: Pour, other_net: str) -> float:
+    """The clearance the pour keeps from copper of `other_net`: the pour's own `clearance`
+    (default the net's class clearance), raised by :func:`router.rules.required_clearance`."""
+    mine = board.net_class(pour.net)
+    req = required_clearance(board, mine, board.net_class(other_net))
+    return max(req, pour.clearance if pour.clearance is not None else 0.0)
+
+
+def thermal_of(board: Board, pour: Pour) -> tuple[int, float, float]:
+    """(spokes, width, gap) of the pour's thermal reliefs, with the defaults filled in."""
+    nc = board.net_class(pour.net)
+    width = pour.thermal.width if pour.thermal.width is not None else nc.trace_width
+    base = pour.clearance if pour.clearance is not None else nc.clearance
+    gap = pour.thermal.gap if pour.thermal.gap is not None else base
+    return int(pour.thermal.spokes), float(width), float(gap)
+
+
+def copper_digest(board: Board) -> str:
+    """A short digest of everything a fill depends on (the board less the fills themselves)."""
+    from .boardfile import _to_dict
+    b = replace(board, pours=[replace(p, filled=[], filled_for=None) for p in board.pours])
+    text = json.dumps(_to_dict(b), sort_keys=True, separators=(",", ":"))
+    return hashlib.sha1(text.encode()).hexdigest()[:16]
+
+
+def stale_pours(board: Board) -> list[int]:
+    """Indices of pours whose `filled` was computed for other copper (or never computed)."""
+    if not board.pours:
+        return []
+    digest = copper_digest(board)
+    return [k for k, p in enumerate(board.pours) if p.filled_for != digest]
+
+
+def pour_geometry(pour: Pour) -> MultiPolygon:
+    """The stored `filled` of a pour as one shapely MultiPolygon."""
+    polys = [Polygon(piece[0], piece[1:]) for piece in pour.filled if piece]
+    return MultiPolygon(polys) if polys else MultiPolygon()
+
+
+def poured_area(board: Board) -> dict:
+    """Per copper layer: poured area in mm^2 and its share of the board area (figures for report)."""
+    board_area = outline_polygon(board).area
+    out = {}
+    for layer in board.layers:
+        geoms = [pour_geometry(p) for p in board.pours if p.layer == layer and p.filled]
+        area = shapely.union_all(geoms).area if geoms else 0.0
+        out[layer] = {"area": round(area, 3), "share": round(area / board_area, 4) if board_area else 0.0}
+    return out
+
+
+# ----------------------------------------------------------------------------- computing
+
+def _grown(cores, amounts) -> list:
+    """Buffers of `cores` by `amounts` (arrays), circumscribing the true offset."""
+    if len(cores) == 0:
+        return []
+    dist = np.asarray(amounts, dtype=float) * _CIRCUMSCRIBE + _MARGIN
+    return list(shapely.buffer(np.asarray(cores, dtype=object), dist, quad_segs=QUAD_SEGS))
+
+
+def _pad_polygon(item: CopperItem):
+    return item.core.buffer(item.radius, quad_segs=QUAD_SEGS) if item.radius > 0 else item.core
+
+
+def _spokes(item: CopperItem, n: int, width: float, reach: float) -> list:
+    """Spoke rectangles from the pad centre outwards: +-x (and +-y with four)."""
+    pad = item.pad
+    x, y, hw, hh = pad.x, pad.y, pad.w / 2, pad.h / 2
+    w2 = width / 2
+    out = []
+    along_x = n == 4 or pad.w >= pad.h
+    along_y = n == 4 or pad.h > pad.w
+    if along_x:
+        out.append(("+x", box(x, y - w2, x + hw + reach, y + w2)))
+        out.append(("-x", box(x - hw - reach, y - w2, x, y + w2)))
+    if along_y:
+        out.append(("+y", box(x - w2, y, x + w2, y + hh + reach)))
+        out.append(("-y", box(x - w2, y - hh - reach, x + w2, y)))
+    return out
+
+
+def _snap(geom):
+    return shapely.set_precision(geom, _PRECISION)
+
+
+def _pieces(geom) -> list[Polygon]:
+    if geom.is_empty:
+        return []
+    if geom.geom_type == "Polygon":
+        return [geom]
+    return [g for g in getattr(geom, "geoms", []) if g.geom_type == "Polygon" and not g.is_empty]
+
+
+def _as_filled(pieces) -> list:
+    out = []
+    for poly in pieces:
+        poly = shapely.normalize(poly)
+        rings = [poly.exterior] + list(poly.interiors)
+        out.append([[(float(x), float(y)) for x, y in list(r.coords)[:-1]] for r in rings])
+    return out
+
+
+def fill_pour(board: Board, k: int, items: list[CopperItem], done: dict) -> tuple[list, dict]:
+    """The copper of pour `k` of `board`.
+
+    Parameters
+    ----------
+    board : Board
+    k : int
+        Index into ``board.pours``.
+    items : list of CopperItem
+        The board's copper without pours (:func:`router.copper.copper_items`).
+    done : dict
+        Pour index -> list of filled shapely polygons, for the pours already filled.
+
+    Returns
+    -------
+    (pieces, unreached)
+        The filled polygons, and {pad name: reason} for pads of the net on the layer the
+        pour does not join.
+    """
+    pour = board.pours[k]
+    layer, net = pour.layer, pour.net
+    rules = board.rules
+    outline = outline_polygon(board)
+    area0 = outline.buffer(-(rules.edge_clearance * _CIRCUMSCRIBE + _MARGIN), quad_segs=QUAD_SEGS)
+    if pour.polygon is not None:
+        area0 = area0.intersection(Polygon(pour.polygon))
+    spokes_n, tw, gap = thermal_of(board, pour)
+    min_w = rules.min_trace_width
+
+    on_layer = [it for it in items if layer in it.layers]
+    others = [it for it in on_layer if it.net != net]
+    own = [it for it in on_layer if it.net == net]
+    cut = []
+    if others:
+        clear = {}
+        amounts = []
+        for it in others:
+            c = clear.get(it.net)
+            if c is None:
+                c = clear[it.net] = pour_clearance(board, pour, it.net)
+            amounts.append(it.radius + c)
+        cut += _grown([it.core for it in others], amounts)
+    npth = placed_holes(board)
+    if npth:
+        cut += _grown([shapely.points(h.x, h.y) for h in npth],
+                      [h.drill / 2 + rules.edge_clearance for h in npth])
+    for ko in board.keepouts:
+        if layer in ko.layers_on(board.layers):
+            cut.append(Polygon(ko.polygon))
+    pins_of = {}
+    for pad in placed_pads(board):
+        pins_of.setdefault(pad.ref, set()).add(pad.net)
+    for part in board.parts:
+        if part.at is not None and part_footprint(board, part).keepout_body and net not in pins_of.get(part.ref, ()):
+            cut.append(box(*body_rect(board, part)))
+    for j, polys in done.items():
+        other = board.pours[j]
+        if other.layer != layer or other.net == net or not polys:
+            continue
+        c = pour_clearance(board, pour, other.net)
+        cut += list(shapely.buffer(np.asarray(polys, dtype=object), c * _CIRCUMSCRIBE + _MARGIN,
+                                   quad_segs=QUAD_SEGS))
+    base = area0.difference(shapely.union_all(cut)) if cut else area0
+
+    own_pads = [it for it in own if it.kind == "pad"]
+    gaps = _grown([it.core for it in own_pads], [it.radius + gap for it in own_pads])
+    area = base.difference(shapely.union_all(gaps)) if gaps else base
+    # opening by half the minimum width: no neck or sliver narrower than the board house makes
+    r_open = min_w / 2 + 1e-3
+    fill = area.buffer(-r_open, quad_segs=QUAD_SEGS).buffer(r_open, quad_segs=QUAD_SEGS)
+    fill = fill.intersection(area)
+    shapely.prepare(base)
+    shapely.prepare(fill)
+
+    unreached: dict[str, str] = {}
+    kept = []
+    reach = gap + 1.5 * max(tw, min_w)
+    for it in own_pads:
+        pad_poly = _pad_polygon(it)
+        got = 0
+        blocked = []
+        for name, sp in _spokes(it, spokes_n, tw, reach):
+            outer = sp.difference(pad_poly)
+            if outer.difference(base).area > 1e-9:
+                blocked.append(name)
+                continue
+            if outer.intersection(fill).area < 0.5 * tw * tw:
+                blocked.append(name)
+                continue
+            kept.append(sp)
+            got += 1
+        if not got and not fill.intersects(pad_poly):
+            why = "other copper or the edge leaves no room for a spoke" if blocked else "no fill near it"
+            unreached[it.pad.name] = why
+    copper = shapely.union_all([fill] + kept) if kept else fill
+    copper = _snap(copper)
+
+    # islands: too small, or touching no copper of the net
+    tree = shapely.STRtree([it.core for it in own]) if own else None
+    maxr = max((it.radius for it in own), default=0.0)
+    pieces = []
+    for poly in _pieces(copper):
+        if poly.area < pour.min_island_area - TOL:
+            continue
+        if tree is None:
+            continue
+        hit = False
+        for i in tree.query(poly, predicate="dwithin", distance=maxr + TOL):
+            it = own[int(i)]
+            if it.core.distance(poly) - it.radius <= TOL:
+                hit = True
+                break
+        if hit:
+            pieces.append(poly)
+    # pads whose spokes went to a piece that was then dropped
+    if pieces:
+        joined = shapely.union_all(pieces)
+        shapely.prepare(joined)
+        for it in own_pads:
+            name = it.pad.name
+            if name in unreached:
+                continue
+            if it.core.distance(joined) - it.radius > TOL:
+                unreached[name] = "its only fill is an island cut off from the rest of the pour"
+    else:
+        for it in own_pads:
+            unreached.setdefault(it.pad.name, "the pour has no copper left near it")
+    for pad in placed_pads(board):
+        if pad.net == net and layer not in pad.layers:
+            unreached.setdefault(pad.name, f"a surface pad on {pad.layers[0]}, not on the poured {layer} "
+                                           "(a trace, or a via into the pour, joins it)")
+    return pieces, unreached
+
+
+def pour_board(board: Board) -> PourResult:
+    """Fill every pour of `board` (a copy is returned; the input is not changed).
+
+    Pours fill by `priority`, highest first, file order among equals. Each pour's `filled`
+    is replaced, and `filled_for` records the digest of the copper it was filled against.
+
+    Raises
+    ------
+    BoardError
+        A pour of an unknown net or layer (for boards built in code; the file reader
+        refuses those first).
+    """
+    b = board.copy()
+    names = {n.name for n in b.nets}
+    for k, p in enumerate(b.pours):
+        if p.net not in names:
+            raise BoardError(b.source, f"pours[{k}] net", f"unknown net '{p.net}'")
+        if p.layer not in b.layers:
+            raise BoardError(b.source, f"pours[{k}] layer",
+                             f"unknown layer '{p.layer}' (this board has {', '.join(b.layers)})")
+        p.filled, p.filled_for = [], None
+    if not b.pours:
+        return PourResult(b)
+    items = [it for it in copper_items(b) if it.kind != "pour"]
+    order = sorted(range(len(b.pours)), key=lambda k: (-b.pours[k].priority, k))
+    done: dict[int, list] = {}
+    result = PourResult(b)
+    for k in order:
+        pieces, unreached = fill_pour(b, k, items, done)
+        done[k] = pieces
+        result.unreached[k] = unreached
+        result.area[k] = sum(p.area for p in pieces)
+    for k in order:
+        b.pours[k].filled = _as_filled(done[k])
+    digest = copper_digest(b)
+    for p in b.pours:
+        p.filled_for = digest
+    return result
+
+
+# ----------------------------------------------------------------------------- necks
+
+def neck_findings(board: Board, min_width: Optional[float] = None) -> list[tuple[int, tuple, str]]:
+    """Places where a pour's copper is narrower than the board house's minimum width.
+
+    The morphological opening test: each piece is eroded by just under half the minimum
+    width and grown back. Copper that a disk of the minimum width cannot reach while
+    staying inside the copper is what the opening removes; a removed part that reaches
+    further than half the erosion radius from the opened copper is a neck, spike or sliver
+    (the round-off at a right-angled corner reaches 0.41 of the radius, and is not).
+    A piece that vanishes altogether is a sliver.
+
+    Returns
+    -------
+    list of (pour index, (x, y), what)
+    """
+    w = board.rules.min_trace_width if min_width is None else min_width
+    r = w / 2 - 2e-3          # a little under half the width: copper exactly w wide passes
+    out = []
+    if r <= 0:
+        return out
+    for k, pour in enumerate(board.pours):
+        for piece in pour.filled:
+            poly = Polygon(piece[0], piece[1:])
+            if poly.is_empty:
+                continue
+            eroded = poly.buffer(-r, quad_segs=QUAD_SEGS)
+            if eroded.is_empty:
+                p = poly.representative_point()
+                out.append((k, (p.x, p.y), "a sliver narrower than the minimum width"))
+                continue
+            opened = eroded.buffer(r, quad_segs=QUAD_SEGS)
+            for s in _pieces(poly.difference(opened)):
+                pts = shapely.points(np.asarray(s.exterior.coords))
+                d = shapely.distance(pts, opened)
+                i = int(np.argmax(d))
+                if d[i] > 0.5 * r:
+                    x, y = s.exterior.coords[i]
+                    out.append((k, (x, y), "narrower than the minimum width"))
+    return out
