@@ -562,6 +562,9 @@ def check(board: Board) -> list[Violation]:
     ctx = _Ctx(board)
     found = (_clearance_and_short(ctx) + _open(ctx) + _edge(ctx) + _keepout(ctx) +
              _width_and_current(board) + _holes(board) + _voltage(board) + _placement(board))
+    if board.pours:                  # poured copper narrower than the board house makes (router.pour)
+        from .pour import neck_violations
+        found += neck_violations(board)
     order = {r: k for k, r in enumerate(RULES)}
     return sorted(found, key=lambda v: order.get(v.rule, len(RULES)))
 
@@ -600,6 +603,9 @@ def warnings(board: Board) -> list[Violation]:
                 at = _xy(e)
                 msg = f"{t.net} on {t.layer}: trace {ti + 1} ends at {_fmt_at(at)} touching nothing"
                 out.append(Violation("dangling_end", [t.net], t.layer, at, None, None, msg))
+    if board.pours:                  # a fill computed for other copper (router.pour)
+        from .pour import stale_warnings
+        out += stale_warnings(board)
     return out
 
 

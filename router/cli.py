@@ -167,6 +167,19 @@ def cmd_export(args) -> int:
     return EXIT_OK
 
 
+def cmd_pour(args) -> int:
+    from . import load_board, save_board
+    from .pour import format_pour, pour_board
+    board = load_board(args.board)
+    result = pour_board(board)
+    save_board(result.board, args.output)
+    if not args.quiet:
+        print(format_pour(result) if board.pours else
+              'the board has no [[pours]] (add one: net = "GND", layer = "bottom"); written unchanged')
+        print(f"wrote {args.output}")
+    return EXIT_OK
+
+
 # ------------------------------------------------------------------ parser
 
 def build_parser() -> argparse.ArgumentParser:
@@ -225,6 +238,10 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("board", help="board file")
     sp.add_argument("-o", "--output", required=True, metavar="FILE", help="picture to write")
     sp.add_argument("--check", action="store_true", help="mark the check's violations")
+
+    sp = add("pour", "fill the board's copper pours ([[pours]]) against its copper", cmd_pour)
+    sp.add_argument("board", help="board file")
+    sp.add_argument("-o", "--output", required=True, metavar="OUT", help="poured board file to write")
 
     sp = add("export", "fabrication files: Gerber and drill", cmd_export)
     sp.add_argument("board", help="board file")

@@ -509,6 +509,7 @@ def board_figures(board: Board) -> dict:
         jlen_of[j.net] += trace_length([j.start, j.end])
 
     nets = []
+    poured = {p.net for p in board.pours}
     for net in board.nets:
         unplaced = [p for p in net.pins if p.split(".", 1)[0] not in placed]
         rects = rects_of.get(net.name, [])
@@ -517,7 +518,7 @@ def board_figures(board: Board) -> dict:
             segs = segs_of.get((net.name, layer))
             if segs:
                 bends_at.extend(bend_points(segs, covers.on(layer)))
-        if unplaced:
+        if unplaced or net.name in poured:     # a pour may join every pad: no trace is needed
             lb, bb, pb = 0.0, 0, None
         else:
             lb, bb, pb = length_lower_bound(rects), bends_lower_bound(rects), path_bends_lower_bound(rects)
@@ -563,7 +564,11 @@ def board_figures(board: Board) -> dict:
         "length_ratio_routed": _ratio(r_len, r_lb),
         "bends_over_bound": sum(n["bends_over_bound"] for n in nets),
     }
-    return {"nets": nets, "totals": totals}
+    out = {"nets": nets, "totals": totals}
+    if board.pours:                  # poured area and share of the board per layer (router.pour)
+        from .pour import poured_area
+        out["pours"] = poured_area(board)
+    return out
 
 
 # ------------------------------------------------------------------ comparison
@@ -712,6 +717,8 @@ def format_report(figs: dict, board: Optional[Board] = None) -> str:
     out.append(f"totals: {t['routed']} of {t['nets']} nets routed"
                + (f" ({unrouted} not)" if unrouted else "")
                + f", {t['vias']} vias, {t['jumpers']} jumpers")
+    for layer, pa in (figs.get("pours") or {}).items():
+        out.append(f"poured {layer}: {pa['area']:.1f} mm^2, {100 * pa['share']:.1f} % of the board")
     out.append(f"bends {t['bends']}, bound {t['bends_lower_bound']}: "
                f"{t['bends'] - t['bends_lower_bound']} above")
     paths = [n for n in figs["nets"] if n.get("bends_lower_bound_path") is not None]

@@ -197,6 +197,9 @@ class _Negotiation:
 
 def _pad_groups(board: Board, grid: RoutingGrid):
     items = copper_items(board)
+    if board.pours:                  # pads a first pour joins count as joined (router.pour)
+        from .pour import first_pour_items
+        items = items + first_pour_items(board)
     labels = components(board, items)
     by_net: dict[str, dict[int, list]] = defaultdict(dict)
     for k, pad in enumerate(grid.pads):          # pads in file order, so groups come in a fixed order
@@ -255,6 +258,8 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
         b.traces = [t for t in b.traces if t.fixed]
         b.vias = []
         b.jumpers = []
+    for p in b.pours:                # copper changes: the pour is filled again at the end (router.pour)
+        p.filled, p.filled_for = [], None
     grid_pitch = b.rules.grid
     bend = _cost(DEFAULT_BEND if bend_penalty is None else bend_penalty, grid_pitch)
     via = _cost(DEFAULT_VIA if via_penalty is None else via_penalty, grid_pitch)
@@ -285,8 +290,14 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
             break
     b, lost, npass, shared_left = best
     failed.update(lost)
-    return RouteResult(b, _figures(b), {n: failed[n] for n in [m.name for m in b.nets] if n in failed},
-                       time.perf_counter() - t0, npass, shared_left)
+    result = RouteResult(b, _figures(b), {n: failed[n] for n in [m.name for m in b.nets] if n in failed},
+                         time.perf_counter() - t0, npass, shared_left)
+    if b.pours:                      # pour last; route again what the final pour cuts off (router.pour)
+        from .pour import after_route
+        result = after_route(result, bend_penalty=bend_penalty, via_penalty=via_penalty, seed=seed,
+                             progress=progress, passes=passes, jumper_penalty=jumper_penalty,
+                             polish=polish, retries=retries, every_net=every_net)
+    return result
 
 
 def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend: int, via: int, jump: int,

@@ -381,3 +381,109 @@ def neck_findings(board: Board, min_width: Optional[float] = None) -> list[tuple
                     x, y = s.exterior.coords[i]
                     out.append((k, (x, y), "narrower than the minimum width"))
     return out
+
+
+# ----------------------------------------------------------------------------- routing
+
+def first_pour_items(board: Board) -> list[CopperItem]:
+    """Copper items of a first pour of `board` against the copper it has now.
+
+    The router adds these to the pads' copper when it groups each net's pads: pads a pour
+    joins are one terminal, so a poured net gets traces only for the pads the pour cannot
+    reach. The other nets' traces laid later cut the final pour, which
+    :func:`after_route` verifies.
+    """
+    if not board.pours:
+        return []
+    poured = pour_board(board).board
+    return [it for it in copper_items(poured) if it.kind == "pour"]
+
+
+#: how many times route_board may route again what a final pour left cut off
+_ROUNDS_LEFT = [2]
+
+
+def after_route(result, **settings):
+    """Pour a routed board last, and route again what the final pour does not join.
+
+    The first pour (before routing) knew only the copper then in the file; the traces the
+    router laid for the other nets cut the final pour, and may cut a pad off that the router
+    counted as joined. Such a net is routed again (``route_board`` completes it against the
+    final copper, whose first pour is now the final one), up to twice; a net still cut off
+    is reported with its reason.
+
+    Parameters
+    ----------
+    result : router.negotiate.RouteResult
+    settings : the keyword arguments of the ``route_board`` call (penalties, seed, passes, ...)
+    """
+    from .connectivity import routed
+    from .negotiate import _figures, route_board
+    import time
+    t0 = time.perf_counter()
+    poured = pour_board(result.board)
+    b = poured.board
+    joined = routed(b)
+    cut = [n.name for n in b.nets if not joined.get(n.name, True) and n.name not in result.failed]
+    if cut and _ROUNDS_LEFT[0] > 0:
+        _ROUNDS_LEFT[0] -= 1
+        try:
+            again = route_board(b, **settings)
+        finally:
+            _ROUNDS_LEFT[0] += 1
+        again.seconds += result.seconds
+        return again
+    failed = {n: why for n, why in result.failed.items() if not joined.get(n, False)}
+    for net in cut:
+        pads = [name for k, p in enumerate(b.pours) if p.net == net
+                for name in poured.unreached.get(k, {})]
+        why = f" (the pour does not reach {', '.join(sorted(pads)[:4])})" if pads else ""
+        failed[net] = f"the final pour leaves it open{why}; left as routed so far"
+    result.board = b
+    result.figures = _figures(b)
+    result.seconds += time.perf_counter() - t0
+    result.failed = {n.name: failed[n.name] for n in b.nets if n.name in failed}
+    return result
+
+
+def format_pour(result: PourResult) -> str:
+    """The `pour` command's summary: area and pieces per pour, and the pads it does not join."""
+    b = result.board
+    lines = []
+    for k, p in enumerate(b.pours):
+        area = result.area.get(k, 0.0)
+        lines.append(f"pour {k + 1}: {p.net} on {p.layer}: {area:.1f} mm^2 in {len(p.filled)} "
+                     f"piece{'s' if len(p.filled) != 1 else ''}")
+        for name, why in sorted(result.unreached.get(k, {}).items()):
+            lines.append(f"  not joined by the pour: {name}: {why}")
+    return "\n".join(lines)
+
+
+# ----------------------------------------------------------------------------- check
+
+def neck_violations(board: Board) -> list:
+    """`width` violations of the check: pour copper narrower than ``rules.min_trace_width``."""
+    from .check import Violation
+    out = []
+    w = board.rules.min_trace_width
+    for k, (x, y), what in neck_findings(board):
+        p = board.pours[k]
+        at = (round(x, 6), round(y, 6))
+        msg = (f"{p.net} on {p.layer}: pour {k + 1} is {what} ({w:.2f} mm) near ({at[0]:.2f}, {at[1]:.2f}); "
+               "run `elbowroom pour` to fill it again")
+        out.append(Violation("width", [p.net], p.layer, at, None, round(w, 6), msg))
+    return out
+
+
+def stale_warnings(board: Board) -> list:
+    """Warnings (not violations) for pours whose `filled` does not match the board's copper."""
+    from .check import Violation
+    out = []
+    for k in stale_pours(board):
+        p = board.pours[k]
+        how = "was never filled" if not p.filled and p.filled_for is None else \
+            "was filled for other copper (the board changed since)"
+        msg = (f"{p.net} on {p.layer}: pour {k + 1} {how}; the check measures the stored fill, "
+               "`elbowroom pour` fills it again")
+        out.append(Violation("stale_pour", [p.net], p.layer, None, None, None, msg))
+    return out
