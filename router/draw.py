@@ -275,6 +275,17 @@ def board_figure(board: Board, violations: Optional[Sequence] = None, dpi: float
         ax.text(part.at[0], part.at[1], part.ref, fontsize=fs, ha="center", va="center",
                 rotation=90 if bh > bw * 1.5 else 0, color=STYLE["body"], zorder=10, gid=f"ref-{part.ref}")
 
+    # pours: filled and semi-transparent, under the traces, thermal gaps showing (router.pour)
+    if board.pours:
+        from .pour import pour_geometry
+        for layer in reversed(board.layers):
+            geoms = [pour_geometry(p) for p in board.pours if p.layer == layer and p.filled]
+            if geoms:
+                pc = PatchCollection(_patches(geoms), facecolor=STYLE[layer], edgecolor="none",
+                                     alpha=0.35, zorder=2.5 if layer == "bottom" else 2.7)
+                pc.set_gid(f"pour-{layer}")
+                ax.add_collection(pc)
+
     # copper by layer: bottom first, then top over it
     pads = placed_pads(board)
     for layer in reversed(board.layers):

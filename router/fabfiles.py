@@ -335,6 +335,11 @@ def _copper(board: Board, layer: str, pads: list[PlacedPad], index: int) -> str:
     g = _Gerber(f"{board.name}: copper, {layer} layer",
                 [_software(), ("Part", "Single"),
                  ("FileFunction", f"Copper,L{index},{word}"), ("FilePolarity", "Positive")])
+    if board.pours:                  # pours first, as regions under the pads and traces (router.pour)
+        from .pour import gerber_regions
+        for net, lines in gerber_regions(board, layer, _num):
+            g.attrs(N=_field(net))
+            g.body.extend(lines)
     for pad in pads:
         if layer not in pad.layers:
             continue

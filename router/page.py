@@ -154,6 +154,20 @@ def _svg(board: Board, violations: Optional[Sequence], groups: dict) -> tuple[st
         body.append("</g>")
         return body
 
+    if any(p.filled for p in board.pours):       # pours under the traces, semi-transparent (router.pour)
+        by_net = defaultdict(list)
+        for layer in reversed(board.layers):
+            for k, pour in enumerate(board.pours):
+                if pour.layer != layer or not pour.filled:
+                    continue
+                d = "".join("M" + "L".join(f"{_n(x)},{_n(y)}" for x, y in ring) + "Z"
+                            for piece in pour.filled for ring in piece)
+                by_net[pour.net].append(f'<path d="{d}" fill="{STYLE[layer]}" fill-opacity="0.35" '
+                                        f'fill-rule="evenodd"><title>pour {k + 1} of {_a(pour.net)} on {layer}'
+                                        f'</title></path>')
+        layers.append(("pours", "copper pours"))
+        out += net_groups_svg("pours", by_net)
+
     # copper by layer, bottom first
     for layer in reversed(board.layers):
         by_net = defaultdict(list)

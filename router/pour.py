@@ -487,3 +487,46 @@ def stale_warnings(board: Board) -> list:
                "`elbowroom pour` fills it again")
         out.append(Violation("stale_pour", [p.net], p.layer, None, None, None, msg))
     return out
+
+
+# ----------------------------------------------------------------------------- fabrication
+
+def gerber_regions(board: Board, layer: str, num) -> list[tuple[str, list[str]]]:
+    """The pours of `layer` as Gerber region statements (G36/G37), one (net, lines) per piece.
+
+    Each piece is its outer contour in dark polarity followed by its holes in clear polarity
+    (the open Gerber standard's way of cutting holes out of a region). Pieces go largest
+    outer contour first, so a piece lying in another's hole is drawn after that hole is
+    cleared. The region's attribute .AperFunction is Conductor. The lines go before any
+    pad or trace of the file, since a clear region clears everything drawn before it.
+
+    Parameters
+    ----------
+    num : callable
+        The file's coordinate formatter (mm -> integer string in the file's format).
+    """
+    pieces = []
+    for pour in board.pours:
+        if pour.layer == layer:
+            for piece in pour.filled:
+                pieces.append((Polygon(piece[0]).area, pour.net, piece))
+    pieces.sort(key=lambda t: -t[0])
+
+    def contour(ring) -> list[str]:
+        pts = list(ring) + [ring[0]]
+        out = ["G36*", f"X{num(pts[0][0])}Y{num(pts[0][1])}D02*"]
+        out += [f"X{num(x)}Y{num(y)}D01*" for x, y in pts[1:]]
+        out.append("G37*")
+        return out
+
+    out = []
+    for _, net, piece in pieces:
+        lines = ["%TA.AperFunction,Conductor*%", "G01*"] + contour(piece[0])
+        if len(piece) > 1:
+            lines.append("%LPC*%")
+            for hole in piece[1:]:
+                lines += contour(hole)
+            lines.append("%LPD*%")
+        lines.append("%TD.AperFunction*%")
+        out.append((net, lines))
+    return out
