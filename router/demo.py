@@ -60,6 +60,9 @@ def run_demo(out: Path, quiet: bool = False) -> int:
         say(f"routed {t['routed']} of {t['nets']} nets in {result.seconds:.1f} s: {t['bends']} bends, "
             f"{t['length']:.1f} mm (lower bound {t['length_lower_bound']:.1f} mm), {t['vias']} vias "
             f"-> {out / 'routed.toml'}")
+        for layer, pa in (result.figures.get("pours") or {}).items():    # router.pour
+            if pa["area"]:
+                say(f"  poured {layer}: {pa['area']:.1f} mm^2, {100 * pa['share']:.0f} % of the board")
     else:
         skipped.append("route")
 
