@@ -242,7 +242,7 @@ def _from_dict(data: dict, file) -> Board:
         for cname, cval in ct.items():
             entry = f"classes.{cname}"
             cval = r.table(cval, entry)
-            r.keys(cval, entry, {"trace_width", "clearance", "current", "voltage"})
+            r.keys(cval, entry, {"trace_width", "clearance", "current", "voltage", "neck_width", "neck_length"})
             nc = NetClass(cname)
             if "trace_width" in cval:
                 nc.trace_width = r.number(cval["trace_width"], f"{entry}.trace_width", positive=True)
@@ -252,6 +252,9 @@ def _from_dict(data: dict, file) -> Board:
                 nc.current = r.number(cval["current"], f"{entry}.current", positive=True)
             if "voltage" in cval:
                 nc.voltage = r.number(cval["voltage"], f"{entry}.voltage", positive=True)
+            for key in ("neck_width", "neck_length"):
+                if key in cval:
+                    setattr(nc, key, r.number(cval[key], f"{entry}.{key}", positive=True))
             classes[cname] = nc
     for nc in classes.values():
         if nc.trace_width < rules.min_trace_width - TOL:
@@ -260,6 +263,12 @@ def _from_dict(data: dict, file) -> Board:
         if nc.clearance < rules.min_clearance - TOL:
             r.fail(f"classes.{nc.name}.clearance", f"{nc.clearance} mm is below rules.min_clearance "
                                                    f"{rules.min_clearance} mm; raise it")
+        if nc.neck_width is not None and nc.neck_width < rules.min_trace_width - TOL:
+            r.fail(f"classes.{nc.name}.neck_width", f"{nc.neck_width} mm is below rules.min_trace_width "
+                                                    f"{rules.min_trace_width} mm; widen the neck")
+        if nc.neck_width is not None and nc.neck_width > nc.trace_width + TOL:
+            r.fail(f"classes.{nc.name}.neck_width", f"{nc.neck_width} mm is wider than the class's trace_width "
+                                                    f"{nc.trace_width} mm; a neck is narrower than the trace")
 
     # [footprints]
     own: dict[str, Footprint] = {}
@@ -521,6 +530,9 @@ def _to_dict(board: Board) -> dict:
             c["current"] = _num(nc.current)
         if nc.voltage is not None:
             c["voltage"] = _num(nc.voltage)
+        for key in ("neck_width", "neck_length"):
+            if getattr(nc, key) is not None:
+                c[key] = _num(getattr(nc, key))
         classes[name] = c
     d["classes"] = classes
     if board.footprints:

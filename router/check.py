@@ -184,9 +184,18 @@ def _clearance_and_short(ctx: _Ctx) -> list[Violation]:
     req = req_table[item_cls[I], item_cls[J]]
     bad = d < req - TOL          # short_of, vectorised (short: d <= TOL, which is below any req)
     worst: dict[tuple, tuple[float, int, int]] = {}
+    own = None
     for i, j, dist, rq in zip(I[bad], J[bad], d[bad], req[bad]):
         i, j = int(i), int(j)
         a, b = items[i], items[j]
+        if dist > TOL and "pad" in (a.kind, b.kind):
+            # a footprint's own pad spacing, and the traces escaping from such pads (router.escape)
+            if own is None:
+                from .escape import OwnPadRule
+                own = OwnPadRule(board, items, strict=getattr(ctx, "strict", False))
+            rq = own.required(a, b, float(rq))
+            if dist >= rq - TOL:
+                continue
         _, layer = _shared_layer(board, a, b)
         rule = "short" if dist <= TOL else "clearance"
         la, lb = ctx.labels[i], ctx.labels[j]
@@ -403,11 +412,15 @@ def _width_and_current(board: Board) -> list[Violation]:
                    f"asks for {nc.current:g} A at {rules.temperature_rise:g} C rise, {rules.copper_oz:g} oz")
             out.append(Violation("current", sorted(class_nets.get(name, [])), None, None,
                                  _r(nc.trace_width), _r(w), msg))
+    necks = None
     for ti, t in enumerate(board.traces):
         nc = net_cls.get(t.net, board.classes["default"])
         req = max(nc.trace_width, rules.min_trace_width)
         at = _xy(_trace_point(t))
-        if short_of(t.width, req):
+        if short_of(t.width, req) and necks is None:
+            from .escape import neck_traces         # a neck at a pad of its net is no width violation
+            necks = neck_traces(board)
+        if short_of(t.width, req) and ti not in necks:
             msg = (f"{t.net} on {t.layer}: trace {ti + 1} is {t.width:.2f} mm wide at {_fmt_at(at)}, "
                    f"{req:.2f} mm required")
             out.append(Violation("width", [t.net], t.layer, at, _r(t.width), _r(req), msg))
@@ -535,13 +548,17 @@ def _placement(board: Board) -> list[Violation]:
 
 # ----------------------------------------------------------------------------- public
 
-def check(board: Board) -> list[Violation]:
+def check(board: Board, strict: bool = False) -> list[Violation]:
     """Every violation of `board`'s rules.
 
     Parameters
     ----------
     board : Board
         Any board, routed by us or drawn by hand.
+    strict : bool
+        Pads of one part keep the class clearance like any other copper (``check --strict``);
+        by default a footprint's own pad spacing is a violation only below ``min_clearance``
+        (:mod:`router.escape`).
 
     Returns
     -------
@@ -560,6 +577,7 @@ def check(board: Board) -> list[Violation]:
     .. [1] IPC-2221, "Generic Standard on Printed Board Design", Table 6-1 and section 6.2.
     """
     ctx = _Ctx(board)
+    ctx.strict = strict
     found = (_clearance_and_short(ctx) + _open(ctx) + _edge(ctx) + _keepout(ctx) +
              _width_and_current(board) + _holes(board) + _voltage(board) + _placement(board))
     if board.pours:                  # poured copper narrower than the board house makes (router.pour)
@@ -603,6 +621,13 @@ def warnings(board: Board) -> list[Violation]:
                 at = _xy(e)
                 msg = f"{t.net} on {t.layer}: trace {ti + 1} ends at {_fmt_at(at)} touching nothing"
                 out.append(Violation("dangling_end", [t.net], t.layer, at, None, None, msg))
+    from .escape import OwnPadRule           # a footprint's own pad spacing: once per part
+    for ref, fp, gap, req in OwnPadRule(board, items).warnings():
+        pad = next((it for it in items if it.kind == "pad" and it.pad.ref == ref), None)
+        at = _xy(pad.pad.at) if pad is not None else None
+        msg = (f"{ref} ({fp}): its own pads are {gap:.2f} mm apart, below the {req:.2f} mm class clearance; "
+               f"the footprint's business (a violation below min_clearance or with check --strict)")
+        out.append(Violation("own_pad_gap", [], None, at, _r(gap), _r(req), msg))
     if board.pours:                  # a fill computed for other copper (router.pour)
         from .pour import stale_warnings
         out += stale_warnings(board)

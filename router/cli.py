@@ -91,7 +91,7 @@ def cmd_check(args) -> int:
     except ImportError:
         _not_ready("check")
     board = load_board(args.board)
-    violations = check(board)
+    violations = check(board, strict=getattr(args, "strict", False))
     if args.json:
         print(json.dumps(violations_json(violations), indent=2))
     else:
@@ -224,6 +224,9 @@ def build_parser() -> argparse.ArgumentParser:
     sp = add("check", "clearance, connectivity and manufacturing checks", cmd_check)
     sp.add_argument("board", help="board file")
     sp.add_argument("--json", action="store_true", help="print the violations as JSON")
+    sp.add_argument("--strict", action="store_true",
+                    help="pads of one part keep the class clearance too (by default a footprint's own "
+                         "pad spacing is a violation only below rules.min_clearance)")
 
     sp = add("report", "bends, length, vias and jumpers per net and in total", cmd_report)
     sp.add_argument("board", help="board file")

@@ -541,6 +541,13 @@ def board_figures(board: Board) -> dict:
             "bend_points": [list(p) for p in bends_at],
             "_exact": (length, jlen, lb),
         })
+    from .escape import neck_traces          # pad exits narrower than the class (router.escape)
+    neck_at: dict[str, list] = defaultdict(list)
+    for ti, at in sorted(neck_traces(board).items()):
+        neck_at[board.traces[ti].net].append([snap(at[0]), snap(at[1])])
+    for n in nets:
+        n["necks"] = len(neck_at.get(n["name"], ()))
+        n["neck_points"] = neck_at.get(n["name"], [])
     tot_len = sum(n["_exact"][0] for n in nets)
     tot_j = sum(n["_exact"][1] for n in nets)
     tot_lb = sum(n["_exact"][2] for n in nets)
@@ -563,6 +570,7 @@ def board_figures(board: Board) -> dict:
         "length_lower_bound_routed": snap(r_lb),
         "length_ratio_routed": _ratio(r_len, r_lb),
         "bends_over_bound": sum(n["bends_over_bound"] for n in nets),
+        "necks": sum(n["necks"] for n in nets),
     }
     out = {"nets": nets, "totals": totals}
     if board.pours:                  # poured area and share of the board per layer (router.pour)
@@ -717,6 +725,10 @@ def format_report(figs: dict, board: Optional[Board] = None) -> str:
     out.append(f"totals: {t['routed']} of {t['nets']} nets routed"
                + (f" ({unrouted} not)" if unrouted else "")
                + f", {t['vias']} vias, {t['jumpers']} jumpers")
+    if t.get("necks"):
+        where = [f"{n['name']} at ({p[0]:.2f}, {p[1]:.2f})" for n in figs["nets"] for p in n.get("neck_points", [])]
+        out.append(f"necks: {t['necks']} (pad exits narrower than the class): " + ", ".join(where[:8])
+                   + (" ..." if len(where) > 8 else ""))
     for layer, pa in (figs.get("pours") or {}).items():
         out.append(f"poured {layer}: {pa['area']:.1f} mm^2, {100 * pa['share']:.1f} % of the board")
     out.append(f"bends {t['bends']}, bound {t['bends_lower_bound']}: "

@@ -514,14 +514,16 @@ class RoutingGrid:
         need = np.array([self._need(ob, prof, 0.0) for ob in items], dtype=np.float64)
         return boxes, lmask, need
 
-    def segment_clear(self, net: str, a, b, layer: int, width: float, others=None) -> bool:
+    def segment_clear(self, net: str, a, b, layer: int, width: float, others=None, base=None) -> bool:
         """True when a trace segment a-b of `net` keeps every required distance (hard and edge,
-        and from `others`, :meth:`obstacle_arrays` of copper laid for other nets)."""
+        and from `others`, :meth:`obstacle_arrays` of copper laid for other nets). `base`, when
+        given, replaces the per-obstacle centre distances (a pad escape's relaxed rule, router.escape)."""
         prof = self.profile_of(net)
         half = width / 2
         bx = (min(a[0], b[0]), min(a[1], b[1]), max(a[0], b[0]), max(a[1], b[1]))
         boxes, rads, lmask, nets, kinds, owners = self._obstacle_arrays()
-        base = self._base_need(prof)
+        if base is None:
+            base = self._base_need(prof)
         gx = np.maximum(np.maximum(boxes[:, 0] - bx[2], 0.0), bx[0] - boxes[:, 2])
         gy = np.maximum(np.maximum(boxes[:, 1] - bx[3], 0.0), bx[1] - boxes[:, 3])
         hit = (np.hypot(gx, gy) < base + half - TOL) & ((lmask >> layer) & 1).astype(bool)

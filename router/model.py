@@ -50,6 +50,8 @@ class NetClass:
     clearance: float = 0.2
     current: Optional[float] = None   # A
     voltage: Optional[float] = None   # V
+    neck_width: Optional[float] = None   # pad escape width where the class width does not fit (router.escape)
+    neck_length: Optional[float] = None  # how far from the pad edge a neck may run (router.escape)
 
 
 @dataclass

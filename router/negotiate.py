@@ -103,6 +103,8 @@ class _Negotiation:
                 out.extend((a, b, l, self.width(r.net)) for a, b in zip(line, line[1:]))
         for a, b, l in r.stubs:
             out.append((a, b, l, self.width(r.net)))
+        for pts, l, w in r.necks:            # pad exits narrower than the class (router.escape)
+            out.extend((a, b, l, w) for a, b in zip(pts, pts[1:]))
         return out
 
     def lay(self, net: str, r: NetRoute) -> None:
@@ -477,9 +479,16 @@ def _write(b: Board, grid: RoutingGrid, neg: _Negotiation, order: list[str]) -> 
             continue
         width = neg.width(net)
         per_layer = defaultdict(list)          # unit steps, so that a T junction is a shared point
-        for a, b2, l, _ in r.segments(grid, width):
+        for a, b2, l, w in r.segments(grid, width, necks=False):
             per_layer[l].append((a, b2))
         anchored = _anchor_test(grid, net, r)
+        if r.necks:                            # a neck is a trace of its own; its grid end anchors the rest
+            neck_ends = {(l, pts[-1]) for pts, l, _ in r.necks}
+            for pts, l, w in r.necks:
+                if len(pts) > 1:
+                    b.traces.append(Trace(net, grid.layers[l], w, [tuple(p) for p in pts]))
+            base_anchor = anchored
+            anchored = lambda p, _a=base_anchor, _e={e for _, e in neck_ends}: _a(p) or p in _e
         for l in sorted(per_layer):
             segs = trim_dangling(per_layer[l], anchored)
             for pts in polylines(segs):

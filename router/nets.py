@@ -58,12 +58,17 @@ class NetRoute:
     cells: set = field(default_factory=set)      # every (l, j, i) its copper uses
     near: set = field(default_factory=set)       # grid points within half a pitch of its stubs (for sharing)
     failed: Optional[str] = None
+    necks: list = field(default_factory=list)    # (points, layer index, width): pad exits narrower than the class (router.escape)
 
-    def segments(self, grid: RoutingGrid, width: float):
+    def segments(self, grid: RoutingGrid, width: float, necks: bool = True):
         for (l, j, i), (_, j2, i2) in sorted(self.edges):
             yield grid.point(j, i), grid.point(j2, i2), l, width
         for a, b, l in self.stubs:
             yield a, b, l, width
+        if necks:
+            for pts, l, w in self.necks:
+                for a, b in zip(pts, pts[1:]):
+                    yield a, b, l, w
 
     def via_points(self, grid: RoutingGrid):
         return [grid.point(j, i) for j, i in self.vias]
@@ -136,7 +141,11 @@ def _access(grid: RoutingGrid, space: SearchSpace, net: str, pad, others=None) -
             out[(l, j, i)] = pts
             if len(out) >= 6:
                 break
-    return out
+    if out:
+        return out
+    # a pad escape: straight out of the pad's end, then to the grid, narrowed where needed (router.escape)
+    from .escape import escape_access
+    return escape_access(grid, space, net, pad, others)
 
 
 #: Longest straight stub, in grid pitches (a stub is free in the search, so it is kept short).
@@ -146,10 +155,14 @@ _STUB_MAX = 1.5
 def _add_stub(grid: RoutingGrid, route: NetRoute, stub, layer: int) -> None:
     """Lay a stub's segments, and count the grid points near it as cells the net uses."""
     g = grid.pitch
+    neck = getattr(stub, "width", None)
+    if neck is not None:                 # a neck is written as a trace of its own width
+        route.necks.append((tuple(stub), layer, neck))
     for a, b in zip(stub, stub[1:]):
         if a == b:
             continue
-        route.stubs.append((a, b, layer))
+        if neck is None:
+            route.stubs.append((a, b, layer))
         x0, x1 = sorted((a[0], b[0]))
         y0, y1 = sorted((a[1], b[1]))
         ia, ib, ja, jb = grid._window((x0, y0, x1, y1), g / 2)

@@ -16,7 +16,7 @@ from __future__ import annotations
 from .model import Board, NetClass
 
 __all__ = ["VOLTAGE_COLUMNS", "ipc2221_spacing", "ipc2221_width_for_current",
-           "ipc2221_current_for_width", "required_clearance", "class_clearance_table"]
+           "ipc2221_current_for_width", "required_clearance", "class_clearance_table", "own_pad_clearance"]
 
 # IPC-2221 Table 6-1, minimum spacing in mm, by the upper voltage of each band (DC or AC peak).
 # Columns: B1 internal conductors; B2 external, uncoated, sea level to 3050 m; B3 external,
@@ -97,6 +97,25 @@ def required_clearance(board: Board, a: NetClass, b: NetClass) -> float:
     if volts:
         req = max(req, ipc2221_spacing(max(volts), board.rules.voltage_table))
     return req
+
+
+def own_pad_clearance(board: Board, required: float, own_gap: float) -> float:
+    """The clearance a pad's escaping trace keeps from the other pads of its own part.
+
+    A footprint's own pad spacing is the footprint's business (the contract's "Conventions"):
+    within its class's ``neck_length`` of such a pad, a trace keeps at least the larger of the
+    board house's ``min_clearance`` and the footprint's own pad gap from that part's other pads,
+    never more than the pair's ordinary `required` clearance. The check and the router both
+    use this one function.
+
+    Examples
+    --------
+    >>> from router.model import Board
+    >>> b = Board("t", [(0, 0), (1, 0), (1, 1)])
+    >>> own_pad_clearance(b, 0.3, 0.2), own_pad_clearance(b, 0.3, 0.1), own_pad_clearance(b, 0.2, 0.5)
+    (0.2, 0.15, 0.2)
+    """
+    return min(required, max(board.rules.min_clearance, own_gap))
 
 
 def class_clearance_table(board: Board) -> dict[tuple[str, str], float]:

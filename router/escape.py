@@ -1,0 +1,314 @@
+"""Pad escape: leaving a fine-pitch pad for the grid, necks, and a footprint's own pad spacing.
+
+A pad whose grid points are all too close to its neighbours (rows of 0.5 mm pitch pads,
+or a class whose width plus clearance is wider than the gap beside its own pads) is left
+the way a designer leaves it: straight out along one axis, out of the end that faces away
+from the part's body first, then sideways to the first open grid point. The exit is laid
+off the grid and checked exactly against every other copper (:meth:`RoutingGrid.segment_clear`).
+Where the class width does not fit, the exit is a *neck*: a trace of the class's
+``neck_width`` no longer than ``neck_length`` from the pad's edge, written as a trace of
+its own.
+
+The footprint's own pad spacing (the contract's "Conventions"): two pads of one part
+closer together than the class clearance are the footprint's business. Within
+``neck_length`` of such a pad, a trace escaping from it keeps at least the larger of
+``min_clearance`` and the footprint's own pad gap from the part's other pads
+(:func:`router.rules.own_pad_clearance`). :class:`OwnPadRule` applies that rule to the
+copper of a board for ``check``; :func:`escape_access` applies the same rule to the
+router's exits; the final exact check of the router is ``check`` itself.
+"""
+from __future__ import annotations
+
+import math
+from collections import defaultdict
+from typing import Optional
+
+import numpy as np
+import shapely
+from shapely.geometry import Point as SPoint
+
+from .copper import pad_core
+from .geometry import PlacedPad, placed_pads
+from .model import Board, NetClass
+from .rules import own_pad_clearance
+from .units import TOL
+
+__all__ = ["NECK_LENGTH", "Neck", "neck_of", "own_gaps", "OwnPadRule", "escape_access", "neck_traces"]
+
+#: Default ``neck_length``: how far from the pad's edge a neck may run, in mm. Common practice:
+#: a neck ends as soon as the trace is clear of the fine-pitch row, within about a millimetre.
+NECK_LENGTH = 1.0
+
+
+class Neck(tuple):
+    """The points of a pad exit (a tuple of (x, y)) with its width: the class width, or
+    narrower (a neck). Either is written as a trace of its own, so that every segment of
+    it lies within ``neck_length`` of its pad, where the footprint's own spacing applies."""
+    width: float
+
+
+def neck_of(board: Board, nc: NetClass) -> tuple[float, float]:
+    """(neck_width, neck_length) of a class: by default the board house's ``min_trace_width``
+    (never wider than the class's own width) and :data:`NECK_LENGTH`."""
+    w = nc.neck_width if nc.neck_width is not None else board.rules.min_trace_width
+    w = min(w, max(nc.trace_width, board.rules.min_trace_width))
+    return w, (nc.neck_length if nc.neck_length is not None else NECK_LENGTH)
+
+
+def _core_distance(a: PlacedPad, b: PlacedPad) -> float:
+    ca, ra = pad_core(a)
+    cb, rb = pad_core(b)
+    return ca.distance(cb) - ra - rb
+
+
+def own_gaps(board: Board, pads: Optional[list] = None) -> dict[str, tuple[float, str]]:
+    """Per placed part: the smallest copper gap between two of its pads of different pins on a
+    shared layer, and the footprint's name. Parts with fewer than two such pads are left out."""
+    pads = placed_pads(board) if pads is None else pads
+    by_ref: dict[str, list] = defaultdict(list)
+    for p in pads:
+        by_ref[p.ref].append(p)
+    fp = {p.ref: p.footprint for p in board.parts}
+    out = {}
+    for ref, ps in by_ref.items():
+        if len(ps) < 2:
+            continue
+        cores = [pad_core(p) for p in ps]
+        geoms = np.array([c for c, _ in cores], dtype=object)
+        rads = np.array([r for _, r in cores])
+        best = math.inf
+        for k in range(len(ps) - 1):
+            others = [q for q in range(k + 1, len(ps)) if ps[q].pin != ps[k].pin
+                      and set(ps[q].layers) & set(ps[k].layers)]
+            if not others:
+                continue
+            d = shapely.distance(geoms[k], geoms[others]) - rads[k] - rads[others]
+            best = min(best, float(d.min()))
+        if best < math.inf:
+            out[ref] = (max(best, 0.0), fp.get(ref, "?"))
+    return out
+
+
+class OwnPadRule:
+    """The footprint's own pad spacing applied to a board's copper items (for ``check``).
+
+    Parameters
+    ----------
+    board : Board
+    items : list of CopperItem
+        The board's copper (:func:`router.copper.copper_items`).
+    strict : bool
+        ``check --strict``: pads of one part keep the class clearance like any other copper.
+    """
+
+    def __init__(self, board: Board, items, strict: bool = False):
+        self.board = board
+        self.strict = strict
+        pads = [it.pad for it in items if it.kind == "pad"]
+        self.gaps = own_gaps(board, pads)
+        self.pads_of: dict[tuple[str, str], list] = defaultdict(list)     # (net, ref) -> pad items
+        for it in items:
+            if it.kind == "pad":
+                self.pads_of[(it.net, it.pad.ref)].append(it)
+
+    def required(self, a, b, required: float) -> float:
+        """The clearance copper items `a` and `b` must keep, given the pair's ordinary `required`."""
+        if a.kind == "pad" and b.kind == "pad" and a.pad.ref == b.pad.ref:
+            return required if self.strict else min(required, self.board.rules.min_clearance)
+        if a.kind == "pad" and b.kind == "trace":
+            pad, tr = a, b
+        elif b.kind == "pad" and a.kind == "trace":
+            pad, tr = b, a
+        else:
+            return required
+        ref = pad.pad.ref
+        gap = self.gaps.get(ref)
+        if gap is None:
+            return required
+        _, length = neck_of(self.board, self.board.net_class(tr.net))
+        ends = [SPoint(c) for c in tr.core.coords]
+        for own in self.pads_of.get((tr.net, ref), ()):
+            if all(own.core.distance(e) - own.radius <= length + TOL for e in ends):
+                return own_pad_clearance(self.board, required, gap[0])
+        return required
+
+    def warnings(self):
+        """One (ref, footprint, gap, required) per part whose own pads of different nets sit
+        closer together than those nets' required clearance."""
+        from .rules import required_clearance
+        out = []
+        by_ref: dict[str, list] = defaultdict(list)
+        for (net, ref), its in self.pads_of.items():
+            by_ref[ref].extend(its)
+        for ref in sorted(by_ref):
+            its = by_ref[ref]
+            worst = None
+            for k in range(len(its)):
+                for q in range(k + 1, len(its)):
+                    a, b = its[k], its[q]
+                    if a.net == b.net or not set(a.layers) & set(b.layers):
+                        continue
+                    bx = a.bounds()
+                    ob = b.bounds()
+                    req = required_clearance(self.board, self.board.net_class(a.net), self.board.net_class(b.net))
+                    if ob[0] > bx[2] + req or bx[0] > ob[2] + req or ob[1] > bx[3] + req or bx[1] > ob[3] + req:
+                        continue
+                    d = a.core.distance(b.core) - a.radius - b.radius
+                    if d < req - TOL and (worst is None or d < worst[0]):
+                        worst = (d, req)
+            if worst is not None:
+                fp = self.gaps.get(ref, (0.0, "?"))[1]
+                out.append((ref, fp, max(worst[0], 0.0), worst[1]))
+        return out
+
+
+def _body_centre(board: Board, ref: str):
+    for p in board.parts:
+        if p.ref == ref and p.at is not None:
+            return p.at
+    return None
+
+
+def _relaxed_base(grid, net: str, pad: PlacedPad) -> np.ndarray:
+    """Per obstacle of `grid`: the centre distance a zero-width trace of `net` escaping from
+    `pad` keeps, with the footprint's own pad spacing for the other pads of `pad`'s part."""
+    cache = grid.__dict__.setdefault("_escape_base", {})
+    prof = grid.profile_of(net)
+    key = (prof.name, pad.ref)
+    base = cache.get(key)
+    if base is not None:
+        return base
+    grid._obstacle_arrays()
+    base = grid._base_need(prof).copy()
+    gaps = grid.__dict__.get("_own_gaps")
+    if gaps is None:
+        gaps = grid._own_gaps = own_gaps(grid.board, grid.pads)
+    gap = gaps.get(pad.ref)
+    if gap is not None:
+        for k, p in enumerate(grid.pads):          # the grid's first obstacles are its pads, in order
+            if p.ref != pad.ref:
+                continue
+            ob = grid.obstacles[k]
+            req = prof.clearance_to.get(ob.cls, prof.clearance_to["default"])
+            base[k] = ob.radius + own_pad_clearance(grid.board, req, gap[0])
+    cache[key] = base
+    return base
+
+
+def escape_access(grid, space, net: str, pad: PlacedPad, others=None, most: int = 6) -> dict:
+    """Exits from `pad` to open grid points: cell (l, j, i) -> the exit's points from the pad's edge.
+
+    Each exit leaves the pad straight along x or y from the middle of its copper (out of the end
+    facing away from the part's body first), runs to a grid row (or column) beyond, then
+    sideways to a grid point that is open to the net. Every segment is checked exactly
+    (:meth:`RoutingGrid.segment_clear`) with the footprint's own pad spacing for the other pads
+    of the part. The class width is tried first; where it does not fit, a :class:`Neck` of the
+    class's ``neck_width`` no longer than ``neck_length``.
+    """
+    core, rad = pad_core(pad)
+    x0, y0, x1, y1 = (float(v) for v in core.bounds)
+    g = grid.pitch
+    prof = grid.profile_of(net)
+    nc = grid.board.net_class(net)
+    nw, nl = neck_of(grid.board, nc)
+    cw = prof.width
+    widths = [(cw, max(nl, 2 * g))] + ([(nw, nl)] if nw < cw - TOL else [])
+    layers = [grid.layer_index(l) for l in pad.layers if l in grid.layers]
+    centre = _body_centre(grid.board, pad.ref) or (pad.x, pad.y)
+    cx, cy = (x0 + x1) / 2, (y0 + y1) / 2
+    dirs = []
+    for dx, dy in ((1, 0), (-1, 0), (0, 1), (0, -1)):
+        out = dx * (pad.x - centre[0]) + dy * (pad.y - centre[1])
+        along = (x1 - x0 + 2 * rad) if dx else (y1 - y0 + 2 * rad)      # leave along the long axis first
+        dirs.append((-round(out, 6), -round(along, 6), dx, dy))
+    dirs.sort()
+    relaxed = _relaxed_base(grid, net, pad)
+    grid._obstacle_arrays()
+    full = grid._base_need(prof)
+    found: dict = {}
+    for _, _, dx, dy in dirs:
+        if dx:
+            start = (x1 + rad if dx > 0 else x0 - rad, cy)
+        else:
+            start = (cx, y1 + rad if dy > 0 else y0 - rad)
+        start = (round(start[0], 6), round(start[1], 6))
+        n_dir = 0
+        for width, limit in widths:
+            cands = []
+            # grid lines beyond the start along the direction, and grid lines across it near the start
+            s_along = start[0] if dx else start[1]
+            s_across = start[1] if dx else start[0]
+            sign = dx or dy
+            k0 = math.ceil((s_along / g) - 1e-9) if sign > 0 else math.floor((s_along / g) + 1e-9)
+            for m in range(0, int(limit / g) + 2):
+                v = (k0 + sign * m) * g
+                run = abs(v - s_along)
+                if run > limit + TOL:
+                    break
+                side = limit - run
+                c0 = math.floor((s_across - side) / g + 1e-9)
+                c1 = math.ceil((s_across + side) / g - 1e-9)
+                for c in range(c0, c1 + 1):
+                    w_ = c * g
+                    if run + abs(w_ - s_across) > limit + TOL:
+                        continue
+                    pts = [start, (v, s_across), (v, w_)] if dx else [start, (s_across, v), (w_, v)]
+                    pts = [(round(px, 6), round(py, 6)) for px, py in pts]
+                    cands.append((run + abs(w_ - s_across), abs(w_ - s_across), pts))
+            cands.sort(key=lambda c: (c[0], c[1]))
+            for length, _, pts in cands:
+                # the own-pad rule holds within neck_length of the pad only (as check applies it)
+                base = relaxed if length <= nl + TOL else full
+                end = pts[-1]
+                i = int(round(end[0] / g)) - grid.i0
+                j = int(round(end[1] / g)) - grid.j0
+                if not (0 <= i < grid.nx and 0 <= j < grid.ny):
+                    continue
+                for l in layers:
+                    if (l, j, i) in found or not space.open_cell[l, j, i]:
+                        continue
+                    segs = [(a, b) for a, b in zip(pts, pts[1:]) if a != b]
+                    if not segs:
+                        segs = [(pts[0], pts[0])]
+                    if all(grid.segment_clear(net, a, b, l, width, others, base=base) for a, b in segs):
+                        path = Neck(p for k, p in enumerate(pts) if k == 0 or p != pts[k - 1])
+                        path.width = width
+                        found[(l, j, i)] = path
+                        n_dir += 1
+                if n_dir >= 2:
+                    break
+            if n_dir:
+                break                       # the class width fits this way: no neck needed
+        if len(found) >= most:
+            break
+    return found
+
+
+def neck_traces(board: Board) -> dict[int, tuple[float, float]]:
+    """The traces of `board` that are necks: trace index -> the point where it leaves its pad.
+
+    A neck is a trace narrower than its class's width but at least its class's
+    ``neck_width``, one of whose ends touches a pad of its net on its layer, and no longer
+    than the class's ``neck_length``.
+    """
+    from .figures import trace_length
+    pads = placed_pads(board)
+    by_net: dict[str, list] = defaultdict(list)
+    for p in pads:
+        by_net[p.net].append((p, pad_core(p)))
+    rules = board.rules
+    out = {}
+    for ti, t in enumerate(board.traces):
+        nc = board.net_class(t.net)
+        req = max(nc.trace_width, rules.min_trace_width)
+        if not t.points or t.width >= req - TOL:
+            continue
+        nw, nl = neck_of(board, nc)
+        if t.width < nw - TOL or trace_length(t.points) > nl + TOL:
+            continue
+        for end in (t.points[0], t.points[-1]):
+            e = SPoint(end)
+            if any(t.layer in p.layers and core.distance(e) - r <= TOL for p, (core, r) in by_net.get(t.net, ())):
+                out[ti] = (float(end[0]), float(end[1]))
+                break
+    return out
