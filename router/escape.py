@@ -312,3 +312,66 @@ def neck_traces(board: Board) -> dict[int, tuple[float, float]]:
                 out[ti] = (float(end[0]), float(end[1]))
                 break
     return out
+
+
+def pad_vias(grid, space, net: str, pads, strict: bool = False, most: int = 9) -> int:
+    """Open via places inside the net's large surface pads (an exposed pad under a part's body
+    has no way out on its own layer): grid points where a via lies wholly inside the pad and
+    keeps, exactly, every clearance on every layer, the edge, keepouts and the hole spacing.
+    The search prices these vias like any other. Returns how many places were opened."""
+    if grid.L < 2:
+        return 0
+    cache = grid.__dict__.setdefault("_pad_via_cache", {})
+    vd, drill = grid.via_d, grid.via_drill
+    opened = 0
+    k = grid.profile_of(net).index
+    for pad in pads:
+        if pad.drill is not None or min(pad.w, pad.h) < vd - TOL:
+            continue
+        key = (net, pad.ref, pad.index)
+        pts = cache.get(key)
+        if pts is None:
+            pts = _pad_via_points(grid, net, pad, vd, drill, most)
+            cache[key] = pts
+        for j, i in pts:
+            if strict and grid.soft_via[k][j, i] > 0:
+                continue
+            if not space.via_ok[j, i]:
+                space.via_ok[j, i] = 1
+                opened += 1
+    return opened
+
+
+def _pad_via_points(grid, net, pad, vd, drill, most):
+    from .copper import holes
+    core, rad = pad_core(pad)
+    x0, y0, x1, y1 = (float(v) for v in core.bounds)
+    g = grid.pitch
+    inner = (x0 - rad + vd / 2, y0 - rad + vd / 2, x1 + rad - vd / 2, y1 + rad - vd / 2)
+    if inner[0] > inner[2] + TOL or inner[1] > inner[3] + TOL:
+        return []
+    hs = [(h.x, h.y, h.drill) for h in holes(grid.board)]
+    spacing = grid.rules.min_hole_spacing
+    cands = []
+    for i in range(int(math.ceil(inner[0] / g - 1e-9)), int(math.floor(inner[2] / g + 1e-9)) + 1):
+        for j in range(int(math.ceil(inner[1] / g - 1e-9)), int(math.floor(inner[3] / g + 1e-9)) + 1):
+            x, y = i * g, j * g
+            if pad.shape != "rectangle" and core.distance(SPoint(x, y)) > rad - vd / 2 + TOL:
+                continue
+            cands.append((math.hypot(x - pad.x, y - pad.y), i - grid.i0, j - grid.j0, x, y))
+    cands.sort()
+    out = []
+    for _, i, j, x, y in cands:
+        if not (0 <= i < grid.nx and 0 <= j < grid.ny):
+            continue
+        p = (round(x, 6), round(y, 6))
+        if not all(grid.segment_clear(net, p, p, l, vd) for l in range(grid.L)):
+            continue
+        if any(math.hypot(hx - x, hy - y) - hd / 2 - drill / 2 < spacing - TOL for hx, hy, hd in hs):
+            continue
+        if any(math.hypot((oi - i) * g, (oj - j) * g) < drill + spacing - TOL for oj, oi in out):
+            continue
+        out.append((j, i))
+        if len(out) >= most:
+            break
+    return out

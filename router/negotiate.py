@@ -88,6 +88,7 @@ class _Negotiation:
         self.own = {n: grid.own_obstacles(n) for n in nets}
         self.hist = np.zeros((grid.L, grid.ny, grid.nx), np.int64)
         self.present = 0.5
+        self.blind: dict[str, str] = {}            # nets with a pad that no exit reaches (fixed copper only)
 
     def width(self, net: str) -> float:
         return self.grid.profile_of(net).width
@@ -129,6 +130,8 @@ class _Negotiation:
 
     def route(self, net: str, strict: bool = False) -> NetRoute:
         grid = self.grid
+        if net in self.blind:            # a pad with no way to the grid is found once, not every pass
+            return NetRoute(net, failed=self.blind[net], blind=True)
         k = grid.profile_of(net).index
         if strict:
             extra = np.zeros((grid.L, grid.ny, grid.nx), np.int32)
@@ -160,8 +163,11 @@ class _Negotiation:
             prof = grid.profile_of(net)
             others = grid.obstacle_arrays([ob for n, items in sorted(self.soft.items()) if n != net
                                            for ob in items], prof)
-        return route_net(grid, net, space, self.groups[net], bend=self.bend, via=self.via, jump=self.jump,
-                         others=others)
+        r = route_net(grid, net, space, self.groups[net], bend=self.bend, via=self.via, jump=self.jump,
+                      others=others)
+        if r.blind:
+            self.blind[net] = r.failed
+        return r
 
     def conflicts(self) -> tuple[dict, list]:
         """Nets sharing cells with other nets: net -> number of shared cells, and the cells."""

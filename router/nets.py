@@ -58,6 +58,7 @@ class NetRoute:
     cells: set = field(default_factory=set)      # every (l, j, i) its copper uses
     near: set = field(default_factory=set)       # grid points within half a pitch of its stubs (for sharing)
     failed: Optional[str] = None
+    blind: bool = False                          # failed because a pad has no way to the grid at all
     necks: list = field(default_factory=list)    # (points, layer index, width): pad exits narrower than the class (router.escape)
 
     def segments(self, grid: RoutingGrid, width: float, necks: bool = True):
@@ -324,6 +325,9 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
         (the copper of the pins that were joined is kept in the route).
     """
     route = NetRoute(net)
+    if not grid.one_layer:               # vias inside the net's large surface pads (router.escape)
+        from .escape import pad_vias
+        pad_vias(grid, space, net, [p for g in pad_groups for p in g], strict=others is not None)
     terms = terminals(grid, space, net, pad_groups, others)
     if len(terms) <= 1:
         return route
@@ -331,6 +335,7 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
     if blind:
         route.failed = (f"pad {blind[0].name} has no open grid point within reach "
                         f"(too close to other copper or the edge for a {grid.profile_of(net).width:g} mm trace)")
+        route.blind = others is None     # against fixed copper only: the same in every pass
         return route
     # start from the terminal nearest the net's centre, so the tree grows outwards
     cx = np.mean([p.x for t in terms for p in t.pads])
