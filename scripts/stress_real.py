@@ -1,0 +1,137 @@
+"""Route real-looking generated boards (router.realgen) and compare with a reference router.
+
+Usage::
+
+    python scripts/stress_real.py --seeds A B [--nets N ...] [--baseline DIR | --no-baseline]
+                                  [--commit REV] [--save DIR]
+
+Each seed in ``A .. B-1`` makes one board with ``real_board(seed, nets)`` (the nets cycle through
+``--nets``, default 30 60 100 150 200). The board is routed in this process with today's code,
+and, unless ``--no-baseline``, by the router of another checkout (``--baseline DIR``, default
+``/tmp/elbowroom-baseline``, made with ``git worktree add DIR REV`` when missing; REV defaults to
+9bd7d45, the router before pad escape) in a subprocess whose PYTHONPATH points at it. Both routed
+boards are checked by today's ``check`` (one judge for both). One line per board:
+
+    seed  nets  pads  | routed  violations  vias  seconds | baseline routed  violations  vias  seconds
+
+and a totals line. The exit status is 0 when every board routes completely with no violation.
+"""
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parent.parent
+sys.path.insert(0, str(ROOT))
+
+from router.boardfile import dumps_board, loads_board   # noqa: E402
+from router.check import check                          # noqa: E402
+from router.geometry import placed_pads                 # noqa: E402
+from router.negotiate import route_board                # noqa: E402
+from router.realgen import real_board                   # noqa: E402
+
+WORKER = r"""
+import json, sys, time
+from router import load_board, save_board
+from router.negotiate import route_board
+b = load_board(sys.argv[1])
+t = time.perf_counter()
+r = route_board(b)
+dt = time.perf_counter() - t
+save_board(r.board, sys.argv[2])
+print(json.dumps({"seconds": dt}))
+"""
+
+
+def ensure_baseline(path: Path, rev: str) -> None:
+    if (path / "router" / "negotiate.py").exists():
+        return
+    subprocess.run(["git", "-C", str(ROOT), "worktree", "add", "--detach", str(path), rev], check=True,
+                   stdout=subprocess.DEVNULL)
+
+
+def figures(board, seconds: float) -> dict:
+    from router.figures import board_figures
+    t = board_figures(board)["totals"]
+    viol = [v for v in check(board) if v.rule != "open"]
+    return {"routed": t["routed"], "nets": t["nets"], "violations": len(viol), "vias": t["vias"],
+            "seconds": seconds, "necks": t.get("necks", 0)}
+
+
+def run_baseline(path: Path, text: str, tmp: Path, seed: int):
+    src, out = tmp / f"real-{seed}.toml", tmp / f"real-{seed}-base.toml"
+    src.write_text(text)
+    env = dict(os.environ, PYTHONPATH=str(path))
+    p = subprocess.run([sys.executable, "-c", WORKER, str(src), str(out)], env=env, capture_output=True,
+                       text=True, cwd=str(tmp))
+    if p.returncode != 0 or not out.exists():
+        return {"error": (p.stderr.strip().splitlines() or ["failed"])[-1]}
+    seconds = json.loads(p.stdout.strip().splitlines()[-1])["seconds"]
+    return figures(loads_board(out.read_text()), seconds)
+
+
+def main(argv=None) -> int:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--seeds", nargs=2, type=int, default=[0, 5], metavar=("A", "B"))
+    ap.add_argument("--nets", nargs="+", type=int, default=[30, 60, 100, 150, 200])
+    ap.add_argument("--baseline", type=Path, default=Path("/tmp/elbowroom-baseline"))
+    ap.add_argument("--commit", default="9bd7d45")
+    ap.add_argument("--no-baseline", action="store_true")
+    ap.add_argument("--save", type=Path)
+    args = ap.parse_args(argv)
+    if not args.no_baseline:
+        ensure_baseline(args.baseline, args.commit)
+    head = (f"{'seed':>4} {'nets':>4} {'pads':>5} | {'routed':>7} {'viol':>4} {'vias':>4} {'necks':>5} {'sec':>6}"
+            + ("" if args.no_baseline else f" | {'base routed':>11} {'viol':>4} {'vias':>4} {'sec':>6}"))
+    print(head)
+    print("-" * len(head))
+    tot = {"ours": [0, 0, 0, 0, 0.0], "base": [0, 0, 0, 0, 0.0]}
+    clean = True
+    with tempfile.TemporaryDirectory() as td:
+        tmp = Path(td)
+        for k, seed in enumerate(range(*args.seeds)):
+            n = args.nets[k % len(args.nets)]
+            text = dumps_board(real_board(seed, n))
+            board = loads_board(text)
+            t0 = time.perf_counter()
+            r = route_board(board, seed=0)
+            ours = figures(r.board, time.perf_counter() - t0)
+            if args.save:
+                args.save.mkdir(parents=True, exist_ok=True)
+                (args.save / f"real-{seed}.toml").write_text(dumps_board(r.board))
+            clean &= ours["routed"] == ours["nets"] and ours["violations"] == 0
+            line = (f"{seed:>4} {ours['nets']:>4} {len(placed_pads(board)):>5} | "
+                    f"{ours['routed']:>3}/{ours['nets']:<3} {ours['violations']:>4} {ours['vias']:>4} "
+                    f"{ours['necks']:>5} {ours['seconds']:>6.1f}")
+            for i, key in enumerate(("routed", "nets", "violations", "vias", "seconds")):
+                tot["ours"][i] += ours[key]
+            if not args.no_baseline:
+                base = run_baseline(args.baseline, text, tmp, seed)
+                if "error" in base:
+                    line += f" | error: {base['error'][:60]}"
+                else:
+                    line += (f" | {base['routed']:>5}/{base['nets']:<5} {base['violations']:>4} {base['vias']:>4} "
+                             f"{base['seconds']:>6.1f}")
+                    for i, key in enumerate(("routed", "nets", "violations", "vias", "seconds")):
+                        tot["base"][i] += base[key]
+            print(line, flush=True)
+    o, b = tot["ours"], tot["base"]
+    print("-" * len(head))
+    print(f"today:    {o[0]}/{o[1]} nets routed, {o[2]} violations, {o[3]} vias, {o[4]:.1f} s")
+    if not args.no_baseline:
+        print(f"baseline: {b[0]}/{b[1]} nets routed, {b[2]} violations, {b[3]} vias, {b[4]:.1f} s "
+              f"(checkout {args.commit} at {args.baseline})")
+        if b[3]:
+            print(f"vias today / baseline: {o[3] / b[3]:.2f}")
+    print("every board complete and clean" if clean else "NOT every board complete and clean")
+    return 0 if clean else 1
+
+
+if __name__ == "__main__":
+    sys.exit(main())
