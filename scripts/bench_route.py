@@ -7,12 +7,17 @@ the independent exact check (router.check, shapely geometry, not the router's gr
 bends against the per-net path bound (a two-pad net on one layer that shares no x or y
 range must bend at least once), length against the length lower bound, seconds, and
 seconds per million (nets x cells) as a ratio to the smallest board of the same run:
-near 1 everywhere means time grows linearly in nets x cells.
+near 1 everywhere means time grows linearly in nets x cells. The last columns give the
+process's peak resident memory so far (resource.getrusage, MB) and, with ``--trace-memory``,
+the peak of Python and numpy allocations while routing that board (tracemalloc, MB).
+``--big`` routes one 160 x 100 mm two-layer board at a 0.1 mm grid (3.2 million cells) too.
 """
 from __future__ import annotations
 
 import argparse
+import resource
 import sys
+import tracemalloc
 import time
 from pathlib import Path
 
@@ -38,22 +43,33 @@ def main(argv=None) -> int:
     ap.add_argument("--layers", type=int, default=2, choices=(1, 2))
     ap.add_argument("--seeds", type=int, default=1, help="boards per size")
     ap.add_argument("--offgrid", action="store_true", help="parts off the routing grid")
+    ap.add_argument("--big", action="store_true", help="also a 160 x 100 mm board at a 0.1 mm grid (3.2 M cells)")
+    ap.add_argument("--trace-memory", action="store_true", help="peak allocations per board (tracemalloc; slower)")
     args = ap.parse_args(argv)
-    sizes = SIZES[:3] if args.quick else SIZES
+    sizes = [(n, s, 0.25) for n, s in (SIZES[:3] if args.quick else SIZES)]
+    if args.big:
+        sizes.append((60, (160.0, 100.0), 0.1))
     print(f"{'nets':>5} {'size mm':>11} {'cells':>9} {'routed':>8} {'viol':>5} {'bends':>6} {'b.bound':>7} "
-          f"{'len/bound':>9} {'passes':>6} {'seconds':>8} {'s/(n*c) ratio':>13}")
+          f"{'len/bound':>9} {'passes':>6} {'seconds':>8} {'s/(n*c) ratio':>13} {'rss MB':>7} {'peak MB':>7}")
     route_board(generate_board(99, nets=5, size=(20.0, 15.0), layers=args.layers))   # compile and load the kernel first
     ref = None
     worst = 0
-    for nets, size in sizes:
+    for nets, size, grid in sizes:
         for seed in range(args.seeds):
             b = generate_board(seed, nets=nets, size=size, layers=args.layers, offgrid=args.offgrid,
-                               max_pins=4)
+                               max_pins=4, grid=grid)
             g = b.rules.grid
             cells = args.layers * (int(size[0] / g) + 1) * (int(size[1] / g) + 1)
+            if args.trace_memory:
+                tracemalloc.start()
             t0 = time.perf_counter()
             r = route_board(b, seed=seed)
             dt = time.perf_counter() - t0
+            peak = "-"
+            if args.trace_memory:
+                peak = f"{tracemalloc.get_traced_memory()[1] / 2**20:.0f}"
+                tracemalloc.stop()
+            rss = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024      # kB on Linux
             viol = [v for v in check(r.board) if v.rule not in ("open",)]
             t = r.figures["totals"]
             bound = sum(n.get("bends_lower_bound_path") or 0 for n in r.figures["nets"])
@@ -62,7 +78,8 @@ def main(argv=None) -> int:
             worst += len(viol) + (t["nets"] - t["routed"])
             lr = t["length"] / t["length_lower_bound"] if t["length_lower_bound"] else float("nan")
             print(f"{len(b.nets):>5} {size[0]:>5.0f}x{size[1]:<5.0f} {cells:>9} {t['routed']:>4}/{t['nets']:<3} "
-                  f"{len(viol):>5} {t['bends']:>6} {bound:>7} {lr:>9.3f} {r.passes:>6} {dt:>8.2f} {per / ref:>13.2f}",
+                  f"{len(viol):>5} {t['bends']:>6} {bound:>7} {lr:>9.3f} {r.passes:>6} {dt:>8.2f} {per / ref:>13.2f} "
+                  f"{rss:>7.0f} {peak:>7}",
                   flush=True)
             for net, why in r.failed.items():
                 print(f"      not routed: {net}: {why}")
