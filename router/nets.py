@@ -332,6 +332,11 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
     if len(terms) <= 1:
         return route
     blind = [t for t in terms if not t.cells]
+    if blind and others is not None and terminals(grid, space, net, [blind[0].pads])[0].cells:
+        # walls of other nets' routed copper, not the fixed copper, take every exit
+        route.failed = (f"pad {blind[0].name}: every exit to the grid is taken by other nets' routed copper "
+                        f"(for a {grid.profile_of(net).width:g} mm trace)")
+        return route
     if blind:
         route.failed = (f"pad {blind[0].name} has no open grid point within reach "
                         f"(too close to other copper or the edge for a {grid.profile_of(net).width:g} mm trace)")
