@@ -256,7 +256,7 @@ def fill_pour(board: Board, k: int, items: list[CopperItem], done: dict) -> tupl
             if outer.intersection(fill).area < 0.5 * tw * tw:
                 blocked.append(name)
                 continue
-            kept.append(sp)
+            kept.append(outer)          # from the pad's edge: no pour copper over the pad itself
             got += 1
         if not got and not fill.intersects(pad_poly):
             why = "other copper or the edge leaves no room for a spoke" if blocked else "no fill near it"
