@@ -180,6 +180,18 @@ def cmd_pour(args) -> int:
     return EXIT_OK
 
 
+def cmd_new(args) -> int:
+    from .csvboard import write_csv_board
+    out = Path(args.output)
+    result = write_csv_board(args.parts, args.nets, out, size=args.size, layers=args.layers,
+                             name=args.name or out.stem)
+    if not args.quiet:
+        for note in result.notes:
+            print(note)
+        print(f"wrote {out}")
+    return EXIT_OK
+
+
 # ------------------------------------------------------------------ parser
 
 def build_parser() -> argparse.ArgumentParser:
@@ -245,6 +257,19 @@ def build_parser() -> argparse.ArgumentParser:
     sp = add("pour", "fill the board's copper pours ([[pours]]) against its copper", cmd_pour)
     sp.add_argument("board", help="board file")
     sp.add_argument("-o", "--output", required=True, metavar="OUT", help="poured board file to write")
+
+    from .csvboard import NEW_HELP
+    sp = add("new", "a board file from a parts list and a netlist in CSV", cmd_new)
+    sp.epilog, sp.formatter_class = NEW_HELP, argparse.RawDescriptionHelpFormatter
+    sp.add_argument("--parts", required=True, metavar="CSV", help="parts list: ref, footprint, value "
+                    "[, x, y, rotation, side, fixed]")
+    sp.add_argument("--nets", required=True, metavar="CSV", help="netlist, one connection a row: "
+                    "net, pin (REF.PIN) [, class]")
+    sp.add_argument("-o", "--output", required=True, metavar="OUT", help="board file to write")
+    sp.add_argument("--size", type=float, nargs=2, metavar=("W", "H"),
+                    help="board width and height in mm (default: estimated from the parts, below)")
+    sp.add_argument("--layers", type=int, choices=(1, 2), default=2, help="copper layers (default 2)")
+    sp.add_argument("--name", help="the board's name (default: the output file's name)")
 
     sp = add("export", "fabrication files: Gerber and drill", cmd_export)
     sp.add_argument("board", help="board file")
