@@ -397,7 +397,7 @@ def estimate_size(board: Board) -> tuple[float, float]:
     >>> from router.model import Board, Part
     >>> b = Board("b", [(0, 0), (1, 0), (1, 1), (0, 1)], parts=[Part("U1", "dip-8")])
     >>> estimate_size(b)
-    (16.0, 11.0)
+    (20.0, 14.0)
     """
     # the gap rule is placement's own, so that the estimate and `place` agree
     from placement.legalize import effective_gap, routing_gap

@@ -6,7 +6,7 @@ import pytest
 
 from router.cli import main
 
-COMMANDS = ["demo", "place", "route", "check", "report", "compare", "render", "export"]
+COMMANDS = ["demo", "place", "route", "check", "report", "compare", "render", "export", "new"]
 
 
 @pytest.mark.parametrize("cmd", COMMANDS)
