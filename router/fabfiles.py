@@ -10,8 +10,8 @@
 - a silkscreen file per side: part outlines and refs in the project's own stroke font,
   kept off the mask openings and inside the board;
 - the board outline (the profile);
-- two drill files, plated holes (pad drills, vias, jumper ends) and non-plated holes apart,
-  tools sorted by size;
+- two drill files, plated holes (pad drills, vias, jumper ends) and unplated holes apart,
+  tools sorted by size, via holes and component holes on tools of their own;
 - a plain-text list of the files with the board's figures and :data:`router.rules.CAUTION`.
 
 Gerber files follow the open Gerber layer format (RS-274X with X2 attributes: file function
@@ -294,8 +294,8 @@ def file_names(board: Board) -> dict[str, str]:
     for side in _SIDES:
         names[f"silk-{side}"] = f"{stem}-silk-{side}.gbr"
     names["outline"] = f"{stem}-outline.gbr"
-    names["drill-plated"] = f"{stem}-PTH.drl"
-    names["drill-nonplated"] = f"{stem}-NPTH.drl"
+    names["drill-plated"] = f"{stem}-holes-plated.drl"
+    names["drill-nonplated"] = f"{stem}-holes-unplated.drl"
     names["list"] = f"{stem}-files.txt"
     return names
 
@@ -523,24 +523,29 @@ def _tool_size(d: float) -> str:
     return f"{whole}.{frac.ljust(3, '0')}"
 
 
-def _drill_function(kinds: set[str], plated: bool) -> str:
-    if not plated:
-        return "NonPlated,NPTH,MechanicalDrill"
-    if kinds == {"via"}:
-        return "Plated,PTH,ViaDrill"
-    if "via" not in kinds:
-        return "Plated,PTH,ComponentDrill"
-    return "Plated,PTH,Other,ViaAndComponentDrill"
+#: Drill aperture functions of the open Gerber specification (Ucamco, "The Gerber Layer Format
+#: Specification", revision 2023.08, section 5.6.10, drill and rout layers), the bare values we
+#: write: one per tool, so via holes and component holes never share a tool.
+DRILL_FUNCTIONS = {"via": "ViaDrill", "pad": "ComponentDrill", "jumper_end": "ComponentDrill",
+                   "hole": "MechanicalDrill"}
+
+
+def _drill_tools(drills: list[_Drill]) -> list[tuple[float, str, list[_Drill]]]:
+    """Tools as (diameter, aperture function, holes), sorted by size, then function.
+
+    Holes of one size but different functions (a 0.8 mm via and a 0.8 mm lead) get a tool each.
+    """
+    by_tool: dict[tuple[float, str], list[_Drill]] = defaultdict(list)
+    for d in drills:
+        by_tool[(round(d.drill, 4), DRILL_FUNCTIONS[d.kind])].append(d)
+    return [(size, fn, by_tool[(size, fn)]) for size, fn in sorted(by_tool)]
 
 
 def _drill_file(board: Board, drills: list[_Drill], plated: bool) -> str:
     """The drill file text: tools sorted by size, holes of each tool in file order."""
-    by_size: dict[float, list[_Drill]] = defaultdict(list)
-    for d in drills:
-        by_size[round(d.drill, 4)].append(d)
     n = board.copper_layers
     what = ("plated holes: pad drills, vias and jumper ends" if plated
-            else "non-plated holes: mounting and other holes with no copper")
+            else "unplated holes: mounting and other holes with no copper")
     lines = ["M48",
              f"; {_comment(board.name)}: {what}; millimetres, absolute coordinates",
              f"; #@! TF.{_software()[0]},{_software()[1]}",
@@ -548,15 +553,14 @@ def _drill_file(board: Board, drills: list[_Drill], plated: bool) -> str:
              "FMAT,2",
              "METRIC,LZ",
              "G90"]
-    sizes = sorted(by_size)
-    for t, size in enumerate(sizes, start=1):
-        kinds = {d.kind for d in by_size[size]}
-        lines.append(f"; #@! TA.AperFunction,{_drill_function(kinds, plated)}")
+    tools = _drill_tools(drills)
+    for t, (size, fn, _) in enumerate(tools, start=1):
+        lines.append(f"; #@! TA.AperFunction,{fn}")
         lines.append(f"T{t}C{_tool_size(size)}")
     lines += ["%", "G05"]
-    for t, size in enumerate(sizes, start=1):
+    for t, (_, _, holes) in enumerate(tools, start=1):
         lines.append(f"T{t}")
-        for d in by_size[size]:
+        for d in holes:
             lines.append(f"X{_mm(d.x)}Y{_mm(d.y)}")
     lines.append("M30")
     return "\n".join(lines) + "\n"
@@ -583,7 +587,7 @@ def _summary(board: Board, names: dict[str, str], plated: list[_Drill], nonplate
         "silk-bottom": "silkscreen, bottom",
         "outline": "board outline (profile)",
         "drill-plated": f"drill, plated holes ({len(plated)})",
-        "drill-nonplated": f"drill, non-plated holes ({len(nonplated)})",
+        "drill-nonplated": f"drill, unplated holes ({len(nonplated)})",
         "list": "this list",
     }
     if board.copper_layers == 1:

@@ -521,6 +521,68 @@ def test_drill_tools_sorted_by_size(tmp_path):
     assert [v for o in n.objects for v in (o.x, o.y, o.aperture.diameter)] == pytest.approx([35.0, 4.0, 3.2])
 
 
+# Drill aperture functions the open Gerber specification lists for drill and rout layers
+# (Ucamco, "The Gerber Layer Format Specification", revision 2023.08, section 5.6.10), with
+# their optional second fields; OtherDrill takes a free text field.
+SPEC_DRILL_FUNCTIONS = {
+    "ViaDrill": {None, "Ia", "Ib", "IIa", "IIb", "IIIa", "IIIb", "IVa", "IVb", "V", "VI", "VII", "None"},
+    "BackDrill": {None},
+    "ComponentDrill": {None, "PressFit"},
+    "MechanicalDrill": {None, "Tooling", "BreakOut", "Other"},
+    "CastellatedDrill": {None},
+    "Slot": {None}, "CutOut": {None}, "Cavity": {None},
+}
+
+
+def _drill_attr_values(text):
+    """Every .AperFunction value in a drill file, with the tool it stands before."""
+    out, lines = [], text.splitlines()
+    for i, line in enumerate(lines):
+        if line.startswith("; #@! TA.AperFunction,"):
+            out.append((line.split(",", 1)[1], lines[i + 1]))
+    return out
+
+
+def _spec_value(value: str) -> bool:
+    fields = value.split(",")
+    if fields[0] == "OtherDrill":
+        return len(fields) == 2 and fields[1] != ""
+    if fields[0] not in SPEC_DRILL_FUNCTIONS or len(fields) > 2:
+        return False
+    return (fields[1] if len(fields) == 2 else None) in SPEC_DRILL_FUNCTIONS[fields[0]]
+
+
+def test_drill_aperture_functions_are_the_specs_values(exported):
+    board, files = exported
+    for role in ("drill-plated", "drill-nonplated"):
+        text = _role_path(board, files, role).read_text()
+        values = _drill_attr_values(text)
+        assert len(values) == len(re.findall(r"^T\d+C", text, re.M))     # one before every tool
+        for value, tool in values:
+            assert _spec_value(value), (role, value)
+            assert re.fullmatch(r"T\d+C[0-9.]+", tool)
+    assert not _spec_value("Plated,PTH,ViaDrill") and not _spec_value("OtherDrill")
+
+
+def test_vias_and_leads_of_one_size_get_tools_of_their_own(tmp_path):
+    # a via drilled 0.9 beside the axial leads' 0.9 mm holes: two tools of 0.9, one ViaDrill,
+    # one ComponentDrill; the jumper ends of a one-layer board are component (wire lead) holes
+    board = loads_board(HAND)
+    board.vias[0].drill = 0.9
+    board.vias[0].diameter = 1.6
+    files = export(board, tmp_path / "two")
+    text = _role_path(board, files, "drill-plated").read_text()
+    assert _drill_attr_values(text) == [("ComponentDrill", "T1C0.600"), ("ComponentDrill", "T2C0.900"),
+                                        ("ViaDrill", "T3C0.900")]
+    body = text.split("\n%\n")[1]
+    assert "T3\nX27.0000Y12.0000\n" in body
+    one = loads_board(ONE_LAYER)
+    text = _role_path(one, export(one, tmp_path / "one"), "drill-plated").read_text()
+    assert [v for v, _ in _drill_attr_values(text)] == ["ComponentDrill", "ComponentDrill"]  # 0.8 ends, 0.9 leads
+    text = _role_path(board, files, "drill-nonplated").read_text()
+    assert _drill_attr_values(text) == [("MechanicalDrill", "T1C3.200")]
+
+
 # ----------------------------------------------------------------------------- outline, mask, silk
 
 def test_outline_extent_equals_the_board(exported):
@@ -621,7 +683,8 @@ def test_file_names_are_safe_and_our_own():
     board = loads_board(HAND)
     names = file_names(board)
     assert names["copper-top"] == "hand-routed-copper-top.gbr"
-    assert names["drill-plated"] == "hand-routed-PTH.drl" and names["drill-nonplated"] == "hand-routed-NPTH.drl"
+    assert names["drill-plated"] == "hand-routed-holes-plated.drl"
+    assert names["drill-nonplated"] == "hand-routed-holes-unplated.drl"
     assert all(re.fullmatch(r"[A-Za-z0-9._-]+", n) for n in names.values())
 
 
