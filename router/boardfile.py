@@ -225,6 +225,9 @@ def _from_dict(data: dict, file) -> Board:
                 if v not in VOLTAGE_COLUMNS:
                     r.fail(entry, f"unknown IPC-2221 column '{v}' (known: {', '.join(VOLTAGE_COLUMNS)})")
                 setattr(rules, key, v)
+            elif key == "paste_reduction":
+                from .paste import parse_reduction
+                setattr(rules, key, parse_reduction(value, r.file, entry))
             else:
                 setattr(rules, key, r.number(value, entry, nonnegative=key in RULES_NONNEGATIVE,
                                              positive=key not in RULES_NONNEGATIVE))
@@ -454,7 +457,7 @@ def _net_ref(r: _Reader, value, entry, net_names):
 def _footprint(r: _Reader, fname, fval) -> Footprint:
     entry = f"footprints.{fname}"
     fval = r.table(fval, entry)
-    r.keys(fval, entry, {"body", "pads", "holes", "keepout_body"}, ("body",))
+    r.keys(fval, entry, {"body", "pads", "holes", "keepout_body", "polarised", "polarity"}, ("body",))
     body = r.size(fval["body"], f"{entry}.body")
     pads = []
     for k, pv in enumerate(r.array(fval.get("pads", []), f"{entry}.pads")):
@@ -491,7 +494,14 @@ def _footprint(r: _Reader, fname, fval) -> Footprint:
         r.keys(hv, hentry, {"offset", "drill"}, ("offset", "drill"))
         holes.append(Hole(r.point(hv["offset"], f"{hentry} offset"), r.number(hv["drill"], f"{hentry} drill", positive=True)))
     keepout_body = r.boolean(fval.get("keepout_body", False), f"{entry}.keepout_body")
-    return Footprint(fname, body, pads, holes, keepout_body)
+    polarised = r.boolean(fval.get("polarised", False), f"{entry}.polarised")
+    polarity = r.string(fval.get("polarity", "plus"), f"{entry}.polarity")
+    if polarity not in ("plus", "cathode"):
+        r.fail(f"{entry}.polarity", f"unknown mark '{polarity}' (known: plus, cathode): the mark "
+                                    "at pin 1, a + sign or a cathode band")
+    if polarised and not any(p.pin == "1" for p in pads):
+        r.fail(f"{entry}.polarised", "a polarised footprint marks its pin 1; give it a pad of pin \"1\"")
+    return Footprint(fname, body, pads, holes, keepout_body, polarised, polarity)
 
 
 def validate_board(board: Board) -> None:
@@ -541,6 +551,9 @@ def _to_dict(board: Board) -> dict:
             f = {"body": _pt(fp.body)}
             if fp.keepout_body:
                 f["keepout_body"] = True
+            if fp.polarised:
+                f["polarised"] = True
+                f["polarity"] = fp.polarity
             pads = []
             for pad in fp.pads:
                 pd = {"pin": pad.pin, "offset": _pt(pad.offset), "shape": pad.shape, "size": _pt(pad.size)}

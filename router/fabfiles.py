@@ -293,9 +293,13 @@ def file_names(board: Board) -> dict[str, str]:
         names[f"mask-{layer}"] = f"{stem}-mask-{layer}.gbr"
     for side in _SIDES:
         names[f"silk-{side}"] = f"{stem}-silk-{side}.gbr"
+    for layer in board.layers:
+        names[f"paste-{layer}"] = f"{stem}-paste-{layer}.gbr"
     names["outline"] = f"{stem}-outline.gbr"
     names["drill-plated"] = f"{stem}-holes-plated.drl"
     names["drill-nonplated"] = f"{stem}-holes-unplated.drl"
+    names["bom"] = "bom.csv"
+    names["placement"] = "placement.csv"
     names["list"] = f"{stem}-files.txt"
     return names
 
@@ -484,6 +488,16 @@ def _silk(board: Board, side: str, openings: list[_Opening]) -> str:
     return g.text()
 
 
+def _paste(board: Board, side: str, pads: list[PlacedPad]) -> str:
+    from .paste import paste_openings
+    g = _Gerber(f"{board.name}: solder paste, {side} side",
+                [_software(), ("Part", "Single"),
+                 ("FileFunction", f"Paste,{_SIDE_WORD[side]}"), ("FilePolarity", "Positive")])
+    for o in paste_openings(board, side, pads):
+        g.flash(g.pad_aperture("SMDPad,CuDef", o.shape, o.w, o.h), o.at)
+    return g.text()
+
+
 def _outline(board: Board) -> str:
     g = _Gerber(f"{board.name}: board outline (profile)",
                 [_software(), ("Part", "Single"), ("FileFunction", "Profile,NP"),
@@ -572,6 +586,10 @@ def _fmt(v: float) -> str:
     return f"{v:.4f}".rstrip("0").rstrip(".")
 
 
+def _reduction_words(red) -> str:
+    return f"{red} of each side" if isinstance(red, str) else f"{_fmt(red)} mm per side"
+
+
 def _summary(board: Board, names: dict[str, str], plated: list[_Drill], nonplated: list[_Drill],
              open_vias: bool) -> str:
     x0, y0, x1, y1 = outline_polygon(board).bounds
@@ -585,6 +603,11 @@ def _summary(board: Board, names: dict[str, str], plated: list[_Drill], nonplate
         "mask-bottom": "solder mask, bottom (dark = opening)",
         "silk-top": "silkscreen, top",
         "silk-bottom": "silkscreen, bottom",
+        "paste-top": "solder paste, top: stencil openings over surface pads",
+        "paste-bottom": "solder paste, bottom: stencil openings over surface pads",
+        "bom": "parts list: value, footprint, count, refs (for buying and kitting)",
+        "placement": "placement: ref, value, footprint, x, y, rotation, side (for assembly; "
+                     "bottom parts seen from the bottom)",
         "outline": "board outline (profile)",
         "drill-plated": f"drill, plated holes ({len(plated)})",
         "drill-nonplated": f"drill, unplated holes ({len(nonplated)})",
@@ -608,6 +631,8 @@ def _summary(board: Board, names: dict[str, str], plated: list[_Drill], nonplate
         f"Smallest drill:        {_fmt(min(drills)) + ' mm' if drills else 'no holes'}",
         f"Solder mask expansion: {_fmt(board.rules.mask_expansion)} mm per side; vias "
         f"{'opened' if open_vias else 'covered'}",
+        f"Solder paste:          surface pads less {_reduction_words(board.rules.paste_reduction)}; "
+        "exposed pads in windows covering 64 %",
         "Units: millimetres. Gerber: RS-274X with X2 attributes, format 4.6. "
         "Drill: plain-text drill format, metric, tools sorted by size.",
         "",
@@ -664,7 +689,12 @@ def export(board: Board, out_dir, open_vias: bool = False) -> list[Path]:
         texts[f"mask-{layer}"] = _mask(board, layer, openings[layer])
     for side in _SIDES:
         texts[f"silk-{side}"] = _silk(board, side, openings[side])
+    for layer in board.layers:
+        texts[f"paste-{layer}"] = _paste(board, layer, pads)
     texts["outline"] = _outline(board)
+    from .assembly import bom_csv, placement_csv
+    texts["bom"] = bom_csv(board)
+    texts["placement"] = placement_csv(board)
     plated, nonplated = _drills(board, pads)
     texts["drill-plated"] = _drill_file(board, plated, True)
     texts["drill-nonplated"] = _drill_file(board, nonplated, False)

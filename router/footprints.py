@@ -35,8 +35,27 @@ TO220_PAD = (1.9, 1.1)        # 0.9 mm leads, from memory
 TERMINAL_PAD = (2.6, 1.3)     # 1.0-1.1 mm screw-terminal pins, from memory
 AXIAL_PAD = (1.8, 0.9)        # 0.6 mm resistor leads, from memory
 RADIAL_PAD = (1.6, 0.8)       # 0.5 mm capacitor leads, from memory
+DIODE_PAD = (2.0, 1.1)        # 0.8 mm leads of a DO-41 rectifier, from memory
+LED_PAD = (1.6, 0.9)          # 0.5 mm square LED leads, from memory
 
-BUILTIN_FAMILIES = ("chip", "sot", "soic", "dip", "header", "to", "terminal", "axial", "radial", "hole")
+# EIA-535BAAC molded tantalum case codes: code -> (body length, body width, pad x, pad y, pad
+# centre x). Body sizes are the EIA metric codes (A = 3216, B = 3528, C = 6032, D = 7343);
+# pads: IPC-7351B nominal, from memory.
+TANTALUM_SIZES = {
+    "A": (3.2, 1.6, 1.2, 1.3, 1.35),
+    "B": (3.5, 2.8, 1.3, 2.3, 1.5),
+    "C": (6.0, 3.2, 1.8, 2.3, 2.55),
+    "D": (7.3, 4.3, 1.8, 2.5, 3.2),
+}
+# LED lamps, 2.54 mm lead spacing: name -> flange diameter (T-1 3 mm: 3.8, T-1 3/4 5 mm: 5.8),
+# from memory; the body is the flange's square.
+LED_SIZES = {"3": 3.8, "5": 5.8}
+
+BUILTIN_FAMILIES = ("chip", "sot", "soic", "dip", "header", "to", "terminal", "axial", "radial", "hole",
+                    "diode", "led", "tantalum")
+
+# Polarised families mark pin 1 (router.silkscreen): the cathode of a diode or LED (a band),
+# the + of an electrolytic (radial) or tantalum capacitor (a + sign).
 
 
 def _round(v: float) -> float:
@@ -152,7 +171,32 @@ def _radial(spacing: float, name: str) -> Footprint:
     body = _round(2 * spacing)   # an electrolytic of about twice its lead spacing, common practice
     pads = [Pad("1", (_round(-spacing / 2), 0.0), "rectangle", (dia, dia), drill),
             Pad("2", (_round(spacing / 2), 0.0), "round", (dia, dia), drill)]
-    return Footprint(name, (body, body), pads)
+    return Footprint(name, (body, body), pads, polarised=True, polarity="plus")
+
+
+def _diode(spacing: float, name: str) -> Footprint:
+    # an axial rectifier (DO-41 body 5.2 x 2.7 mm, from memory); pin 1 is the cathode
+    dia, drill = DIODE_PAD
+    body_len = min(5.2, max(spacing - 2 * dia, 1.0))
+    pads = [Pad("1", (_round(-spacing / 2), 0.0), "rectangle", (dia, dia), drill),
+            Pad("2", (_round(spacing / 2), 0.0), "round", (dia, dia), drill)]
+    return Footprint(name, (_round(body_len), 2.7), pads, polarised=True, polarity="cathode")
+
+
+def _led(size: str) -> Footprint:
+    # pin 1 is the cathode (the short lead, the flat of the flange)
+    dia, drill = LED_PAD
+    body = LED_SIZES[size]
+    pads = [Pad("1", (-PITCH_100MIL / 2, 0.0), "rectangle", (dia, dia), drill),
+            Pad("2", (PITCH_100MIL / 2, 0.0), "round", (dia, dia), drill)]
+    return Footprint(f"led-{size}", (body, body), pads, polarised=True, polarity="cathode")
+
+
+def _tantalum(code: str) -> Footprint:
+    # pin 1 is the anode (+), the end the case's band marks
+    length, width, px, py, cx = TANTALUM_SIZES[code]
+    pads = [Pad("1", (-cx, 0.0), "rectangle", (px, py)), Pad("2", (cx, 0.0), "rectangle", (px, py))]
+    return Footprint(f"tantalum-{code}", (length, width), pads, polarised=True, polarity="plus")
 
 
 def _hole(d: float, name: str) -> Footprint:
@@ -195,6 +239,16 @@ def _builtin(name: str):
     if m:
         p = float(m.group(1))
         return _radial(p, name) if 1.0 <= p <= 20.0 else None
+    m = re.fullmatch(r"diode-" + _NUM, name)
+    if m:
+        p = float(m.group(1))
+        return _diode(p, name) if 5.0 <= p <= 30.0 else None
+    m = re.fullmatch(r"led-(3|5)", name)
+    if m:
+        return _led(m.group(1))
+    m = re.fullmatch(r"tantalum-([ABCD])", name)
+    if m:
+        return _tantalum(m.group(1))
     m = re.fullmatch(r"hole-" + _NUM, name)
     if m:
         d = float(m.group(1))

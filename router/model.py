@@ -41,6 +41,7 @@ class Rules:
     mask_expansion: float = 0.05     # solder-mask opening beyond each pad, per side
     part_gap: float = 0.5            # placement: body to body
     voltage_table: str = "B2"        # IPC-2221 Table 6-1 column used for `voltage`
+    paste_reduction: float | str = 0.0   # paste inset per side in mm, or "N%" of each pad side (router.paste)
 
 
 @dataclass
@@ -82,6 +83,8 @@ class Footprint:
     pads: list[Pad] = field(default_factory=list)
     holes: list[Hole] = field(default_factory=list)
     keepout_body: bool = False
+    polarised: bool = False           # pin 1 is the marked end (router.silkscreen)
+    polarity: str = "plus"            # the mark at pin 1: "plus" (a + sign) or "cathode" (a band)
 
     def pins(self) -> list[str]:
         """Pin names in first-seen order (a pin may sit on several pads)."""
