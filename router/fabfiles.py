@@ -7,8 +7,11 @@
   apertures of their width, vias and jumper ends flashed;
 - a solder-mask file per copper side: pads and jumper ends opened by ``rules.mask_expansion``
   beyond their copper, vias covered unless ``open_vias``;
-- a silkscreen file per side: part outlines and refs in the project's own stroke font,
-  kept off the mask openings and inside the board;
+- a silkscreen file per side (:mod:`router.silkscreen`): part outlines, refs in the project's
+  own stroke font, pin-1 and polarity marks, wire links of one-layer boards with their
+  length, clipped by the mask openings and kept inside the board;
+- a solder-paste file per copper side (:mod:`router.paste`);
+- ``bom.csv`` and ``placement.csv`` (:mod:`router.assembly`);
 - the board outline (the profile);
 - two drill files, plated holes (pad drills, vias, jumper ends) and unplated holes apart,
   tools sorted by size, via holes and component holes on tools of their own;
@@ -35,15 +38,12 @@ import re
 from collections import defaultdict
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Iterable, Optional, Sequence
+from typing import Optional, Sequence
 
-from shapely.geometry import LineString, MultiLineString, box
 from shapely.geometry.base import BaseGeometry
-from shapely.ops import unary_union
 
 from .errors import BoardError
-from .geometry import (ARC_SEGMENTS, PlacedPad, body_rect, outline_polygon, part_rect, pad_shape,
-                       placed_holes, placed_pads)
+from .geometry import PlacedPad, outline_polygon, pad_shape, placed_holes, placed_pads
 from .model import Board, Point
 from .rules import CAUTION, class_clearance_table
 from .safefile import atomic_dir
@@ -415,77 +415,18 @@ def _opening_shape(o: _Opening) -> BaseGeometry:
     return pad_shape(pad)
 
 
-def _clip(lines: Iterable[Sequence[Point]], keep_off: Optional[BaseGeometry],
-          inside: BaseGeometry) -> list[list[Point]]:
-    """Polylines less the `keep_off` area, within `inside`, as polylines."""
-    out = []
-    for pts in lines:
-        if len(pts) < 2:
-            continue
-        geom: BaseGeometry = LineString(pts)
-        if keep_off is not None and geom.intersects(keep_off):
-            geom = geom.difference(keep_off)
-        if not inside.contains(geom):
-            geom = geom.intersection(inside)
-        for piece in _line_pieces(geom):
-            coords = [(round(x, 9), round(y, 9)) for x, y in piece.coords]
-            if len(coords) >= 2 and piece.length > 1e-9:
-                out.append(coords)
-    return out
-
-
-def _line_pieces(geom: BaseGeometry) -> list[LineString]:
-    if geom.is_empty:
-        return []
-    if isinstance(geom, LineString):
-        return [geom]
-    if isinstance(geom, MultiLineString):
-        return list(geom.geoms)
-    if hasattr(geom, "geoms"):
-        return [p for g in geom.geoms for p in _line_pieces(g)]
-    return []
-
-
-def _ref_centre(board: Board, part, inside: BaseGeometry, keep_off: Optional[BaseGeometry]) -> Point:
-    """Where a part's ref goes: the first of inside its body, above, below, right or left of
-    the part where the text stays on the board and off every opening; else the body centre."""
-    x0, y0, x1, y1 = body_rect(board, part)
-    px0, py0, px1, py1 = part_rect(board, part)
-    w, h = text_width(part.ref), TEXT_HEIGHT
-    cx, cy = (x0 + x1) / 2, (y0 + y1) / 2
-    gap = SILK_WIDTH + SILK_GAP
-    candidates = [(cx, cy), (cx, py1 + gap + h / 2), (cx, py0 - gap - h / 2),
-                  (px1 + gap + w / 2, cy), (px0 - gap - w / 2, cy)]
-    for c in candidates:
-        area = box(c[0] - w / 2, c[1] - h / 2, c[0] + w / 2, c[1] + h / 2)
-        if inside.contains(area) and (keep_off is None or not area.intersects(keep_off)):
-            return c
-    return (cx, cy)
-
-
-def _silk(board: Board, side: str, openings: list[_Opening]) -> str:
+def _silk(board: Board, side: str, openings: list[_Opening]):
+    """The silkscreen file of `side` and its :class:`router.silkscreen.Silk` (what was drawn, clipped)."""
+    from .silkscreen import FUNCTIONS, silk_layer
     g = _Gerber(f"{board.name}: silkscreen, {side} side",
                 [_software(), ("Part", "Single"),
                  ("FileFunction", f"Legend,{_SIDE_WORD[side]}"), ("FilePolarity", "Positive")])
-    outline = outline_polygon(board)
-    inside = outline.buffer(-SILK_WIDTH / 2 - SILK_GAP, quad_segs=ARC_SEGMENTS)
-    holes = [_opening_shape(o) for o in openings]
-    keep_off = (unary_union(holes).buffer(SILK_WIDTH / 2 + SILK_GAP, quad_segs=ARC_SEGMENTS)
-                if holes else None)
-    outline_code = g.aperture("Other,PartOutline", "C", SILK_WIDTH)
-    text_code = g.aperture("Other,PartReference", "C", SILK_WIDTH)
-    for part in board.parts:
-        if part.side != side:
-            continue
-        x0, y0, x1, y1 = body_rect(board, part)
-        rect = [(x0, y0), (x1, y0), (x1, y1), (x0, y1), (x0, y0)]
-        for pts in _clip([rect], keep_off, inside):
-            g.polyline(outline_code, pts)
-        strokes = text_strokes(part.ref, _ref_centre(board, part, inside, keep_off), TEXT_HEIGHT,
-                               mirror=(side == "bottom"))
-        for pts in _clip(strokes, keep_off, inside):
-            g.polyline(text_code, pts)
-    return g.text()
+    silk = silk_layer(board, side, [_opening_shape(o) for o in openings])
+    for kind, pts in silk.lines:
+        g.polyline(g.aperture(FUNCTIONS[kind], "C", SILK_WIDTH), pts)
+    for kind, at, d in silk.dots:
+        g.flash(g.aperture(FUNCTIONS[kind], "C", d), at)
+    return g.text(), silk
 
 
 def _paste(board: Board, side: str, pads: list[PlacedPad]) -> str:
@@ -591,7 +532,7 @@ def _reduction_words(red) -> str:
 
 
 def _summary(board: Board, names: dict[str, str], plated: list[_Drill], nonplated: list[_Drill],
-             open_vias: bool) -> str:
+             open_vias: bool, silks=()) -> str:
     x0, y0, x1, y1 = outline_polygon(board).bounds
     widths = [nc.trace_width for nc in board.classes.values()] + [t.width for t in board.traces]
     spaces = list(class_clearance_table(board).values())
@@ -633,6 +574,7 @@ def _summary(board: Board, names: dict[str, str], plated: list[_Drill], nonplate
         f"{'opened' if open_vias else 'covered'}",
         f"Solder paste:          surface pads less {_reduction_words(board.rules.paste_reduction)}; "
         "exposed pads in windows covering 64 %",
+    ] + [s.summary()[0].upper() + s.summary()[1:] for s in silks] + [
         "Units: millimetres. Gerber: RS-274X with X2 attributes, format 4.6. "
         "Drill: plain-text drill format, metric, tools sorted by size.",
         "",
@@ -687,8 +629,9 @@ def export(board: Board, out_dir, open_vias: bool = False) -> list[Path]:
     openings = {side: _openings(board, side, pads, open_vias) for side in _SIDES}
     for layer in board.layers:
         texts[f"mask-{layer}"] = _mask(board, layer, openings[layer])
+    silks = {}
     for side in _SIDES:
-        texts[f"silk-{side}"] = _silk(board, side, openings[side])
+        texts[f"silk-{side}"], silks[side] = _silk(board, side, openings[side])
     for layer in board.layers:
         texts[f"paste-{layer}"] = _paste(board, layer, pads)
     texts["outline"] = _outline(board)
@@ -698,7 +641,7 @@ def export(board: Board, out_dir, open_vias: bool = False) -> list[Path]:
     plated, nonplated = _drills(board, pads)
     texts["drill-plated"] = _drill_file(board, plated, True)
     texts["drill-nonplated"] = _drill_file(board, nonplated, False)
-    texts["list"] = _summary(board, names, plated, nonplated, open_vias)
+    texts["list"] = _summary(board, names, plated, nonplated, open_vias, list(silks.values()))
     out_dir = Path(out_dir)
     if out_dir.exists() and not out_dir.is_dir():
         raise BoardError(str(out_dir), "-o", "is a file, not a folder; name a folder for the files")

@@ -29,6 +29,7 @@ from router.fabfiles import GLYPHS, SILK_GAP, SILK_WIDTH, export, file_names, te
 from router.geometry import ARC_SEGMENTS, outline_polygon, placed_holes, placed_pads
 from router.model import Trace, Via
 from router.rules import CAUTION
+from router.silkscreen import DOT
 
 ROOT = Path(__file__).resolve().parent.parent
 BOARD_FILES = sorted(glob.glob(str(ROOT / "boards" / "*.toml")))   # the demo board leaves parts unplaced
@@ -633,7 +634,9 @@ def test_silkscreen_stays_off_openings_and_on_the_board(exported):
     for side in ("top", "bottom"):
         g = _read_gerber(_role_path(board, files, f"silk-{side}"))
         lines = [LineString([(o.x1, o.y1), (o.x2, o.y2)]) for o in g.objects if isinstance(o, Line)]
-        assert all(o.aperture.diameter == pytest.approx(SILK_WIDTH) for o in g.objects)
+        assert all(o.aperture.diameter == pytest.approx(SILK_WIDTH) for o in g.objects if isinstance(o, Line))
+        dots = [o for o in g.objects if isinstance(o, Flash)]
+        assert all(o.aperture.diameter == pytest.approx(DOT) for o in dots)     # pin-1 marks
         openings = []
         for layer in board.layers:
             mask = _read_gerber(_role_path(board, files, f"mask-{layer}"))
@@ -643,6 +646,10 @@ def test_silkscreen_stays_off_openings_and_on_the_board(exported):
             assert inside.buffer(1e-9).contains(ln.buffer(SILK_WIDTH / 2, quad_segs=ARC_SEGMENTS))
             if keep_off is not None:
                 assert ln.distance(keep_off) >= SILK_WIDTH / 2 + SILK_GAP - 1e-3  # polygon error of arcs
+        for o in dots:
+            assert inside.contains(SPoint(o.x, o.y).buffer(DOT / 2))
+            if keep_off is not None:
+                assert SPoint(o.x, o.y).distance(keep_off) >= DOT / 2 + SILK_GAP - 1e-3
         parts = [p for p in board.parts if p.side == side]
         if parts:
             assert lines                       # outlines and refs are drawn for the side's parts
