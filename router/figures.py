@@ -6,15 +6,18 @@ copper, never from how it was drawn: a polyline split at a corner is the same
 copper as the unsplit one, and counts the same.
 
 Bends
-    A bend (the contract's word) is a point of one net's copper on one layer
-    where exactly two segments meet at a right angle and nothing else is there.
-    All segments of the net on the layer are taken together; collinear
-    segments that overlap or touch are merged into one, then at each end
-    point the horizontal and vertical *arms* are counted (an end of a merged
-    segment is one arm, a point inside it two). A bend is one horizontal arm
-    and one vertical arm, at a point inside no pad (of any net, on that layer),
-    no via, no jumper end and no one-point trace (a dot of copper). A T
-    junction (three arms) and a crossing (four) are not bends.
+    A bend (the contract's word) is a point where a net's path turns a right angle.
+    All segments of the net on a layer are taken together; collinear segments that
+    overlap or touch are merged into one, then at each end point and crossing the
+    horizontal and vertical *arms* are counted (an end of a merged segment is one
+    arm, a point inside it two). On one layer a bend is one horizontal arm and one
+    vertical arm, at a point inside no pad (of any net, on that layer), no via's or
+    jumper end's disc and no one-point trace (a dot of copper). At a via centre or
+    a jumper end of the net, the arms of every layer and each jumper wire ending
+    there (one arm in its direction) are counted together: exactly two arms at a
+    right angle, inside no pad, is a bend, so a corner moved into a via or onto a
+    jumper end is still counted (:func:`net_bends`). A T junction (three arms) and
+    a crossing (four) are not bends.
 
 Length
     The sum of the lengths of every segment of the net's traces, as drawn:
@@ -23,9 +26,14 @@ Length
 
 Points are compared after snapping to multiples of :data:`router.units.TOL`.
 
-Lower bounds are computed from the net's pads alone, without the other nets;
-see :func:`length_lower_bound`, :func:`bends_lower_bound` and
-:func:`path_bends_lower_bound`.
+Lower bounds are computed from the net's pads, without the other nets; see
+:func:`length_lower_bound`, :func:`bends_lower_bound` and :func:`path_bends_lower_bound`.
+Each is at most the figure it bounds for every routed net: ``length_lower_bound``
+is the pads' bound less the net's jumper wire (wires carry part of the span and
+``length`` leaves them out; the pads' bound itself is ``span_lower_bound``, which
+bounds length plus jumper wire), and ``bends_lower_bound_path`` is given only where
+its proof holds for the net's copper (:func:`_path_bound_holds`). For a net not yet
+routed a bound says what its copper will need at least.
 """
 from __future__ import annotations
 
@@ -181,6 +189,14 @@ class _Covers:
                 x, y = t.points[0]
                 self.items.setdefault(t.layer, []).append(((x, y, x, y), t.width / 2))
         self.index: dict[str, rtree_index.Index] = {}
+        self.pads = [(tuple(pad_core(p)[0].bounds), pad_core(p)[1]) for p in pads]
+        self.pad_index = rtree_index.Index(
+            ((i, (b[0] - r - TOL, b[1] - r - TOL, b[2] + r + TOL, b[3] + r + TOL), None)
+             for i, (b, r) in enumerate(self.pads))) if self.pads else rtree_index.Index()
+
+    def in_pad(self, x: float, y: float) -> bool:
+        """True inside a part's pad on any layer."""
+        return any(_within(self.pads[i], x, y) for i in self.pad_index.intersection((x, y, x, y)))
 
     def _idx(self, layer: str) -> rtree_index.Index:
         if layer not in self.index:
@@ -196,14 +212,239 @@ class _Covers:
         idx = self._idx(layer)
 
         def covered(x: float, y: float) -> bool:
-            for i in idx.intersection((x, y, x, y)):
-                (x0, y0, x1, y1), r = items[i]
-                dx = max(x0 - x, 0.0, x - x1)
-                dy = max(y0 - y, 0.0, y - y1)
-                if math.hypot(dx, dy) <= r + TOL:
-                    return True
-            return False
+            return any(_within(items[i], x, y) for i in idx.intersection((x, y, x, y)))
         return covered
+
+
+def _within(item: tuple[Rect, float], x: float, y: float) -> bool:
+    """True when (x, y) lies within a core (box) plus radius, with TOL."""
+    (x0, y0, x1, y1), r = item
+    return math.hypot(max(x0 - x, 0.0, x - x1), max(y0 - y, 0.0, y - y1)) <= r + TOL
+
+
+# ------------------------------------------------------------------ bends of a whole net
+
+_H_DIRS = (0, 2)        # arm directions: 0 east, 1 north, 2 west, 3 south
+
+
+def _dirs_on(idx: dict, line: int, c: int, plus: int, minus: int) -> list[int]:
+    """Arm directions at coordinate `c` of `line`: [] off the copper, one at an end, two inside."""
+    entry = idx.get(line)
+    if entry is None:
+        return []
+    starts, spans = entry
+    i = bisect_right(starts, c) - 1
+    if i < 0:
+        return []
+    a, b = spans[i]
+    if c > b:
+        return []
+    if c == a:
+        return [plus]
+    if c == b:
+        return [minus]
+    return [plus, minus]
+
+
+class _LayerLines:
+    """One net's segments on one layer as merged horizontal and vertical spans (integer TOL keys)."""
+
+    def __init__(self, segments: Iterable[Segment]):
+        horiz: dict[int, list[tuple[int, int]]] = defaultdict(list)
+        vert: dict[int, list[tuple[int, int]]] = defaultdict(list)
+        for (xa, ya), (xb, yb) in segments:
+            kxa, kya, kxb, kyb = _key(xa), _key(ya), _key(xb), _key(yb)
+            dx, dy = abs(kxb - kxa), abs(kyb - kya)
+            if dx == 0 and dy == 0:
+                continue
+            if dx >= dy:
+                horiz[kya].append((min(kxa, kxb), max(kxa, kxb)))
+            else:
+                vert[kxa].append((min(kya, kyb), max(kya, kyb)))
+        self.h = {y: _merge(v) for y, v in horiz.items()}
+        self.v = {x: _merge(v) for x, v in vert.items()}
+        self.hidx = {y: ([a for a, _ in s], s) for y, s in self.h.items()}
+        self.vidx = {x: ([a for a, _ in s], s) for x, s in self.v.items()}
+
+    def dirs(self, kx: int, ky: int) -> list[int]:
+        """The arms of the copper at a point: 0 east, 1 north, 2 west, 3 south."""
+        return _dirs_on(self.hidx, ky, kx, 0, 2) + _dirs_on(self.vidx, kx, ky, 1, 3)
+
+    def nodes(self) -> set[tuple[int, int]]:
+        """Every end of a merged span and every point where a horizontal meets a vertical."""
+        out = set()
+        for y, spans in self.h.items():
+            for a, b in spans:
+                out.add((a, y))
+                out.add((b, y))
+        for x, spans in self.v.items():
+            for a, b in spans:
+                out.add((x, a))
+                out.add((x, b))
+        vx = sorted(self.v)
+        for y, spans in self.h.items():
+            for a, b in spans:
+                for x in vx[bisect_right(vx, a - 1):bisect_right(vx, b)]:
+                    if _dirs_on(self.vidx, x, y, 1, 3):
+                        out.add((x, y))
+        return out
+
+
+def _turns(dirs: Sequence[int]) -> bool:
+    """True when the arms hold a horizontal and a vertical one (the copper turns there)."""
+    return any(d in _H_DIRS for d in dirs) and any(d not in _H_DIRS for d in dirs)
+
+
+def net_bends(layers: dict, vias: Sequence[Point], jumpers: Sequence[Segment],
+              covered_on: Callable[[str], Callable[[float, float], bool]],
+              in_pad: Callable[[float, float], bool]) -> tuple[list[Point], list[Point]]:
+    """The bends of one net under the contract's definition, and its uncounted turns.
+
+    Parameters
+    ----------
+    layers : dict layer -> list of segments
+        The net's trace segments per copper layer.
+    vias : sequence of (x, y)
+        The net's via centres.
+    jumpers : sequence of ((x, y), (x, y))
+        The net's jumper wires.
+    covered_on : callable layer -> (callable (x, y) -> bool)
+        Where a point on that layer is no bend of one layer: inside a pad, a via's or a jumper
+        end's disc, or a one-point trace.
+    in_pad : callable (x, y) -> bool
+        True inside a part's pad on any layer (a via centre or jumper end there is no bend).
+
+    Returns
+    -------
+    (bends, hidden)
+        ``bends``: the bend points, sorted. ``hidden``: the points where the copper turns (a
+        horizontal and a vertical arm meet) that are not bends (T junctions, crossings,
+        corners in pads or off-centre in a via's disc), sorted; the path bound uses them.
+
+    Notes
+    -----
+    On one layer a point is a bend when exactly two arms of that layer's copper meet there
+    at a right angle and nothing else covers it (:func:`bend_points`). At a via centre or a
+    jumper end of the net, the arms of every layer are counted together with each jumper wire
+    that ends there (one arm in its direction): exactly two arms at a right angle, at a point
+    inside no pad, is a bend, whatever layers they are on.
+
+    Examples
+    --------
+    A corner moved into a via (top east, bottom north) is still a bend; a via where the path
+    goes on straight is none:
+
+    >>> never = lambda layer: (lambda x, y: True)
+    >>> no_pad = lambda x, y: False
+    >>> net_bends({"top": [((0, 0), (2, 0))], "bottom": [((2, 0), (2, 3))]}, [(2, 0)], [], never, no_pad)
+    ([(2.0, 0.0)], [])
+    >>> net_bends({"top": [((0, 0), (2, 0))], "bottom": [((2, 0), (5, 0))]}, [(2, 0)], [], never, no_pad)
+    ([], [])
+    """
+    lines = {L: _LayerLines(segs) for L, segs in layers.items() if segs}
+    special: dict[tuple[int, int], list[int]] = {}
+    for x, y in vias:
+        special.setdefault((_key(x), _key(y)), [])
+    for (xa, ya), (xb, yb) in jumpers:
+        ka, kb = (_key(xa), _key(ya)), (_key(xb), _key(yb))
+        if ka == kb:
+            continue
+        if abs(kb[0] - ka[0]) >= abs(kb[1] - ka[1]):
+            da, db = (0, 2) if kb[0] > ka[0] else (2, 0)
+        else:
+            da, db = (1, 3) if kb[1] > ka[1] else (3, 1)
+        special.setdefault(ka, []).append(da)
+        special.setdefault(kb, []).append(db)
+    bends: list[Point] = []
+    hidden: list[Point] = []
+    for L, ll in lines.items():
+        covered = covered_on(L)
+        for kx, ky in ll.nodes():
+            if (kx, ky) in special:
+                continue
+            dirs = ll.dirs(kx, ky)
+            if not _turns(dirs):
+                continue
+            p = (snap(kx * TOL), snap(ky * TOL))
+            if len(dirs) == 2 and not covered(*p):
+                bends.append(p)
+            else:
+                hidden.append(p)
+    for (kx, ky), wires in special.items():
+        dirs = list(wires)
+        for ll in lines.values():
+            dirs.extend(ll.dirs(kx, ky))
+        if not _turns(dirs):
+            continue
+        p = (snap(kx * TOL), snap(ky * TOL))
+        if len(dirs) == 2 and not in_pad(*p):
+            bends.append(p)
+        else:
+            hidden.append(p)
+    return sorted(bends), sorted(set(hidden))
+
+
+
+def _centre_lines_join(lines: dict, vias: Sequence[Point], jumpers: Sequence[Segment], pads) -> bool:
+    """True when the centre lines of a net's traces, its via centres and its jumper wires join
+    the first pad of `pads` to the second (copper that joins only through its width, or through
+    a via's disc off its centre, does not count).
+
+    `lines` is layer -> :class:`_LayerLines`; `pads` a sequence of ((x0, y0, x1, y1) core, radius,
+    layers) for the net's pads.
+    """
+    parent: dict = {}
+
+    def find(a):
+        parent.setdefault(a, a)
+        while parent[a] != a:
+            parent[a] = parent[parent[a]]
+            a = parent[a]
+        return a
+
+    def union(a, b):
+        ra, rb = find(a), find(b)
+        if ra != rb:
+            parent[ra] = rb
+
+    special = {(_key(x), _key(y)) for x, y in vias}
+    for a, b in jumpers:
+        ka, kb = (_key(a[0]), _key(a[1])), (_key(b[0]), _key(b[1]))
+        special.update((ka, kb))
+        union(("s",) + ka, ("s",) + kb)
+    for L, ll in lines.items():
+        nodes = set(ll.nodes())
+        for k in special:
+            if ll.dirs(*k):
+                nodes.add(k)
+                union((L,) + k, ("s",) + k)
+        rows: dict[int, list[int]] = defaultdict(list)
+        cols: dict[int, list[int]] = defaultdict(list)
+        for kx, ky in nodes:
+            rows[ky].append(kx)
+            cols[kx].append(ky)
+        for y, spans in ll.h.items():
+            xs = sorted(rows[y])
+            for a, b in spans:
+                on = xs[bisect_right(xs, a - 1):bisect_right(xs, b)]
+                for u, v in zip(on, on[1:]):
+                    union((L, u, y), (L, v, y))
+        for x, spans in ll.v.items():
+            ys = sorted(cols[x])
+            for a, b in spans:
+                on = ys[bisect_right(ys, a - 1):bisect_right(ys, b)]
+                for u, v in zip(on, on[1:]):
+                    union((L, x, u), (L, x, v))
+        for n, (core, r, pad_layers) in enumerate(pads):
+            if L in pad_layers:
+                for kx, ky in nodes:
+                    if _within((core, r), kx * TOL, ky * TOL):
+                        union((L, kx, ky), ("pad", n))
+    for n, (core, r, _) in enumerate(pads):
+        for kx, ky in special:
+            if _within((core, r), kx * TOL, ky * TOL):
+                union(("s", kx, ky), ("pad", n))
+    return find(("pad", 0)) == find(("pad", 1))
 
 
 def trace_length(points: Sequence[Point]) -> float:
@@ -324,8 +565,9 @@ def length_lower_bound(rects: Sequence[Rect]) -> float:
 
     Copper that joins only through width (two parallel traces overlapping side by side, a
     via disc reaching a pad the trace centre line does not) can beat the bound by at most those
-    widths; on a one-layer board, jumper wires carry length the contract's ``length`` leaves
-    out, so there compare ``length + jumper_length`` with the bound.
+    widths. Jumper wires carry length the contract's ``length`` leaves out, so
+    :func:`board_figures` subtracts a net's jumper wire from this bound for its
+    ``length_lower_bound`` and gives this one as ``span_lower_bound``.
 
     References
     ----------
@@ -394,18 +636,18 @@ def path_bends_lower_bound(rects: Sequence[Rect]) -> Optional[int]:
 
     Notes
     -----
-    The model: the net's copper on the layer is one simple rectilinear path from pad A to
-    pad B, with no via, jumper end or other net's pad on it (that would be a short). The
-    bound is exact: an L shape with its corner outside both pads has one bend, a straight run
-    none.
+    The model: the net's centre lines (traces on every layer, via centres, jumper wires) join
+    pad A to pad B, and every point outside A's and B's rectangles where the copper turns
+    (a horizontal and a vertical arm meet) is a bend of :func:`net_bends`
+    (:func:`board_figures` checks both and gives None where they fail). The bound is exact:
+    an L shape with its corner outside both pads has one bend, a straight run none.
 
-    Proof: pads are convex, so the projection of a pad on an axis is the range of its
-    bounding rectangle. Let a be the last point of the path in A and b the first point after
-    a in B; the path strictly between a and b lies outside A and B. If no vertex lies between
-    them, a-b is one axis-parallel segment from A to B, so the pads share a y-range
-    (horizontal) or an x-range (vertical). Otherwise a vertex between them lies in no pad
-    and, the path being simple, exactly two of its segments meet there at a right angle
-    (collinear steps merge): a bend.
+    Proof: take a simple path of centre lines from A to B. Let a be its last point in A's
+    rectangle and b the first point after a in B's; the path strictly between a and b lies
+    outside both rectangles. If it does not turn there, a-b is one axis-parallel line (a
+    straight via or jumper end is no turn) from A's rectangle to B's, so they share a
+    y-range (horizontal) or an x-range (vertical). Otherwise it turns at a point outside
+    both rectangles, which the model makes a bend.
 
     Examples
     --------
@@ -425,6 +667,25 @@ def path_bends_lower_bound(rects: Sequence[Rect]) -> Optional[int]:
 
 
 # ------------------------------------------------------------------ the figures
+
+
+def _path_bound_holds(layers: dict, vias, wires, hidden, rects, pads, routed: bool) -> bool:
+    """True when :func:`path_bends_lower_bound` bounds this net's bend count.
+
+    Its proof needs the copper to join the two pads along centre lines and every turn of the
+    copper outside the two pads' rectangles to be a bend: then the path from one pad to the
+    other turns somewhere outside both, and that turn is counted. A T junction, a crossing,
+    a corner off-centre in a via's disc, in another net's pad, or copper joined only through
+    its width take the bound away (None), so it never lies above the count.
+    """
+    if not routed or len(pads) != 2:
+        return False
+    for x, y in hidden:
+        if not any(r[0] - TOL <= x <= r[2] + TOL and r[1] - TOL <= y <= r[3] + TOL for r in rects):
+            return False
+    lines = {L: _LayerLines(segs) for L, segs in layers.items() if segs}
+    return _centre_lines_join(lines, vias, wires, pads)
+
 
 def _ratio(num: float, den: float) -> Optional[float]:
     return round(num / den, 4) if den > TOL else None
@@ -447,14 +708,19 @@ def board_figures(board: Board) -> dict:
              "totals": {"nets", "routed", "bends", "length", "vias", "jumpers",
                         "bends_lower_bound", "length_lower_bound", ...}}
 
-        Nets in file order. Extra fields per net: ``pads`` (pads of its pins on placed
-        parts), ``unplaced`` (its pins on parts with no place), ``jumper_length`` (mm of
-        jumper wire), ``length_ratio`` ((length + jumper_length) / length_lower_bound, None
-        when the bound is 0), ``bends_over_bound``, ``bends_lower_bound_path``
-        (:func:`path_bends_lower_bound`) and ``bend_points``. Extra totals: ``unplaced``
-        (nets with an unplaced pin), ``jumper_length``, ``length_ratio`` and
-        ``length_lower_bound_routed`` (over the routed nets only, so unrouted nets do not
-        make a board look better than its bounds) and ``bends_over_bound``.
+        Nets in file order. ``length_lower_bound`` is the pads' bound
+        (:func:`length_lower_bound`) less the net's jumper wire, never below 0. Extra
+        fields per net: ``pads`` (pads of its pins on placed parts), ``unplaced`` (its pins
+        on parts with no place), ``jumper_length`` (mm of jumper wire),
+        ``span_lower_bound`` (the pads' bound, which bounds length plus jumper wire),
+        ``length_ratio`` (length / length_lower_bound, None when the bound is 0),
+        ``span_ratio`` ((length + jumper_length) / span_lower_bound), ``bends_over_bound``,
+        ``bends_lower_bound_path`` (:func:`path_bends_lower_bound` where its proof holds for
+        the net's copper, else None) and ``bend_points``. Extra totals: ``unplaced`` (nets
+        with an unplaced pin), ``jumper_length``, ``span_lower_bound``, ``length_ratio``,
+        ``span_ratio``, ``length_lower_bound_routed`` and ``length_ratio_routed`` (over the
+        routed nets only, so unrouted nets do not make a board look better than its
+        bounds), ``bends_over_bound`` and ``copper_layers``.
 
     Notes
     -----
@@ -491,21 +757,24 @@ def board_figures(board: Board) -> dict:
     covers = _Covers(board, pads)
     placed = {p.ref for p in board.parts if p.at is not None}
     rects_of: dict[str, list[Rect]] = defaultdict(list)
+    pads_of: dict[str, list] = defaultdict(list)
     for pad in pads:
         rects_of[pad.net].append(pad.bounds())
-    segs_of: dict[tuple[str, str], list[Segment]] = defaultdict(list)
+        core, r = pad_core(pad)
+        pads_of[pad.net].append((tuple(core.bounds), r, tuple(pad.layers)))
+    segs_of: dict[str, dict[str, list[Segment]]] = defaultdict(lambda: defaultdict(list))
     length_of: dict[str, float] = defaultdict(float)
     for t in board.traces:
         pts = [(float(x), float(y)) for x, y in t.points]
-        segs_of[(t.net, t.layer)].extend(zip(pts, pts[1:]))
+        segs_of[t.net][t.layer].extend(zip(pts, pts[1:]))
         length_of[t.net] += trace_length(pts)
-    vias_of: dict[str, int] = defaultdict(int)
+    vias_at: dict[str, list[Point]] = defaultdict(list)
     for v in board.vias:
-        vias_of[v.net] += 1
-    jumpers_of: dict[str, int] = defaultdict(int)
+        vias_at[v.net].append((float(v.at[0]), float(v.at[1])))
+    wires_of: dict[str, list[Segment]] = defaultdict(list)
     jlen_of: dict[str, float] = defaultdict(float)
     for j in board.jumpers:
-        jumpers_of[j.net] += 1
+        wires_of[j.net].append(((float(j.start[0]), float(j.start[1])), (float(j.end[0]), float(j.end[1]))))
         jlen_of[j.net] += trace_length([j.start, j.end])
 
     nets = []
@@ -513,33 +782,37 @@ def board_figures(board: Board) -> dict:
     for net in board.nets:
         unplaced = [p for p in net.pins if p.split(".", 1)[0] not in placed]
         rects = rects_of.get(net.name, [])
-        bends_at: list[Point] = []
-        for layer in board.layers:
-            segs = segs_of.get((net.name, layer))
-            if segs:
-                bends_at.extend(bend_points(segs, covers.on(layer)))
-        if unplaced or net.name in poured:     # a pour may join every pad: no trace is needed
-            lb, bb, pb = 0.0, 0, None
-        else:
-            lb, bb, pb = length_lower_bound(rects), bends_lower_bound(rects), path_bends_lower_bound(rects)
+        layers = segs_of.get(net.name, {})
+        vias, wires = vias_at.get(net.name, []), wires_of.get(net.name, [])
+        bends_at, hidden = net_bends(layers, vias, wires, covers.on, covers.in_pad)
+        routed = bool(is_routed.get(net.name, False))
         length, jlen = length_of.get(net.name, 0.0), jlen_of.get(net.name, 0.0)
+        if unplaced or net.name in poured:     # a pour may join every pad: no trace is needed
+            span_lb, bb, pb = 0.0, 0, None
+        else:
+            span_lb, bb, pb = length_lower_bound(rects), bends_lower_bound(rects), path_bends_lower_bound(rects)
+        if pb and not _path_bound_holds(layers, vias, wires, hidden, rects, pads_of[net.name], routed):
+            pb = None
+        lb = max(0.0, span_lb - jlen)          # jumper wires carry part of the span: traces need the rest
         nets.append({
             "name": net.name,
-            "routed": bool(is_routed.get(net.name, False)),
+            "routed": routed,
             "bends": len(bends_at),
             "length": snap(length),
-            "vias": vias_of.get(net.name, 0),
-            "jumpers": jumpers_of.get(net.name, 0),
+            "vias": len(vias),
+            "jumpers": len(wires),
             "bends_lower_bound": bb,
             "length_lower_bound": snap(lb),
             "pads": len(rects),
             "unplaced": unplaced,
             "jumper_length": snap(jlen),
-            "length_ratio": _ratio(length + jlen, lb),
+            "span_lower_bound": snap(span_lb),
+            "length_ratio": _ratio(length, lb),
+            "span_ratio": _ratio(length + jlen, span_lb),
             "bends_over_bound": len(bends_at) - bb,
             "bends_lower_bound_path": pb,
             "bend_points": [list(p) for p in bends_at],
-            "_exact": (length, jlen, lb),
+            "_exact": (length, jlen, lb, span_lb),
         })
     from .escape import neck_traces          # pad exits narrower than the class (router.escape)
     neck_at: dict[str, list] = defaultdict(list)
@@ -551,7 +824,8 @@ def board_figures(board: Board) -> dict:
     tot_len = sum(n["_exact"][0] for n in nets)
     tot_j = sum(n["_exact"][1] for n in nets)
     tot_lb = sum(n["_exact"][2] for n in nets)
-    r_len = sum(n["_exact"][0] + n["_exact"][1] for n in nets if n["routed"])
+    tot_span = sum(n["_exact"][3] for n in nets)
+    r_len = sum(n["_exact"][0] for n in nets if n["routed"])
     r_lb = sum(n["_exact"][2] for n in nets if n["routed"])
     for n in nets:
         del n["_exact"]
@@ -566,11 +840,14 @@ def board_figures(board: Board) -> dict:
         "length_lower_bound": snap(tot_lb),
         "unplaced": sum(1 for n in nets if n["unplaced"]),
         "jumper_length": snap(tot_j),
-        "length_ratio": _ratio(tot_len + tot_j, tot_lb),
+        "span_lower_bound": snap(tot_span),
+        "length_ratio": _ratio(tot_len, tot_lb),
+        "span_ratio": _ratio(tot_len + tot_j, tot_span),
         "length_lower_bound_routed": snap(r_lb),
         "length_ratio_routed": _ratio(r_len, r_lb),
         "bends_over_bound": sum(n["bends_over_bound"] for n in nets),
         "necks": sum(n["necks"] for n in nets),
+        "copper_layers": len(board.layers),
     }
     out = {"nets": nets, "totals": totals}
     if board.pours:                  # poured area and share of the board per layer (router.pour)
@@ -708,8 +985,7 @@ def format_report(figs: dict, board: Optional[Board] = None) -> str:
     head = ["net", "routed", "bends", "bound", "path>=", "length", "bound", "ratio", "vias", "jumpers"]
     rows = []
     for n in figs["nets"]:
-        jl = n.get("jumper_length", 0.0) or 0.0
-        ratio = n.get("length_ratio", _ratio(n["length"] + jl, n["length_lower_bound"]))
+        ratio = n.get("length_ratio", _ratio(n["length"], n["length_lower_bound"]))
         pb = n.get("bends_lower_bound_path")
         rows.append([n["name"], _fmt(n["routed"], ""), str(n["bends"]), str(n["bends_lower_bound"]),
                      "-" if pb is None else str(pb),
@@ -732,30 +1008,33 @@ def format_report(figs: dict, board: Optional[Board] = None) -> str:
     for layer, pa in (figs.get("pours") or {}).items():
         out.append(f"poured {layer}: {pa['area']:.1f} mm^2, {100 * pa['share']:.1f} % of the board")
     out.append(f"bends {t['bends']}, bound {t['bends_lower_bound']}: "
-               f"{t['bends'] - t['bends_lower_bound']} above")
+               f"{t['bends'] - t['bends_lower_bound']} above (a turn at a via or a jumper end counts)")
     paths = [n for n in figs["nets"] if n.get("bends_lower_bound_path") is not None]
     if paths:
         out.append(f"  (the bound is 0 for any copper, since a T with a short overhang is not a bend; "
-                   f"path>= is the bound for a net drawn as one path on one layer: {len(paths)} such nets, "
+                   f"path>= is the bound for a two-pad net whose copper joins its pads along one path "
+                   f"with every turn counted: {len(paths)} such nets, "
                    f"{sum(n['bends'] for n in paths)} bends, path bound {sum(n['bends_lower_bound_path'] for n in paths)})")
     tj = t.get("jumper_length", 0.0) or 0.0
     lb = t["length_lower_bound"]
-    total = t["length"] + tj
-    wire = f" + {tj:.2f} mm of jumper wire" if tj else ""
-    line = f"length {t['length']:.2f} mm{wire}, bound {lb:.2f} mm"
+    line = f"length {t['length']:.2f} mm, bound {lb:.2f} mm"
     if not unrouted:
-        ratio = _ratio(total, lb)
-        line += (f": {ratio:.2f}x, {total - lb:.2f} mm above" if ratio is not None else "")
+        ratio = _ratio(t["length"], lb)
+        line += (f": {ratio:.2f}x, {t['length'] - lb:.2f} mm above" if ratio is not None else "")
     elif t["routed"] == 0:
-        line += "; no net routed yet"
+        line += "; no net routed yet (a net's bound is what its copper will need at least)"
     else:
-        r_len = sum(n["length"] + (n.get("jumper_length", 0.0) or 0.0)
-                    for n in figs["nets"] if n["routed"])
+        r_len = sum(n["length"] for n in figs["nets"] if n["routed"])
         r_lb = sum(n["length_lower_bound"] for n in figs["nets"] if n["routed"])
         ratio = _ratio(r_len, r_lb)
         line += (f"; the {t['routed']} routed nets {r_len:.2f} mm against {r_lb:.2f} mm"
                  + (f": {ratio:.2f}x, {r_len - r_lb:.2f} mm above" if ratio is not None else ""))
     out.append(line)
+    if tj:
+        span = t.get("span_lower_bound", lb)
+        out.append(f"  (jumper wires {tj:.2f} mm carry part of each net's span: a net's length bound is the "
+                   f"pads' bound less its jumper wire; traces and wires together "
+                   f"{t['length'] + tj:.2f} mm against the pads' bound {span:.2f} mm)")
     return "\n".join(out)
 
 

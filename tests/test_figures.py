@@ -117,7 +117,11 @@ def test_corner_past_the_end_stub_is_no_bend():
     b = make(AB, NET, [("A", "top", [(5, 5), (15.5, 5)]), ("A", "top", [(15, 5), (15, 12)])])
     f = net_figs(b)
     assert (f["bends"], f["length"], f["routed"]) == (0, 17.5, True)
-    assert f["bends_lower_bound"] == 0 and f["bends_lower_bound_path"] == 1
+    # the turn hides in a T: the single-path bound (1) would lie above the count, so none is given
+    assert f["bends_lower_bound"] == 0 and f["bends_lower_bound_path"] is None
+    # the plain L: the path bound holds and is met
+    f = net_figs(make(AB, NET, [("A", "top", [(5, 5), (15, 5), (15, 12)])]))
+    assert (f["bends"], f["bends_lower_bound_path"]) == (1, 1)
 
 
 def test_corner_inside_a_pad_is_no_bend():
@@ -131,17 +135,45 @@ def test_corner_inside_a_pad_is_no_bend():
     assert net_figs(b)["bend_points"] == [[15.5, 5.0]]
 
 
-def test_corner_at_a_via_is_no_bend():
+def test_corner_moved_into_a_via_is_a_bend():
+    # the contract: at a via centre the arms of both layers count together; top east-west run
+    # ending at the via, bottom run leaving north: two arms at a right angle, a bend (hand counted)
     b = make(AB, NET, [("A", "top", [(5, 5), (15, 5)]), ("A", "bottom", [(15, 5), (15, 12)])],
              vias=[("A", (15, 5))])
     f = net_figs(b)
-    assert (f["bends"], f["vias"], f["length"], f["routed"]) == (0, 1, 17.0, True)
-    # the same corner on one layer with a via on it: nothing else may be there, so no bend
+    assert (f["bends"], f["vias"], f["length"], f["routed"]) == (1, 1, 17.0, True)
+    assert f["bend_points"] == [[15.0, 5.0]] and f["bends_lower_bound_path"] == 1
+    # the same corner on one layer with a via on its centre: still two arms, still a bend
     b = make(AB, NET, [("A", "top", [(5, 5), (15, 5), (15, 12)])], vias=[("A", (15, 5))])
-    assert net_figs(b)["bends"] == 0
-    # within the via's disc (diameter 0.8) but 0.3 mm from its centre: still covered
+    assert net_figs(b)["bends"] == 1
+    # within the via's disc (diameter 0.8) but 0.3 mm from its centre: inside a via, no bend;
+    # the turn is not counted, so the single-path bound is not given either
     b = make(AB, NET, [("A", "top", [(5, 5), (15, 5), (15, 12)])], vias=[("A", (15.3, 5))])
-    assert net_figs(b)["bends"] == 0
+    f = net_figs(b)
+    assert f["bends"] == 0 and f["bends_lower_bound_path"] is None
+
+
+@pytest.mark.parametrize("top, bottom, bends", [
+    ([(5, 5), (15, 5)], [(15, 5), (25, 5)], 0),           # on straight on the other layer
+    ([(5, 5), (15, 5)], [(15, 5), (15, 12)], 1),          # turns at the via
+    ([(5, 5), (15, 5)], [(15, 5), (5, 5)], 0),            # back under itself: both arms point west
+    ([(5, 5), (25, 5)], [(15, 5), (15, 12)], 0),          # top runs through: three arms, a T
+    ([(5, 5), (15, 5)], [(15, 0), (15, 12)], 0),          # bottom runs through: three arms
+])
+def test_via_arms_counted_across_layers(top, bottom, bends):
+    pads = dict(AB, PC=(25.0, 5.0), PD=(15.0, 0.0))
+    b = make(pads, {"A": ["PA", "PB", "PC", "PD"]}, [("A", "top", top), ("A", "bottom", bottom)],
+             vias=[("A", (15, 5))])
+    assert net_figs(b)["bends"] == bends
+
+
+def test_via_inside_a_pad_is_no_bend():
+    # a via on pad B's centre with the corner there: a point inside a pad is never a bend
+    b = make(AB, NET, [("A", "top", [(5, 5), (5, 12)]), ("A", "bottom", [(5, 12), (15, 12)])],
+             vias=[("A", (5, 12))])
+    assert net_figs(b)["bends"] == 1
+    b = make(AB, NET, [("A", "top", [(5, 5), (15, 5), (15, 12)])], vias=[("A", (15, 12))])
+    assert net_figs(b)["bend_points"] == [[15.0, 5.0]]
 
 
 def test_segments_on_two_layers_do_not_meet():
@@ -185,16 +217,43 @@ def test_points_equal_within_tol():
 
 
 def test_one_layer_board_jumpers():
-    # one layer (bottom): run to (10, 5), a jumper from (10, 5) to (10, 12), run to B; the
-    # jumper ends are pads with holes, so the corners there are no bends; the wire is no length
+    # one layer (bottom): run east to (10, 5), a jumper north from (10, 5) to (10, 12), run east
+    # to B. At each jumper end a trace leaves across the wire: two arms at a right angle, so
+    # both are bends (the contract); the wire is no length
     b = make(AB, NET, [("A", "bottom", [(5, 5), (10, 5)]), ("A", "bottom", [(10, 12), (15, 12)])],
              jumpers=[("A", (10, 5), (10, 12))], layers=1)
     f = net_figs(b)
-    assert (f["bends"], f["jumpers"], f["vias"], f["routed"]) == (0, 1, 0, True)
+    assert (f["bends"], f["jumpers"], f["vias"], f["routed"]) == (2, 1, 0, True)
+    assert f["bend_points"] == [[10.0, 5.0], [10.0, 12.0]]
     assert f["length"] == 10.0 and f["jumper_length"] == 7.0
-    # bound: pad rectangles (4.5..5.5) and (14.5..15.5) x, (4.5..5.5) and (11.5..12.5) y: 9 + 6
-    assert f["length_lower_bound"] == pytest.approx(15.0)
-    assert f["length_ratio"] == pytest.approx(17.0 / 15.0, abs=1e-4)
+    # the pads' bound: rectangles (4.5..5.5) and (14.5..15.5) x, (4.5..5.5) and (11.5..12.5) y:
+    # 9 + 6 = 15 for traces and wire together; the wire carries 7, so the traces need 8
+    assert f["span_lower_bound"] == pytest.approx(15.0)
+    assert f["length_lower_bound"] == pytest.approx(8.0) and f["length_lower_bound"] <= f["length"]
+    assert f["span_ratio"] == pytest.approx(17.0 / 15.0, abs=1e-4)
+    assert f["length_ratio"] == pytest.approx(10.0 / 8.0, abs=1e-4)
+    assert f["bends_lower_bound_path"] == 1
+
+
+@pytest.mark.parametrize("traces, bends", [
+    ([[(5, 5), (10, 5)], [(10, 12), (10, 14), (15, 14)]], 2),    # across at (10, 5), straight on at (10, 12), corner (10, 14)
+    ([[(5, 5), (10, 5)], [(10, 12), (15, 12)], [(10, 12), (10, 9)]], 1),   # a stub back under the wire: 3 arms
+    ([[(10, 0), (10, 5)], [(10, 12), (15, 12)]], 1),              # in along the wire's line: straight
+])
+def test_jumper_end_arms_hand_counted(traces, bends):
+    pads = dict(AB, PC=(10.0, 0.0), PD=(15.0, 14.0))
+    b = make(pads, {"A": ["PA", "PB", "PC", "PD"]}, [("A", "bottom", t) for t in traces],
+             jumpers=[("A", (10, 5), (10, 12))], layers=1)
+    assert net_figs(b)["bends"] == bends
+
+
+def test_a_long_wire_takes_the_length_bound_to_zero():
+    # a wire longer than the span: the traces need no length at all
+    b = make(AB, NET, [("A", "bottom", [(5, 5), (5, 15)]), ("A", "bottom", [(15, 15), (15, 12)])],
+             jumpers=[("A", (5, 15), (15, 15))], layers=1)
+    f = net_figs(b)
+    assert f["routed"] and f["jumper_length"] == 10.0 and f["span_lower_bound"] == 15.0
+    assert f["length_lower_bound"] == 5.0 and f["length"] == 13.0
 
 
 def test_totals_are_sums_and_contract_keys():
@@ -453,7 +512,8 @@ def test_router_output_stays_above_the_bounds(tmp_path):
     assert main(["route", str(ROOT / "boards" / "starter-blinker.toml"), "-o", str(out), "-q"]) == 0
     for n in board_figures(load_board(out))["nets"]:
         assert n["routed"]
-        assert n["length"] + n["jumper_length"] >= n["length_lower_bound"] - 1e-6, n["name"]
+        assert n["length"] >= n["length_lower_bound"] - 1e-6, n["name"]
+        assert n["length"] + n["jumper_length"] >= n["span_lower_bound"] - 1e-6, n["name"]
 
 
 def test_hpwl_hand_computed():
@@ -551,20 +611,22 @@ def test_compare_matches_nets_by_name():
     pads = {"PA": (5.0, 5.0), "PB": (15.0, 12.0), "PC": (5.0, 30.0), "PD": (20.0, 30.0)}
     one = make(pads, {"A": ["PA", "PB"], "B": ["PC", "PD"]},
                [("A", "top", [(5, 5), (15, 5), (15, 12)]), ("B", "top", [(5, 30), (20, 30)])])
-    # the other board lists the nets the other way round and routes A with a via, no bend
+    # the other board lists the nets the other way round and routes A with its corner in a via
+    # (still a bend) and B with a jog (two more bends, 2 mm longer)
     two = make(pads, {"B": ["PC", "PD"], "A": ["PA", "PB"]},
                [("A", "top", [(5, 5), (15, 5)]), ("A", "bottom", [(15, 5), (15, 12)]),
-                ("B", "top", [(5, 30), (20, 30)])], vias=[("A", (15, 5))])
+                ("B", "top", [(5, 30), (10, 30), (10, 31), (15, 31), (15, 30), (20, 30)])],
+               vias=[("A", (15, 5))])
     comp = compare_figures([("one", board_figures(one)), ("two", board_figures(two))])
     assert comp["boards"] == ["one", "two"]
     rows = {r["name"]: r for r in comp["nets"]}
-    assert rows["A"]["bends"] == [1, 0] and rows["A"]["vias"] == [0, 1]
-    assert rows["A"]["differs"] == ["bends", "vias"]
-    assert rows["B"]["differs"] == [] and rows["B"]["length"] == [15.0, 15.0]
-    assert comp["totals"]["bends"] == [1, 0] and comp["totals"]["best"]["bends"] == ["two"]
-    assert comp["totals"]["best"]["length"] == ["one", "two"]
+    assert rows["A"]["bends"] == [1, 1] and rows["A"]["vias"] == [0, 1]
+    assert rows["A"]["differs"] == ["vias"]
+    assert rows["B"]["differs"] == ["bends", "length"] and rows["B"]["length"] == [15.0, 17.0]
+    assert comp["totals"]["bends"] == [1, 5] and comp["totals"]["best"]["bends"] == ["one"]
+    assert comp["totals"]["best"]["length"] == ["one"]
     text = format_compare(comp)
-    assert "* A" in text and "* B" not in text and "[2] two" in text
+    assert "* A" in text and "* B" in text and "[2] two" in text
     json.dumps(comp)
 
 
