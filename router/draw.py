@@ -512,8 +512,29 @@ def _short_labels(labels):
     return short if len(set(short)) == len(short) else list(labels)
 
 
+def chart_keys(rows) -> list[str]:
+    """The panels of the comparison chart: bends, length, then vias for two-layer boards and
+    jumpers for one-layer boards (both when the boards are mixed).
+
+    A board's layer count is its totals' ``copper_layers``; where that is missing, a board
+    with jumpers counts as one-layer and any other as two-layer.
+
+    >>> chart_keys([("a", {"copper_layers": 1, "jumpers": 0}), ("b", {"copper_layers": 1})])
+    ['bends', 'length', 'jumpers']
+    >>> chart_keys([("a", {"copper_layers": 2}), ("b", {"jumpers": 3})])
+    ['bends', 'length', 'vias', 'jumpers']
+    """
+    def layers(t):
+        if t.get("copper_layers") in (1, 2):
+            return t["copper_layers"]
+        return 1 if (t.get("jumpers") or 0) > 0 and not (t.get("vias") or 0) else 2
+    have = {layers(t) for _, t in rows}
+    return ["bends", "length"] + (["vias"] if 2 in have else []) + (["jumpers"] if 1 in have else [])
+
+
 def compare_figure(comp, dpi: float = 150):
-    """The comparison bar chart (bends, length, vias per board) on a new Figure."""
+    """The comparison bar chart on a new Figure: bends, length, and vias or jumpers per board
+    (:func:`chart_keys`)."""
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
     from matplotlib.ticker import MaxNLocator
@@ -521,13 +542,15 @@ def compare_figure(comp, dpi: float = 150):
     rows = compare_rows(comp)
     labels = _short_labels([r[0] for r in rows])
     n = len(rows)
-    fig = Figure(figsize=(max(7.5, 1.2 * n * 3), 3.6), dpi=dpi, facecolor=STYLE["paper"])
+    keys = chart_keys(rows)
+    fig = Figure(figsize=(max(7.5, 1.2 * n * len(keys)), 3.6), dpi=dpi, facecolor=STYLE["paper"])
     FigureCanvasAgg(fig)
-    axes = fig.subplots(1, 3)
-    colours = {"bends": OKABE_ITO["orange"], "length": OKABE_ITO["blue"], "vias": OKABE_ITO["bluish green"]}
-    units = {"bends": "bends", "length": "length (mm)", "vias": "vias"}
+    axes = fig.subplots(1, len(keys))
+    colours = {"bends": OKABE_ITO["orange"], "length": OKABE_ITO["blue"], "vias": OKABE_ITO["bluish green"],
+               "jumpers": OKABE_ITO["reddish purple"]}
+    units = {"bends": "bends", "length": "length (mm)", "vias": "vias", "jumpers": "jumpers"}
     xs = list(range(n))
-    for ax, key in zip(axes, _KEYS):
+    for ax, key in zip(axes, keys):
         vals = [float(t.get(key) or 0.0) for _, t in rows]
         bars = ax.bar(xs, vals, color=colours[key], edgecolor=OKABE_ITO["black"], linewidth=0.5)
         for i, b in enumerate(bars):
@@ -557,7 +580,7 @@ def compare_figure(comp, dpi: float = 150):
 
 
 def plot_compare(comp, path, dpi: float = 150) -> Path:
-    """Write the comparison bar chart of bends, length and vias per board (.png or .svg), atomically.
+    """Write the comparison bar chart of bends, length, vias or jumpers per board (.png or .svg), atomically.
 
     Parameters
     ----------

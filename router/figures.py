@@ -858,6 +858,10 @@ def board_figures(board: Board) -> dict:
 
 # ------------------------------------------------------------------ comparison
 
+#: How :func:`compare_figures` names the best boards (its ``"ranking"``, printed by compare).
+RANKING = ("most nets routed first; among the boards that route the most, the lowest value "
+           "(a board that routes fewer nets wins no figure)")
+
 #: Fields compared per net and in total, in the order they are shown.
 COMPARED = ("routed", "bends", "length", "vias", "jumpers", "bends_lower_bound", "length_lower_bound")
 
@@ -888,17 +892,24 @@ def compare_figures(labelled: Sequence[tuple[str, dict]]) -> dict:
         entry of ``nets`` is ``{"name": N, "present": [bool per board], F: [value per board
         or None], ..., "differs": [fields whose values differ]}`` for each field F of
         ``fields``, nets in first-seen order; a net missing from some board has None there
-        and ``"present"`` in ``differs``; its fields are compared among the boards that have it. ``totals`` is ``{F: [value per board], "differs":
-        [...], "best": {F: [labels with the lowest value]}}`` for bends, length, vias and
-        jumpers. Numbers differ when they are more than :data:`~router.units.TOL` apart.
+        and ``"present"`` in ``differs``; its fields are compared among the boards that have
+        it. ``totals`` is ``{F: [value per board], "differs": [...], "best": {...}}``;
+        ``best`` ranks by nets routed first: ``best["routed"]`` are the boards that route
+        the most nets, and ``best[F]`` for bends, length, vias and jumpers the ones among
+        them with the lowest value, so a board that routes fewer nets never wins a figure.
+        ``"ranking"`` says so in words (:data:`RANKING`). Numbers differ when they are
+        more than :data:`~router.units.TOL` apart.
 
     Examples
     --------
-    >>> a = {"nets": [{"name": "A", "bends": 1, "length": 2.0}], "totals": {"bends": 1, "length": 2.0}}
-    >>> b = {"nets": [{"name": "A", "bends": 3, "length": 2.0}], "totals": {"bends": 3, "length": 2.0}}
+    >>> a = {"nets": [{"name": "A", "bends": 1, "length": 2.0}], "totals": {"routed": 1, "bends": 1, "length": 2.0}}
+    >>> b = {"nets": [{"name": "A", "bends": 3, "length": 2.0}], "totals": {"routed": 1, "bends": 3, "length": 2.0}}
     >>> c = compare_figures([("a", a), ("b", b)])
     >>> c["nets"][0]["bends"], c["nets"][0]["differs"], c["totals"]["best"]["bends"]
     ([1, 3], ['bends'], ['a'])
+    >>> u = {"nets": [], "totals": {"routed": 0, "bends": 0, "length": 0.0}}   # routes nothing
+    >>> compare_figures([("a", a), ("u", u)])["totals"]["best"]["bends"]
+    ['a']
     """
     labels = [lab for lab, _ in labelled]
     order: list[str] = []
@@ -922,24 +933,30 @@ def compare_figures(labelled: Sequence[tuple[str, dict]]) -> dict:
                 differs.append(f)
         row["differs"] = differs
         nets.append(row)
-    tfields = ("nets", "routed") + COMPARED[1:]
+    tfields = ("nets", "routed") + COMPARED[1:] + ("copper_layers",)
     totals: dict = {}
     tdiff = []
     for f in tfields:
         vals = [figs.get("totals", {}).get(f) for _, figs in labelled]
+        if f == "copper_layers" and all(v is None for v in vals):
+            continue
         totals[f] = vals
         if _differ(vals):
             tdiff.append(f)
     totals["differs"] = tdiff
-    best = {}
+    # nets routed first: a board that routes fewer nets wins no figure against one that routes more
+    routed = totals["routed"]
+    most = max((v for v in routed if v is not None), default=None)
+    contenders = [k for k, v in enumerate(routed) if most is None or v == most]
+    best = {"routed": [labels[k] for k in contenders]} if most is not None else {}
     for f in ("bends", "length", "vias", "jumpers"):
         vals = totals[f]
-        present = [v for v in vals if v is not None]
+        present = [vals[k] for k in contenders if vals[k] is not None]
         if present:
             lo = min(present)
-            best[f] = [lab for lab, v in zip(labels, vals) if v is not None and v - lo <= TOL]
+            best[f] = [labels[k] for k in contenders if vals[k] is not None and vals[k] - lo <= TOL]
     totals["best"] = best
-    return {"boards": labels, "fields": list(COMPARED), "nets": nets, "totals": totals}
+    return {"boards": labels, "fields": list(COMPARED), "nets": nets, "totals": totals, "ranking": RANKING}
 
 
 # ------------------------------------------------------------------ text output
@@ -1071,10 +1088,12 @@ def format_compare(comp: dict) -> str:
     best = t.get("best", {})
     if best and len(labels) > 1:
         out.append("")
+        out.append("ranking: " + comp.get("ranking", RANKING))
+        words = {"routed": "most nets routed", "bends": "fewest bends", "length": "shortest",
+                 "vias": "fewest vias", "jumpers": "fewest jumpers"}
         for f, labs in best.items():
             if len(labs) < len(labels):
-                out.append(f"fewest {f}: " + ", ".join(labs) if f != "length"
-                           else "shortest: " + ", ".join(labs))
+                out.append(f"{words.get(f, f)}: " + ", ".join(labs))
     out.append("")
     out.append("* the boards differ there")
     return "\n".join(out)

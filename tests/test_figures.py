@@ -15,7 +15,7 @@ import pytest
 from shapely.geometry import LineString, Point
 from shapely.ops import unary_union
 
-from router.boardfile import load_board, loads_board
+from router.boardfile import load_board, loads_board, save_board
 from router.check import check
 from router.cli import main
 from router.connectivity import routed
@@ -640,6 +640,60 @@ def test_compare_marks_a_missing_net():
     a_row = next(r for r in comp["nets"] if r["name"] == "A")
     assert a_row["differs"] == []
     assert "* Z" in format_compare(comp)
+
+
+def test_compare_ranks_by_nets_routed_first(capsys, tmp_path):
+    # board "few" routes A with no bend but leaves B unrouted: 0 bends, 10 mm; board "all" routes
+    # both, with more bends and length. Lowest figures alone would crown "few"; nets routed first
+    # gives every figure to "all" (hand counted: all 3 bends, 16 + 20 mm; few 0 bends, 10 mm)
+    pads = {"PA": (5.0, 5.0), "PB": (15.0, 5.0), "PC": (5.0, 30.0), "PD": (20.0, 35.0)}
+    nets = {"A": ["PA", "PB"], "B": ["PC", "PD"]}
+    few = make(pads, nets, [("A", "top", [(5, 5), (15, 5)])])
+    every = make(pads, nets, [("A", "top", [(5, 5), (5, 8), (15, 8), (15, 5)]),
+                              ("B", "top", [(5, 30), (20, 30), (20, 35)])])
+    comp = compare_figures([("few", board_figures(few)), ("all", board_figures(every))])
+    t = comp["totals"]
+    assert t["routed"] == [1, 2] and t["bends"] == [0, 3] and t["length"] == [10.0, 36.0]
+    assert t["best"] == {"routed": ["all"], "bends": ["all"], "length": ["all"], "vias": ["all"],
+                         "jumpers": ["all"]}
+    assert "routed first" in comp["ranking"]
+    text = format_compare(comp)
+    assert "ranking: most nets routed first" in text
+    assert "fewest bends: all" in text and "shortest: all" in text and "most nets routed: all" in text
+    # equal nets routed: the figure decides
+    comp = compare_figures([("a", board_figures(every)), ("b", board_figures(few)), ("c", board_figures(every))])
+    assert comp["totals"]["best"]["routed"] == ["a", "c"] and comp["totals"]["best"]["bends"] == ["a", "c"]
+    # the command line says it too, in text and JSON
+    pa, pb = tmp_path / "few.toml", tmp_path / "all.toml"
+    save_board(few, pa)
+    save_board(every, pb)
+    assert main(["compare", str(pa), str(pb), "--json"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert out["totals"]["best"]["bends"] == [str(pb)] and "routed first" in out["ranking"]
+    assert main(["compare", str(pa), str(pb)]) == 0
+    assert "ranking: most nets routed first" in capsys.readouterr().out
+
+
+def test_compare_chart_of_one_layer_boards_shows_jumpers(tmp_path):
+    from router.draw import chart_keys, compare_figure
+    one = make(AB, NET, [("A", "bottom", [(5, 5), (10, 5)]), ("A", "bottom", [(10, 12), (15, 12)])],
+               jumpers=[("A", (10, 5), (10, 12))], layers=1)
+    plain = make(AB, NET, [("A", "bottom", [(5, 5), (15, 5), (15, 12)])], layers=1)
+    comp = compare_figures([("one", board_figures(one)), ("plain", board_figures(plain))])
+    assert comp["totals"]["copper_layers"] == [1, 1]
+    fig = compare_figure(comp)
+    titles = [ax.get_title() for ax in fig.axes]
+    assert titles == ["bends", "length (mm)", "jumpers"]
+    heights = {c.patches[0].get_gid().rsplit("-", 1)[0]: [b.get_height() for b in c]
+               for ax in fig.axes for c in ax.containers}
+    assert heights["bar-jumpers"] == [1, 0] and "bar-vias" not in heights
+    # a two-layer board beside them: both panels
+    two = make(AB, NET, [("A", "top", [(5, 5), (15, 5)]), ("A", "bottom", [(15, 5), (15, 12)])],
+               vias=[("A", (15, 5))])
+    comp = compare_figures([("one", board_figures(one)), ("two", board_figures(two))])
+    assert chart_keys([(l, {k: v[i] for k, v in comp["totals"].items() if isinstance(v, list)})
+                       for i, l in enumerate(comp["boards"])]) == ["bends", "length", "vias", "jumpers"]
+    assert [ax.get_title() for ax in compare_figure(comp).axes] == ["bends", "length (mm)", "vias", "jumpers"]
 
 
 # ---------------------------------------------------------------- the command line
