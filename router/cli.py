@@ -167,6 +167,17 @@ def cmd_export(args) -> int:
     return EXIT_OK
 
 
+def cmd_print(args) -> int:
+    from . import load_board
+    from .printout import print_layer
+    board = load_board(args.board)
+    info = print_layer(board, Path(args.output), layer=args.layer, mirror=args.mirror)
+    if not args.quiet:
+        print(f"wrote {info.path}: copper {info.layer}{', mirrored' if info.mirror else ''}, 1:1 on "
+              f"{info.page} ({info.page_size[0]:g} x {info.page_size[1]:g} mm); check the 50 mm bar after printing")
+    return EXIT_OK
+
+
 def cmd_pour(args) -> int:
     from . import load_board, save_board
     from .pour import format_pour, pour_board
@@ -270,6 +281,15 @@ def build_parser() -> argparse.ArgumentParser:
                     help="board width and height in mm (default: estimated from the parts, below)")
     sp.add_argument("--layers", type=int, choices=(1, 2), default=2, help="copper layers (default 2)")
     sp.add_argument("--name", help="the board's name (default: the output file's name)")
+
+    sp = add("print", "a 1:1 PDF of one copper layer for home etching, with drill centres and a 50 mm "
+                      "scale bar", cmd_print)
+    sp.add_argument("board", help="board file")
+    sp.add_argument("-o", "--output", required=True, metavar="FILE.pdf", help="PDF to write")
+    sp.add_argument("--layer", choices=("top", "bottom"), default=None,
+                    help="copper layer (default: top; bottom on one-layer boards)")
+    sp.add_argument("--mirror", action="store_true",
+                    help="flip left to right (toner transfer: mirror the top layer, not the bottom)")
 
     sp = add("export", "fabrication files: Gerber and drill", cmd_export)
     sp.add_argument("board", help="board file")
