@@ -297,6 +297,9 @@ def _parts(name, delim, rows, layers, notes):
         if not fpname:
             fail("the footprint is empty; give a built-in name like chip-0603 or soic-8")
         fp = builtin_footprint(fpname)
+        if fp is None and builtin_footprint(fpname.lower()) is not None:
+            fpname = fpname.lower()       # SOIC-8 from a spreadsheet is soic-8
+            fp = builtin_footprint(fpname)
         if fp is None:
             near = nearest_footprints(fpname)
             hint = f"nearest known: {', '.join(near)}" if near else "see the built-in names in the README"
@@ -330,7 +333,7 @@ def _parts(name, delim, rows, layers, notes):
                      "bottom); write bottom in the side column or use --layers 2")
         lines[ref] = row.line
         fps[ref] = fp
-        parts.append(Part(ref, fp.name, c.get("value", ""), at, rot, side, fixed))
+        parts.append(Part(ref, fpname, c.get("value", ""), at, rot, side, fixed))
     if not parts:
         raise BoardError(name, "", "lists no parts; add one row a part under the header")
     return parts, lines, fps
@@ -381,7 +384,7 @@ def _nets(name, rows, fps, notes):
     return list(nets.values())
 
 
-def estimate_size(board: Board) -> tuple[float, float]:
+def estimate_size(board: Board, factor: float | None = None) -> tuple[float, float]:
     """A board size for parts that have no outline yet, in whole mm.
 
     The rule: each part's rectangle (body and pads, :func:`router.geometry.part_rect`) is
@@ -390,7 +393,7 @@ def estimate_size(board: Board) -> tuple[float, float]:
     :data:`ROUTING_FACTOR` (2.0 on two layers, 3.0 on one) is the board's area, as a
     rectangle :data:`ASPECT` (3:2) wide, no narrower than the largest part and grown to hold
     the parts that have a place, plus the edge clearance on every side, each side rounded up
-    to a whole mm.
+    to a whole mm. `factor` replaces :data:`ROUTING_FACTOR` (for scripts/bench_newsize.py).
 
     Examples
     --------
@@ -411,7 +414,7 @@ def estimate_size(board: Board) -> tuple[float, float]:
         w, h = x1 - x0 + gap, y1 - y0 + gap
         area += w * h
         longest, shortest = max(longest, w, h), max(shortest, min(w, h))
-    area *= ROUTING_FACTOR[board.copper_layers]
+    area *= ROUTING_FACTOR[board.copper_layers] if factor is None else factor
     width = max(math.sqrt(area * ASPECT), longest)
     height = max(area / width, shortest)
     width, height = width + 2 * ec, height + 2 * ec

@@ -101,8 +101,8 @@ def test_semicolons_and_decimal_comma(tmp_path):
     assert b.part("R1").value == "4,7k" and b.part("R1").at is None
 
 
-def test_tabs(tmp_path):
-    parts = "ref\tfootprint\tvalue\nU1\tsoic-8\top-amp\n"
+def test_tabs_and_footprint_names_in_capitals(tmp_path):
+    parts = "ref\tfootprint\tvalue\nU1\tSOIC-8\top-amp\n"
     nets = "net\tpin\nX\tU1.3\n"
     p, n = _write(tmp_path, parts, nets)
     code, out = _new(tmp_path, p, n)
@@ -278,3 +278,22 @@ def test_estimated_board_places_and_routes(tmp_path):
     assert main(["place", str(out), "-o", str(tmp_path / "p.toml"), "-q"]) == 0
     assert main(["route", str(tmp_path / "p.toml"), "-o", str(tmp_path / "r.toml"), "-q"]) == 0
     assert main(["check", str(tmp_path / "r.toml")]) == 0
+
+
+def test_example_greenhouse_node_new_place_route_check(tmp_path, capsys):
+    """boards/greenhouse-node: the README's three commands give a complete, clean board."""
+    import json
+    from pathlib import Path
+    src = Path(__file__).resolve().parent.parent / "boards" / "greenhouse-node"
+    new, placed, routed = (tmp_path / f for f in ("node.toml", "placed.toml", "routed.toml"))
+    assert main(["new", "--parts", str(src / "parts.csv"), "--nets", str(src / "nets.csv"),
+                 "-o", str(new), "-q"]) == 0
+    board = load_board(new)
+    assert sum(p.at is None for p in board.parts) == len(board.parts) - 1   # J1 is fixed
+    assert main(["place", str(new), "-o", str(placed), "-q"]) == 0
+    capsys.readouterr()
+    assert main(["route", str(placed), "-o", str(routed), "--json"]) == 0
+    totals = json.loads(capsys.readouterr().out)["totals"]
+    assert totals["routed"] == totals["nets"] == len(board.nets) == 14
+    assert main(["check", str(routed), "--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["violations"] == []
