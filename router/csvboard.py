@@ -237,7 +237,9 @@ def _footprint_names() -> list[str]:
         for fam, values in (("axial-{}", ("5.08", "7.62", "10.16", "12.7", "15.24")),
                             ("radial-{}", ("2.0", "2.5", "3.5", "5.0", "7.5")),
                             ("hole-{}", ("2.2", "2.7", "3.2", "3.7", "4.3")),
-                            ("cap-smd-{}", ("4", "5", "6.3", "8", "10"))):
+                            ("cap-smd-{}", ("4", "5", "6.3", "8", "10")),
+                            ("diode-{}", ("7.62", "10.16", "12.7")), ("led-{}", ("3", "5")),
+                            ("tantalum-{}", ("A", "B", "C", "D"))):
             names += [fam.format(v) for v in values if builtin_footprint(fam.format(v))]
         _KNOWN = names
     return _KNOWN
@@ -261,7 +263,9 @@ def nearest_footprints(name: str, n: int = 3) -> list[str]:
             cand = low[:m.start()] + str(v + d) + low[m.end():]
             if builtin_footprint(cand) and cand not in found:
                 found.append(cand)
-    for cand in difflib.get_close_matches(low, _footprint_names(), n=n + len(found), cutoff=0.5):
+    by_low = {c.lower(): c for c in _footprint_names()}
+    for cand in difflib.get_close_matches(low, list(by_low), n=n + len(found), cutoff=0.5):
+        cand = by_low[cand]
         if cand not in found:
             found.append(cand)
     return found[:n]
@@ -297,8 +301,10 @@ def _parts(name, delim, rows, layers, notes):
         if not fpname:
             fail("the footprint is empty; give a built-in name like chip-0603 or soic-8")
         fp = builtin_footprint(fpname)
-        if fp is None and builtin_footprint(fpname.lower()) is not None:
-            fpname = fpname.lower()       # SOIC-8 from a spreadsheet is soic-8
+        if fp is None:                    # SOIC-8 from a spreadsheet is soic-8
+            known = {k.lower(): k for k in _footprint_names()}
+            fpname = next((n for n in (fpname.lower(), known.get(fpname.lower(), "")) if builtin_footprint(n)),
+                          fpname)
             fp = builtin_footprint(fpname)
         if fp is None:
             near = nearest_footprints(fpname)

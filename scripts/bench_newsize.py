@@ -8,7 +8,7 @@ run on it. Printed per source and factor: boards that place, boards routed compl
 violation, the mean board area, and the mean area over the parts' own rectangles.
 
     python scripts/bench_newsize.py                         # factors 1.5 2 2.5, 3 seeds a source
-    python scripts/bench_newsize.py --factors 1.25 1.5 2 3 --seeds 5
+    python scripts/bench_newsize.py --factors 1.25 1.5 2 3 --seeds 5 -v
 """
 from __future__ import annotations
 
@@ -68,12 +68,17 @@ def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--factors", type=float, nargs="+", default=[1.5, 2.0, 2.5])
     ap.add_argument("--seeds", type=int, default=3)
+    ap.add_argument("-v", "--verbose", action="store_true", help="a line per trial as it ends")
     args = ap.parse_args(argv)
     print(f"routing factor in use: {ROUTING_FACTOR}")
     rows: dict[tuple[str, float], list] = {}
     for label, board in sources(args.seeds):
         for f in args.factors:
-            rows.setdefault((label, f), []).append(trial(board, f))
+            r = trial(board, f)
+            rows.setdefault((label, f), []).append(r)
+            if args.verbose:
+                print(f"  {label}, factor {f:g}: placed {r[0]}, clean {r[1]}, {r[2]:.0f} mm^2, {r[4]:.1f} s",
+                      flush=True)
     print(f"{'source':<34} {'factor':>6} {'placed':>7} {'clean':>6} {'mm^2':>7} {'board/parts':>12} {'s':>6}")
     for (label, f), rs in rows.items():
         n = len(rs)
