@@ -140,10 +140,10 @@ def cmd_render(args) -> int:
             violations = check(board)
         if suffix == ".html":
             from .page import write_page
-            write_page(board, out, violations=violations)
+            write_page(board, out, violations=violations, labels=args.labels)
         else:
             from .draw import render
-            render(board, out, violations=violations)
+            render(board, out, violations=violations, labels=args.labels)
     except ImportError:
         _not_ready("render")
     if not args.quiet:
@@ -263,7 +263,9 @@ def build_parser() -> argparse.ArgumentParser:
     sp = add("render", "draw the board: .png, .svg or an interactive .html page", cmd_render)
     sp.add_argument("board", help="board file")
     sp.add_argument("-o", "--output", required=True, metavar="FILE", help="picture to write")
-    sp.add_argument("--check", action="store_true", help="mark the check's violations")
+    sp.add_argument("--check", action="store_true", help="mark the check's violations, numbered and listed")
+    sp.add_argument("--labels", choices=("nets",), default=None,
+                    help="nets: write net names along long traces too (refs are always written)")
 
     sp = add("pour", "fill the board's copper pours ([[pours]]) against its copper", cmd_pour)
     sp.add_argument("board", help="board file")

@@ -201,8 +201,10 @@ def _patches(geoms):
     return out
 
 
-def _figure_layout(board: Board):
-    """Figure size (w, h) in inches, the axes rectangle in figure fractions, and the data limits."""
+def _figure_layout(board: Board, extra_in: float = 0.0):
+    """Figure size (w, h) in inches, the axes rectangle in figure fractions, and the data limits.
+
+    `extra_in` inches are added at the bottom (the numbered list of violations)."""
     xs = [p[0] for p in board.outline]
     ys = [p[1] for p in board.outline]
     x0, x1, y0, y1 = min(xs), max(xs), min(ys), max(ys)
@@ -212,20 +214,37 @@ def _figure_layout(board: Board):
     scale = _BOARD_INCHES / max(dw, dh)
     aw, ah = dw * scale, dh * scale
     fw = max(aw + 2 * _MARGIN_IN, 6.0)
-    fh = ah + _TITLE_IN + _LEGEND_IN + _MARGIN_IN
-    rect = ((fw - aw) / 2 / fw, (_LEGEND_IN + _MARGIN_IN / 2) / fh, aw / fw, ah / fh)
+    fh = ah + _TITLE_IN + _LEGEND_IN + _MARGIN_IN + extra_in
+    rect = ((fw - aw) / 2 / fw, (_LEGEND_IN + _MARGIN_IN / 2 + extra_in) / fh, aw / fw, ah / fh)
     return (fw, fh), rect, lim, scale
 
 
-def board_figure(board: Board, violations: Optional[Sequence] = None, dpi: float = 150):
+#: Size of the refs, violation numbers and net names in points (readable at the PNG's 150 dpi).
+REF_PT = 6.5
+#: Most violations listed under the picture; the rest are counted.
+_LIST_MAX = 30
+_LIST_LINE_IN = 0.13
+
+
+def board_figure(board: Board, violations: Optional[Sequence] = None, dpi: float = 150,
+                 labels: Optional[str] = None):
     """The board drawn on a new matplotlib Figure (Agg canvas); draws nothing to disk.
 
     Parameters
     ----------
     board : Board
     violations : list of router.check.Violation, optional
-        Drawn as markers at their ``at`` (those without a place are counted in the title).
+        Drawn as markers at their ``at``, each numbered; the numbers are listed with the rule and
+        message under the picture (those without a place are counted in the title).
     dpi : float
+    labels : None or "nets"
+        "nets": net names along long trace segments too.
+
+    Notes
+    -----
+    Refs, violation numbers and net names are placed by :mod:`router.labels`: never over a pad,
+    trace, via or another label where a free spot exists around the part. Millimetre ticks run
+    along the bottom and left edges (marks on all four).
 
     Returns
     -------
@@ -242,14 +261,17 @@ def board_figure(board: Board, violations: Optional[Sequence] = None, dpi: float
     from .geometry import (body_rect, outline_polygon, pad_shape, placed_holes, placed_pads,
                            ring_shape, trace_shape)
 
-    size, rect, lim, scale = _figure_layout(board)
+    placed_v = [v for v in (violations or []) if getattr(v, "at", None) is not None]
+    listed = min(len(placed_v), _LIST_MAX) + (1 if len(placed_v) > _LIST_MAX else 0)
+    extra_in = listed * _LIST_LINE_IN + (0.1 if listed else 0.0)
+    size, rect, lim, scale = _figure_layout(board, extra_in)
     fig = Figure(figsize=size, dpi=dpi, facecolor=STYLE["paper"])
     FigureCanvasAgg(fig)
     ax = fig.add_axes(rect)
     ax.set_xlim(lim[0], lim[1])
     ax.set_ylim(lim[2], lim[3])
     ax.set_aspect("equal", adjustable="box")
-    ax.set_axis_off()
+    _mm_ticks(ax, lim)
     pt_per_mm = scale * 72.0
 
     # the board and its outline
@@ -270,10 +292,6 @@ def board_figure(board: Board, violations: Optional[Sequence] = None, dpi: float
         ax.add_patch(Rectangle((bx0, by0), bx1 - bx0, by1 - by0, facecolor="none",
                                edgecolor=STYLE["body"], linewidth=0.6,
                                linestyle=(0, (3, 2)) if part.side == "bottom" else "solid", zorder=2))
-        bw, bh = bx1 - bx0, by1 - by0
-        fs = min(9.0, max(3.5, 0.45 * min(max(bw, bh) / max(len(part.ref), 1) * 1.6, min(bw, bh)) * pt_per_mm))
-        ax.text(part.at[0], part.at[1], part.ref, fontsize=fs, ha="center", va="center",
-                rotation=90 if bh > bw * 1.5 else 0, color=STYLE["body"], zorder=10, gid=f"ref-{part.ref}")
 
     # pours: filled and semi-transparent, under the traces, thermal gaps showing (router.pour)
     if board.pours:
@@ -343,15 +361,22 @@ def board_figure(board: Board, violations: Optional[Sequence] = None, dpi: float
         lc.set_gid("unrouted")
         ax.add_collection(lc)
 
-    # violations
-    placed_v = [v for v in (violations or []) if getattr(v, "at", None) is not None]
+    # violations: markers, numbered
     if placed_v:
         ax.scatter([v.at[0] for v in placed_v], [v.at[1] for v in placed_v], marker="X", s=70,
                    c=STYLE["violation"], edgecolors=STYLE["outline"], linewidths=0.6, zorder=11,
                    gid="violations")
-        for v in placed_v:
-            ax.annotate(v.rule, v.at, xytext=(4, 4), textcoords="offset points", fontsize=6,
-                        color=STYLE["violation"], zorder=11)
+
+    # words: refs beside their parts, violation numbers, net names (router.labels)
+    _draw_labels(ax, board, placed_v, lim, REF_PT / pt_per_mm, labels)
+    if placed_v:
+        rows = [f"{k}  {v.rule}: {v.message}" for k, v in enumerate(placed_v[:_LIST_MAX], start=1)]
+        if len(placed_v) > _LIST_MAX:
+            rows.append(f"... and {len(placed_v) - _LIST_MAX} more (elbowroom check lists them all)")
+        for k, row in enumerate(rows):
+            fig.text(_MARGIN_IN / size[0], (extra_in - 0.05 - (k + 0.5) * _LIST_LINE_IN) / size[1],
+                     row if len(row) <= 150 else row[:147] + "...", ha="left", va="center", fontsize=6.5,
+                     color=STYLE["violation"] if k < _LIST_MAX else STYLE["body"], gid=f"violation-row-{k + 1}")
 
     # title and legend
     n_routed = sum(1 for n in board.nets if len(groups.get(n.name, [])) <= 1)
@@ -382,8 +407,53 @@ def board_figure(board: Board, violations: Optional[Sequence] = None, dpi: float
                               markerfacecolor=STYLE["violation"], markeredgecolor=STYLE["outline"],
                               label="violation"))
     fig.legend(handles=handles, loc="lower center", ncol=min(len(handles), 4), frameon=False, fontsize=8,
-               bbox_to_anchor=(0.5, _MARGIN_IN / 4 / size[1]))
+               bbox_to_anchor=(0.5, (_MARGIN_IN / 4 + extra_in) / size[1]))
     return fig, ax
+
+
+def _mm_ticks(ax, lim) -> None:
+    """Millimetre ticks along the board's edges: labelled at the bottom and left, marked all round."""
+    from matplotlib.ticker import MultipleLocator
+    span = max(lim[1] - lim[0], lim[3] - lim[2])
+    step = next(s for s in (1, 2, 5, 10, 20, 50, 100, 200, 500, 1e9) if span / s <= 12)
+    ax.set_facecolor(STYLE["paper"])
+    for spine in ax.spines.values():
+        spine.set_visible(False)
+    for axis in (ax.xaxis, ax.yaxis):
+        axis.set_major_locator(MultipleLocator(step))
+        axis.set_minor_locator(MultipleLocator(step / 5 if step >= 5 else step / 2))
+    ax.tick_params(which="both", direction="out", top=True, right=True, labelsize=6, colors=STYLE["body"],
+                   length=3)
+    ax.tick_params(which="minor", length=1.5)
+    ax.set_xlabel("mm", fontsize=6, labelpad=1, color=STYLE["body"])
+
+
+def _draw_labels(ax, board: Board, placed_v, lim, height: float, labels: Optional[str]) -> list:
+    """Refs, violation numbers and (with labels="nets") net names, placed by router.labels."""
+    from .labels import Placer, copper_obstacles, net_labels, ref_labels, violation_labels
+    limits = (lim[0], lim[2], lim[1], lim[3])
+    placer = Placer(copper_obstacles(board), limits)
+    out = ref_labels(board, height, limits, placer)
+    for lab in out:
+        ax.text(lab.x, lab.y, lab.text, fontsize=REF_PT, ha="center", va="center", color=STYLE["body"],
+                zorder=10, gid=f"ref-{lab.owner}")
+        if lab.leader:
+            ax.plot(*zip(*lab.leader), color=STYLE["body"], linewidth=0.4, zorder=9.5)
+    vl = violation_labels(placed_v, height, limits, placer)
+    for lab in vl:
+        ax.text(lab.x, lab.y, lab.text, fontsize=REF_PT, ha="center", va="center", color=STYLE["violation"],
+                fontweight="bold", zorder=12, gid=f"violation-{lab.owner}")
+        if lab.leader:
+            ax.plot(*zip(*lab.leader), color=STYLE["violation"], linewidth=0.5, zorder=11.5)
+    out += vl
+    if labels == "nets":
+        nl = net_labels(board, height, limits, placer)
+        for lab in nl:
+            ax.text(lab.x, lab.y, lab.text, fontsize=REF_PT * 0.9, ha="center", va="center",
+                    rotation=lab.rotation, color=OKABE_ITO["black"], zorder=10.5, gid=f"net-{lab.owner}",
+                    bbox=dict(boxstyle="square,pad=0.1", facecolor=STYLE["board"], edgecolor="none", alpha=0.8))
+        out += nl
+    return out
 
 
 def _format_of(path: Path, entry: str = "-o") -> str:
@@ -402,7 +472,8 @@ def _save(fig, path: Path, fmt: str) -> None:
     write_atomic(path, buf.getvalue())
 
 
-def render(board: Board, path, violations: Optional[Sequence] = None, dpi: float = 150) -> Path:
+def render(board: Board, path, violations: Optional[Sequence] = None, dpi: float = 150,
+           labels: Optional[str] = None) -> Path:
     """Draw `board` into a ``.png`` or ``.svg`` file, written atomically.
 
     Parameters
@@ -414,6 +485,8 @@ def render(board: Board, path, violations: Optional[Sequence] = None, dpi: float
         Marked where they are.
     dpi : float
         Pixels per inch of a PNG (the board's longer side is 8 inches).
+    labels : None or "nets"
+        "nets": write net names along long traces.
 
     Returns
     -------
@@ -427,7 +500,7 @@ def render(board: Board, path, violations: Optional[Sequence] = None, dpi: float
     """
     path = Path(path)
     fmt = _format_of(path)
-    fig, _ = board_figure(board, violations, dpi=dpi)
+    fig, _ = board_figure(board, violations, dpi=dpi, labels=labels)
     _save(fig, path, fmt)
     return path
 
