@@ -50,6 +50,10 @@ __all__ = ["PourResult", "pour_board", "fill_pour", "pour_clearance", "thermal_o
 QUAD_SEGS = 8
 #: Grow factor that makes a buffered polygon circumscribe its true circle.
 _CIRCUMSCRIBE = 1.0 / math.cos(math.pi / (4 * QUAD_SEGS))
+#: GEOS simplifies a polygon's rings by 1 % of the buffer distance before it offsets them
+#: (its default simplify factor, which shapely does not expose), so a buffer may fall short
+#: by that much where a ring has many close corners (another pour's arcs): grown by 1.1 % more.
+_SIMPLIFY = 0.011
 #: Safety margin on every grown distance, in mm: covers the 1 nm rounding of the written
 #: coordinates (:func:`router.units.snap`) with room to spare.
 _MARGIN = 1e-5
@@ -121,7 +125,7 @@ def _grown(cores, amounts) -> list:
     """Buffers of `cores` by `amounts` (arrays), circumscribing the true offset."""
     if len(cores) == 0:
         return []
-    dist = np.asarray(amounts, dtype=float) * _CIRCUMSCRIBE + _MARGIN
+    dist = np.asarray(amounts, dtype=float) * (_CIRCUMSCRIBE + _SIMPLIFY) + _MARGIN
     return list(shapely.buffer(np.asarray(cores, dtype=object), dist, quad_segs=QUAD_SEGS))
 
 
@@ -190,7 +194,7 @@ def fill_pour(board: Board, k: int, items: list[CopperItem], done: dict) -> tupl
     layer, net = pour.layer, pour.net
     rules = board.rules
     outline = outline_polygon(board)
-    area0 = outline.buffer(-(rules.edge_clearance * _CIRCUMSCRIBE + _MARGIN), quad_segs=QUAD_SEGS)
+    area0 = outline.buffer(-(rules.edge_clearance * (_CIRCUMSCRIBE + _SIMPLIFY) + _MARGIN), quad_segs=QUAD_SEGS)
     if pour.polygon is not None:
         area0 = area0.intersection(Polygon(pour.polygon))
     spokes_n, tw, gap = thermal_of(board, pour)
@@ -227,7 +231,7 @@ def fill_pour(board: Board, k: int, items: list[CopperItem], done: dict) -> tupl
         if other.layer != layer or other.net == net or not polys:
             continue
         c = pour_clearance(board, pour, other.net)
-        cut += list(shapely.buffer(np.asarray(polys, dtype=object), c * _CIRCUMSCRIBE + _MARGIN,
+        cut += list(shapely.buffer(np.asarray(polys, dtype=object), c * (_CIRCUMSCRIBE + _SIMPLIFY) + _MARGIN,
                                    quad_segs=QUAD_SEGS))
     base = area0.difference(shapely.union_all(cut)) if cut else area0
 
@@ -256,7 +260,7 @@ def fill_pour(board: Board, k: int, items: list[CopperItem], done: dict) -> tupl
             if outer.intersection(fill).area < 0.5 * tw * tw:
                 blocked.append(name)
                 continue
-            kept.append(outer)          # from the pad's edge: no pour copper over the pad itself
+            kept.append(sp)             # from the pad centre: copper over its own pad is harmless, and a spoke cut at the pad leaves slivers
             got += 1
         if not got and not fill.intersects(pad_poly):
             why = "other copper or the edge leaves no room for a spoke" if blocked else "no fill near it"
@@ -374,11 +378,13 @@ def neck_findings(board: Board, min_width: Optional[float] = None) -> list[tuple
                 continue
             opened = eroded.buffer(r, quad_segs=QUAD_SEGS)
             for s in _pieces(poly.difference(opened)):
-                pts = shapely.points(np.asarray(s.exterior.coords))
+                # the boundary densified: a neck's corners sit on the opened copper, its middle does not
+                ring = shapely.segmentize(s.exterior, max_segment_length=r / 4)
+                pts = shapely.points(np.asarray(ring.coords))
                 d = shapely.distance(pts, opened)
                 i = int(np.argmax(d))
                 if d[i] > 0.5 * r:
-                    x, y = s.exterior.coords[i]
+                    x, y = ring.coords[i]
                     out.append((k, (x, y), "narrower than the minimum width"))
     return out
 

@@ -32,3 +32,17 @@ def test_demo_runs(tmp_path, capsys):
     assert main(["demo", "-o", str(tmp_path / "d")]) == 0
     assert (tmp_path / "d" / "demo.toml").exists()
     assert "Caution" in capsys.readouterr().out
+
+
+def test_demo_board_routes_and_pours_with_no_violation(tmp_path, capsys):
+    # the demo a new user runs first must come out clean: every net routed, the pour included
+    from router.boardfile import load_board
+    from router.check import check
+    from router.connectivity import routed
+    assert main(["demo", "-o", str(tmp_path / "d")]) == 0
+    said = capsys.readouterr().out
+    assert "check: 0 violations" in said
+    b = load_board(tmp_path / "d" / "routed.toml")
+    assert b.pours and b.pours[0].filled
+    assert check(b) == []
+    assert all(routed(b).values())
