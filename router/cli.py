@@ -71,6 +71,9 @@ def cmd_route(args) -> int:
         figs["totals"] = dict(figs["totals"], seconds=round(result.seconds, 3))
         if result.failed:
             figs["failed"] = [{"net": n, "reason": r} for n, r in result.failed.items()]
+        if result.poured:
+            figs["poured"] = [{"net": n, "layer": la, "pads_joined": j, "not_joined": m}
+                              for n, la, j, m in result.poured]
         print(json.dumps(figs, indent=2))
     elif not args.quiet:
         t = result.figures["totals"]
@@ -78,6 +81,11 @@ def cmd_route(args) -> int:
               f"{t['bends']} bends, {t['length']:.1f} mm, {t['vias']} vias, {t['jumpers']} jumpers")
         for net, reason in result.failed.items():
             print(f"  not routed: {net}: {reason}")
+        for net, layer, joined, missed in result.poured:      # router.pour: which pads need traces, and why
+            print(f"  pour of {net} on {layer} joins {joined} of {joined + len(missed)} pads"
+                  + (":" if missed else ""))
+            for pad, why in missed.items():
+                print(f"    {pad} is joined by traces or vias instead: {why}")
         print(f"wrote {args.output}")
         if needs_caution(result.board):
             print(CAUTION)

@@ -62,6 +62,7 @@ class RouteResult:
     seconds: float = 0.0
     passes: int = 0
     shared_left: int = 0
+    poured: list = field(default_factory=list)     # per pour: (net, layer, pads joined, {pad: why not})
 
     def __iter__(self):
         yield self.board

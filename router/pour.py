@@ -43,7 +43,7 @@ from .model import Board, Pour
 from .rules import required_clearance
 from .units import TOL
 
-__all__ = ["PourResult", "pour_board", "fill_pour", "pour_clearance", "thermal_of", "copper_digest",
+__all__ = ["PourResult", "pour_board", "pour_summary", "fill_pour", "pour_clearance", "thermal_of", "copper_digest",
            "stale_pours", "pour_geometry", "poured_area", "neck_findings", "QUAD_SEGS"]
 
 #: Segments per quarter circle in the buffers of the pour (the check measures exactly).
@@ -453,10 +453,22 @@ def after_route(result, **settings):
         why = f" (the pour does not reach {', '.join(sorted(pads)[:4])})" if pads else ""
         failed[net] = f"the final pour leaves it open{why}; left as routed so far"
     result.board = b
+    result.poured = pour_summary(poured)
     result.figures = _figures(b)
     result.seconds += time.perf_counter() - t0
     result.failed = {n.name: failed[n.name] for n in b.nets if n.name in failed}
     return result
+
+
+def pour_summary(result: PourResult) -> list[tuple[str, str, int, dict]]:
+    """Per pour: (net, layer, how many of the net's pads it joins, {pad: why it does not})."""
+    out = []
+    pads = placed_pads(result.board)
+    for k, p in enumerate(result.board.pours):
+        missed = result.unreached.get(k, {})
+        total = sum(1 for pad in pads if pad.net == p.net)
+        out.append((p.net, p.layer, total - len(missed), dict(sorted(missed.items()))))
+    return out
 
 
 def format_pour(result: PourResult) -> str:

@@ -375,3 +375,21 @@ def test_gerber_regions_read_back_by_gerbonara_match_the_fill_area(tmp_path):
     read = shapely.union_all(dark).difference(shapely.union_all(clear)) if clear else shapely.union_all(dark)
     want = pour_geometry(b.pours[0]).area
     assert read.area == pytest.approx(want, rel=1e-3)    # the issue asks 0.1 %
+
+
+def test_route_says_which_pads_the_pour_does_not_join_and_why(tmp_path, capsys):
+    text = TWO_LAYER.replace('''[[parts]]
+ref = "J1"''', '''[[parts]]
+ref = "C1"
+footprint = "chip-0805"
+at = [25.0, 5.0]
+[[parts]]
+ref = "J1"''').replace('pins = ["U1.4", "J1.2", "U1.5"]', 'pins = ["U1.4", "J1.2", "U1.5", "C1.2"]')
+    src = tmp_path / "b.toml"
+    src.write_text(text)
+    assert main(["route", str(src), "-o", str(tmp_path / "r.toml")]) in (0, 1)
+    out = capsys.readouterr().out
+    assert "pour of GND on bottom joins 3 of 4 pads" in out
+    assert "C1.2 is joined by traces or vias instead: a surface pad on top" in out
+    b = load_board(tmp_path / "r.toml")
+    assert routed(b)["GND"] and check(b) == []
