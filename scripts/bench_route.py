@@ -4,8 +4,9 @@ Usage: python scripts/bench_route.py [--quick] [--layers 2] [--seeds 1]
 
 For each board: nets, grid cells (layers x nx x ny), nets routed, violations found by
 the independent exact check (router.check, shapely geometry, not the router's grid),
-bends against the per-net path bound (a two-pad net on one layer that shares no x or y
-range must bend at least once), length against the length lower bound, seconds, and
+bends (turns at vias and jumper ends included) against the per-net path bound (a two-pad
+net whose pads share no x or y range must bend at least once), vias and jumpers, length
+against the length lower bound, seconds, and
 seconds per million (nets x cells) as a ratio to the smallest board of the same run:
 near 1 everywhere means time grows linearly in nets x cells. The last columns give the
 process's peak resident memory so far (resource.getrusage, MB) and, with ``--trace-memory``,
@@ -45,11 +46,16 @@ def main(argv=None) -> int:
     ap.add_argument("--offgrid", action="store_true", help="parts off the routing grid")
     ap.add_argument("--big", action="store_true", help="also a 160 x 100 mm board at a 0.1 mm grid (3.2 M cells)")
     ap.add_argument("--trace-memory", action="store_true", help="peak allocations per board (tracemalloc; slower)")
+    ap.add_argument("--bend-penalty", type=float, default=None, metavar="B",
+                    help="cost of one bend in mm of trace (default: route's default)")
+    ap.add_argument("--route-seed", type=int, default=None, metavar="S",
+                    help="route every board with this seed (default: the board's seed)")
     args = ap.parse_args(argv)
     sizes = [(n, s, 0.25) for n, s in (SIZES[:3] if args.quick else SIZES)]
     if args.big:
         sizes.append((60, (160.0, 100.0), 0.1))
     print(f"{'nets':>5} {'size mm':>11} {'cells':>9} {'routed':>8} {'viol':>5} {'bends':>6} {'b.bound':>7} "
+          f"{'vias':>5} {'jumps':>5} "
           f"{'len/bound':>9} {'passes':>6} {'seconds':>8} {'s/(n*c) ratio':>13} {'rss MB':>7} {'peak MB':>7}")
     route_board(generate_board(99, nets=5, size=(20.0, 15.0), layers=args.layers))   # compile and load the kernel first
     ref = None
@@ -63,7 +69,8 @@ def main(argv=None) -> int:
             if args.trace_memory:
                 tracemalloc.start()
             t0 = time.perf_counter()
-            r = route_board(b, seed=seed)
+            r = route_board(b, seed=seed if args.route_seed is None else args.route_seed,
+                            bend_penalty=args.bend_penalty)
             dt = time.perf_counter() - t0
             peak = "-"
             if args.trace_memory:
@@ -78,7 +85,7 @@ def main(argv=None) -> int:
             worst += len(viol) + (t["nets"] - t["routed"])
             lr = t["length"] / t["length_lower_bound"] if t["length_lower_bound"] else float("nan")
             print(f"{len(b.nets):>5} {size[0]:>5.0f}x{size[1]:<5.0f} {cells:>9} {t['routed']:>4}/{t['nets']:<3} "
-                  f"{len(viol):>5} {t['bends']:>6} {bound:>7} {lr:>9.3f} {r.passes:>6} {dt:>8.2f} {per / ref:>13.2f} "
+                  f"{len(viol):>5} {t['bends']:>6} {bound:>7} {t['vias']:>5} {t['jumpers']:>5} {lr:>9.3f} {r.passes:>6} {dt:>8.2f} {per / ref:>13.2f} "
                   f"{rss:>7.0f} {peak:>7}",
                   flush=True)
             for net, why in r.failed.items():
