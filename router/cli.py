@@ -242,11 +242,15 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("board", help="board file")
     sp.add_argument("-o", "--output", required=True, metavar="OUT", help="routed board file to write")
     sp.add_argument("--bend-penalty", type=float, default=None, metavar="B",
-                    help="cost of one bend, in mm of trace (default 1.0)")
+                    help="cost of one bend, in mm of trace (default 1.0); a turn at a via or a "
+                         "jumper end is a bend too")
     sp.add_argument("--via-penalty", type=float, default=None, metavar="V",
                     help="cost of one via, in mm of trace (default 2.0; on one-layer boards it prices "
                          "jumpers, whose default is 5.0)")
-    sp.add_argument("--seed", type=int, default=0, help="random seed for the net order (default 0)")
+    sp.add_argument("--seed", type=int, default=0,
+                    help="chooses among routings: the net order of the first pass and of rip-up, and "
+                         "which of equally cheap paths is taken; the same seed gives the same file "
+                         "(default 0: shortest nets first)")
     sp.add_argument("--reroute", action="store_true", help="remove the copper that is not fixed first")
     sp.add_argument("--passes", type=int, default=None, metavar="N",
                     help="most negotiated-congestion passes (default 16)")

@@ -90,6 +90,7 @@ class _Negotiation:
         self.hist = np.zeros((grid.L, grid.ny, grid.nx), np.int64)
         self.present = 0.5
         self.blind: dict[str, str] = {}            # nets with a pad that no exit reaches (fixed copper only)
+        self.ties: dict[str, tuple] = {}           # net -> the order its searches try headings in (the seed's ties)
 
     def width(self, net: str) -> float:
         return self.grid.profile_of(net).width
@@ -165,7 +166,7 @@ class _Negotiation:
             others = grid.obstacle_arrays([ob for n, items in sorted(self.soft.items()) if n != net
                                            for ob in items], prof)
         r = route_net(grid, net, space, self.groups[net], bend=self.bend, via=self.via, jump=self.jump,
-                      others=others)
+                      others=others, order=self.ties.get(net, (0, 1, 2, 3)))
         if r.blind:
             self.blind[net] = r.failed
         return r
@@ -236,7 +237,11 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
         :data:`DEFAULT_JUMP`; on a one-layer board ``via_penalty`` prices jumpers when
         ``jumper_penalty`` is not given).
     seed : int
-        Breaks ties in the net order (nets go shortest first); the same seed gives the same board.
+        Chooses among routings: with 0, nets go shortest first, are ripped up in that order, and
+        the search tries steps east, north, west, south; any other seed draws the first pass's net
+        order (each net's half-perimeter scaled by a random factor), the rip-up order of every
+        later pass and of the repair, and each net's order of trying steps (which of the paths of
+        equal cost is taken). The same seed gives the same board, byte for byte.
     reroute : bool
         Remove every trace that is not ``fixed``, and every via and jumper, first.
     progress : bool
@@ -322,8 +327,14 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
     sizes = [_hpwl([p for g in groups[n] for p in g]) for n in nets]
     if attempt:
         sizes = [s * math.exp(rng.normal(0.0, 0.7)) for s in sizes]
+    elif seed:
+        sizes = [s * math.exp(rng.normal(0.0, 0.35)) for s in sizes]
     order = [n for _, _, n in sorted(zip(sizes, ties, nets))]
     neg = _Negotiation(b, grid, order, groups, bend, via, jump)
+    if seed:
+        headings = [tuple(int(h) for h in rng.permutation(4)) for _ in nets]
+        neg.ties = {n: headings[k] for k, n in enumerate(nets)}
+    shuffle = (lambda names: [names[k] for k in rng.permutation(len(names))]) if seed else (lambda names: names)
     bar = None
     if progress:
         from tqdm import tqdm
@@ -352,6 +363,7 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
                 neg.hist[c[:, 0], c[:, 1], c[:, 2]] += STEP
         neg.present *= 1.8
         todo = list(order) if every_net else [n for n in order if n in shared or neg.routes[n].failed]
+        todo = shuffle(todo)             # the rip-up order of this pass (the seed's; 0: the first pass's)
     if bar is not None:
         bar.close()
     shared_left = len(shared)
@@ -374,7 +386,7 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
         else:
             neg.lay(net, r)
     if lost:
-        _repair(neg, lost, rounds=4 * len(lost) + 8)
+        _repair(neg, lost, rounds=4 * len(lost) + 8, order=shuffle(list(lost)))
     if polish:
         _polish(neg, order)
     _write(b, grid, neg, order)
@@ -382,18 +394,33 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
     return b, lost, npass, shared_left
 
 
-def _pure_cost(neg: _Negotiation, r: NetRoute) -> int:
-    """A route's cost without congestion: steps, bends (corners of two unit steps, not at a via), vias, jumpers."""
-    inc = defaultdict(list)
-    for a, c in r.edges:
-        d = (c[1] - a[1], c[2] - a[2])
-        inc[a].append(d)
-        inc[c].append(d)
+def _route_bends(grid: RoutingGrid, r: NetRoute) -> int:
+    """Bends of a route's grid copper as the search prices them and the contract counts them: a
+    grid point where exactly two arms meet at a right angle, the arms of both layers counted
+    together at a via and a jumper wire counted as an arm at its ends (stubs left out)."""
+    arms: dict = defaultdict(list)
     vias = set(r.vias)
-    bends = sum(1 for p, ds in inc.items() if len(ds) == 2 and ds[0] != ds[1] and (p[1], p[2]) not in vias)
+    for a, c in r.edges:
+        d = (c[1] - a[1], c[2] - a[2])            # (dj, di) of a unit step from a to c
+        for p, arm in ((a, d), (c, (-d[0], -d[1]))):
+            key = (p[1], p[2]) if (p[1], p[2]) in vias else p
+            arms[key].append(arm)
+    g = grid.pitch
+    for a, b in r.jumpers:
+        ja, ia = int(round(a[1] / g)) - grid.j0, int(round(a[0] / g)) - grid.i0
+        jb, ib = int(round(b[1] / g)) - grid.j0, int(round(b[0] / g)) - grid.i0
+        sj, si = int(np.sign(jb - ja)), int(np.sign(ib - ia))
+        arms[(0, ja, ia)].append((sj, si))
+        arms[(0, jb, ib)].append((-sj, -si))
+    return sum(1 for ds in arms.values()
+               if len(ds) == 2 and (ds[0][0] == 0) != (ds[1][0] == 0))
+
+
+def _pure_cost(neg: _Negotiation, r: NetRoute) -> int:
+    """A route's cost without congestion: steps, bends (:func:`_route_bends`), vias, jumpers."""
     jump_len = sum(abs(a[0] - b[0]) + abs(a[1] - b[1]) for a, b in r.jumpers) / neg.grid.pitch
-    return (STEP * len(r.edges) + neg.bend * bends + neg.via * len(r.vias) + neg.jump * len(r.jumpers)
-            + int(STEP * jump_len))
+    return (STEP * len(r.edges) + neg.bend * _route_bends(neg.grid, r) + neg.via * len(r.vias)
+            + neg.jump * len(r.jumpers) + int(STEP * jump_len))
 
 
 def _polish(neg: _Negotiation, order: list[str]) -> None:
@@ -408,7 +435,7 @@ def _polish(neg: _Negotiation, order: list[str]) -> None:
         neg.lay(net, keep)
 
 
-def _repair(neg: _Negotiation, lost: dict, rounds: int) -> None:
+def _repair(neg: _Negotiation, lost: dict, rounds: int, order: Optional[list] = None) -> None:
     """Rip-up and reroute for the nets still unrouted: each takes its way through the others
     (at congestion cost), the nets it then shares cells with are ripped up and rerouted with
     walls, and whatever fails queues up again. The best state seen (fewest unrouted) is kept."""
@@ -416,7 +443,7 @@ def _repair(neg: _Negotiation, lost: dict, rounds: int) -> None:
         return dict(neg.routes), dict(lost)
 
     best = (len(lost), snapshot())
-    queue = list(lost)
+    queue = list(lost) if order is None else list(order)
     hopeless = set()
     for _ in range(rounds):
         if not queue:

@@ -301,7 +301,7 @@ def _lay_path(grid: RoutingGrid, space: SearchSpace, route: NetRoute, cells: np.
 
 
 def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[list], *,
-              bend: int, via: int, jump: int, others=None) -> NetRoute:
+              bend: int, via: int, jump: int, others=None, order=(0, 1, 2, 3)) -> NetRoute:
     """Grow the rectilinear Steiner tree of one net.
 
     Parameters
@@ -317,6 +317,8 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
     others : tuple of arrays, optional
         Copper the router laid for other nets (:meth:`RoutingGrid.obstacle_arrays`): stubs,
         which leave the grid, must keep clear of it too (used when other nets are walls).
+    order : sequence of the headings 0..3
+        The order the search tries steps in: it picks among paths of equal cost (the seed's ties).
 
     Returns
     -------
@@ -358,7 +360,7 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
         sources = np.array(sorted(tree), dtype=np.int64)
         path = None
         for _ in range(32):
-            path = find_path(space, sources, targets, bend=bend, via=via, jump=jump)
+            path = find_path(space, sources, targets, bend=bend, via=via, jump=jump, order=order)
             if path is None:
                 break
             clash = _hole_clash(grid, path.cells)

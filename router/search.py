@@ -5,18 +5,25 @@ cells of one pin, minimising
 
     cost = STEP * steps + bend * bends + via * vias + jump * jumpers + sum(extra)
 
-where a *bend* is a change of direction between two grid steps at a cell, a
-*via* is a change of layer at a cell, a *jumper* (one-layer boards) is a straight
-wire over ``k`` cells, and ``extra`` is a per-cell cost of entering a cell (the
-negotiated-congestion terms). A turn at a via or at a jumper end is free, as the
-contract does not count a corner inside a via or pad as a bend.
+where a *via* is a change of layer at a cell, a *jumper* (one-layer boards) is a
+straight wire over ``k`` cells, ``extra`` is a per-cell cost of entering a cell (the
+negotiated-congestion terms), and a *bend* is a change of heading: between two grid
+steps at a cell, across a via (the heading is kept through the layer change, so a
+path that arrives going east and leaves the other layer going north pays the via and
+a bend), and at either end of a jumper (the wire is one more heading). This is the
+contract's bend, which counts a turn at a via or a jumper end, so vias are spent on
+crossings, not on hiding corners. A path may not reverse its heading (after a via or
+a jumper neither), and a jumper may not leave straight from another's landing.
 
 The public wrapper is :func:`find_path`; the engine ``_astar`` is a
 numba-compiled A* with a bucket queue (Dial), integer costs, reusable work arrays stamped with a search
 number (so a search costs what it explores, not the grid size), and an
 admissible heuristic: the Manhattan gap to the targets' box, the turns still
-needed (each at least ``min(bend, via)`` since a via can hide a corner), and a
-via when the current layer holds no target.
+needed (each a bend), and a via when the current layer holds no target.
+
+States are (cell, layer, heading): headings 0..3 (east, north, west, south), 4 for
+none (a source), and on boards with jumpers 5..8 for "landed from a jumper heading
+0..3" (from there no second jumper may leave).
 
 References
 ----------
@@ -38,11 +45,18 @@ __all__ = ["STEP", "SearchSpace", "Path", "find_path", "reference_graph", "path_
 #: Cost of one grid step; penalties are in the same unit (a bend of B mm is round(STEP * B / pitch)).
 STEP = 100
 
-# directions: 0 east (+i), 1 north (+j), 2 west (-i), 3 south (-j); 4 = none (at a source, after a via or jumper)
+# headings: 0 east (+i), 1 north (+j), 2 west (-i), 3 south (-j); 4 = none (a source);
+# 5..8 = landed from a jumper heading 0..3 (only on boards with jumpers)
 _DI = np.array([1, 0, -1, 0], dtype=np.int64)
 _DJ = np.array([0, 1, 0, -1], dtype=np.int64)
 NONE = 4
-NDIR = 5
+NDIR = 5            # states per cell and layer without jumpers
+NDIR_JUMP = 9       # with jumpers
+
+
+def _heading(d: int) -> int:
+    """The heading of a state's direction code (a landing from a jumper keeps the wire's)."""
+    return d - 5 if d >= 5 else d
 
 
 @dataclass
@@ -215,24 +229,20 @@ def _heuristic(l, j, i, d, tx0, ty0, tx1, ty1, tlayer, step, turn, via_need_cost
             turns = nneed
     h = step * (gx + gy)
     if tlayer[l] == 0:
-        # a via is needed anyway, and it can absorb one of the turns
-        h += via_need_cost
-        if turns > 0:
-            turns -= 1
+        h += via_need_cost          # a via is needed anyway (it keeps the heading: no turn absorbed)
     return h + turn * turns
 
 
 @njit(cache=True)
 def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_rows, wire_cols, jump_cells,
-           sources, tmask, tx0, ty0, tx1, ty1, tlayer, step, bend, via, jump,
+           sources, tmask, tx0, ty0, tx1, ty1, tlayer, step, bend, via, jump, order, nds,
            stamp_of, gbest, parent, stamp, head, ent_state, ent_g, ent_next):
-    """Dial's bucket queue over integer f = g + h; returns (end state or -1 or -2 when the pool is full, expanded)."""
+    """Dial's bucket queue over integer f = g + h; returns (end state or -1 or -2 when the pool is full, expanded).
+
+    `order` is the order in which the four step headings are tried (ties among equal paths);
+    `nds` the states per cell and layer (5, or 9 with jumpers)."""
     L, ny, nx = open_cell.shape
     turn = bend
-    if L == 2 and via < turn:
-        turn = via
-    if jump_cells.shape[0] > 0 and jump < turn:
-        turn = jump
     via_need = via if L == 2 else 0
     nb = head.shape[0]
     mask = nb - 1
@@ -245,7 +255,7 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_r
         l = sources[r, 0]
         j = sources[r, 1]
         i = sources[r, 2]
-        s = ((l * ny + j) * nx + i) * 5 + 4
+        s = ((l * ny + j) * nx + i) * nds + 4
         if stamp_of[s] == stamp:
             continue
         stamp_of[s] = stamp
@@ -277,19 +287,20 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_r
         g = ent_g[e]
         if g != gbest[s]:
             continue            # a stale entry
-        d = s % 5
-        c = s // 5
+        d = s % nds
+        c = s // nds
         i = c % nx
         j = (c // nx) % ny
         l = c // (nx * ny)
+        hd = d - 5 if d >= 5 else d         # the heading (4: none)
         expanded += 1
         if tmask[l, j, i]:
             return s, expanded
         for move in range(6):
-            # moves 0..3: a grid step; 4: a via; 5: jumpers (handled below)
+            # moves 0..3: a grid step (in the order given); 4: a via; 5: jumpers (handled below)
             if move < 4:
-                nd = move
-                if d != 4 and nd == (d + 2) % 4:
+                nd = order[move]
+                if hd != 4 and nd == (hd + 2) % 4:
                     continue        # no U-turn
                 ni = i + (1 if nd == 0 else (-1 if nd == 2 else 0))
                 nj = j + (1 if nd == 1 else (-1 if nd == 3 else 0))
@@ -307,7 +318,7 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_r
                     continue
                 nl = l
                 ng = g + step + extra[l, nj, ni]
-                if d != 4 and nd != d:
+                if hd != 4 and nd != hd:
                     ng += bend
                 ndir = nd
                 nk = 1
@@ -320,19 +331,21 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_r
                 if open_cell[nl, j, i] == 0:
                     continue
                 ng = g + via + extra[nl, j, i] + hole_extra[j, i]
-                ndir = 4
+                ndir = d            # the heading goes through the via: a turn after it is a bend
                 nk = 1
             else:
                 if jump_cells.shape[0] == 0 or jump_ok[j, i] == 0:
                     continue
-                if d == 4 and g > 0:
+                if d >= 5:
                     continue        # no jumper straight off another: the two holes would meet
                 nk = jump_cells.shape[0] * 4
                 nl = l
             for q in range(nk):
                 if move == 5:
                     k = jump_cells[q // 4]
-                    nd = q % 4
+                    nd = order[q % 4]
+                    if hd != 4 and nd == (hd + 2) % 4:
+                        continue    # no wire back over the path
                     ni = i + k * (1 if nd == 0 else (-1 if nd == 2 else 0))
                     nj = j + k * (1 if nd == 1 else (-1 if nd == 3 else 0))
                     if ni < 0 or ni >= nx or nj < 0 or nj >= ny:
@@ -350,13 +363,16 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_r
                         if wire_cols[hi + 1, i] - wire_cols[lo, i] != 0:
                             continue
                     ng = g + jump + step * k + extra[l, nj, ni] + hole_extra[j, i] + hole_extra[nj, ni]
-                    ndir = 4
-                t = ((nl * ny + nj) * nx + ni) * 5 + ndir
+                    if hd != 4 and nd != hd:
+                        ng += bend          # the wire leaves across the path: a bend at its first end
+                    ndir = 5 + nd
+                t = ((nl * ny + nj) * nx + ni) * nds + ndir
                 if stamp_of[t] != stamp or ng < gbest[t]:
                     stamp_of[t] = stamp
                     gbest[t] = ng
                     parent[t] = s
-                    key = ng + _heuristic(nl, nj, ni, ndir, tx0, ty0, tx1, ty1, tlayer, step, turn, via_need)
+                    nh = ndir - 5 if ndir >= 5 else ndir
+                    key = ng + _heuristic(nl, nj, ni, nh, tx0, ty0, tx1, ty1, tlayer, step, turn, via_need)
                     if key < cur:
                         key = cur       # an inconsistent heuristic step: expand it next, as a heap would
                     if used == cap:
@@ -380,7 +396,7 @@ def _as_cells(rows, L, ny, nx, what) -> np.ndarray:
 
 
 def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump: int = 0,
-              step: int = STEP) -> Optional[Path]:
+              step: int = STEP, order=(0, 1, 2, 3)) -> Optional[Path]:
     """The cheapest path from any source cell to any target cell, or None.
 
     Parameters
@@ -391,7 +407,11 @@ def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump
         the first target cell reached. Sources and targets need not be open cells
         themselves (a pad's own cells are usually open for its net anyway).
     bend, via, jump, step : int
-        Costs, all non-negative integers in one unit (see :data:`STEP`).
+        Costs, all non-negative integers in one unit (see :data:`STEP`). A bend is paid for
+        every change of heading, at a cell, across a via or at a jumper end.
+    order : sequence of the four headings 0..3
+        The order in which steps are tried: among paths of equal cost it decides which is
+        found (a routing seed varies it); the cost found is the same for every order.
 
     Returns
     -------
@@ -427,8 +447,12 @@ def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump
     tlayer[np.unique(tgt[:, 0])] = 1
     tx0, tx1 = int(tgt[:, 2].min()), int(tgt[:, 2].max())
     ty0, ty1 = int(tgt[:, 1].min()), int(tgt[:, 1].max())
+    order = np.asarray(order, dtype=np.int64)
+    if sorted(order.tolist()) != [0, 1, 2, 3]:
+        raise ValueError(f"order must hold each heading 0..3 once, not {order.tolist()}")
     jump_ok, wire_rows, wire_cols, jump_cells = space.jumper_arrays()
-    ws = _workspace(L * ny * nx * NDIR)
+    nds = NDIR_JUMP if len(jump_cells) else NDIR
+    ws = _workspace(L * ny * nx * nds)
     # the largest rise of f = g + h in one move bounds the live keys to one window of buckets
     kmax = int(jump_cells.max()) if len(jump_cells) else 1
     max_extra = int(space.extra.max(initial=0)) + 2 * int(space.hole_extra.max(initial=0))
@@ -440,7 +464,7 @@ def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump
         end, expanded = _astar(space.open_cell, space.open_h, space.open_v, space.via_ok, space.extra,
                                space.hole_extra,
                                jump_ok, wire_rows, wire_cols, jump_cells, src, tmask, tx0, ty0, tx1, ty1,
-                               tlayer, int(step), int(bend), int(via), int(jump),
+                               tlayer, int(step), int(bend), int(via), int(jump), order, nds,
                                ws.stamp_of, ws.g, ws.parent, stamp, head, ws.ent_state, ws.ent_g, ws.ent_next)
         if end != -2:
             break
@@ -454,22 +478,37 @@ def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump
         s = int(ws.parent[s])
     states.reverse()
     st = np.array(states, dtype=np.int64)
-    c = st // NDIR
+    c = st // nds
     cells = np.stack([c // (nx * ny), (c // nx) % ny, c % nx], axis=1)
-    bends, vias, jumpers = _count(cells, st % NDIR)
+    bends, vias, jumpers = _count(cells)
     return Path(cells, int(ws.g[end]), bends, vias, jumpers, int(expanded))
 
 
-def _count(cells: np.ndarray, dirs: np.ndarray) -> tuple[int, int, int]:
-    """Bends, vias and jumpers of a state path (dirs: the direction each state was entered with)."""
-    bends = vias = jumpers = 0
+def _moves(cells: np.ndarray):
+    """Each move of a cell path: (kind, heading, cells moved), kind "step", "via" or "jumper"."""
     for k in range(1, len(cells)):
-        if cells[k, 0] != cells[k - 1, 0]:
+        (l0, j0, i0), (l1, j1, i1) = (int(v) for v in cells[k - 1]), (int(v) for v in cells[k])
+        if l0 != l1:
+            yield "via", None, 0
+            continue
+        dist = abs(j1 - j0) + abs(i1 - i0)
+        di, dj = (i1 - i0) // max(dist, 1), (j1 - j0) // max(dist, 1)
+        d = {(1, 0): 0, (0, 1): 1, (-1, 0): 2, (0, -1): 3}[(di, dj)]
+        yield ("jumper" if dist > 1 else "step"), d, dist
+
+
+def _count(cells: np.ndarray) -> tuple[int, int, int]:
+    """Bends, vias and jumpers of a cell path: a bend is any change of heading, across vias and jumpers."""
+    bends = vias = jumpers = 0
+    heading = NONE
+    for kind, d, _ in _moves(cells):
+        if kind == "via":
             vias += 1
-        elif abs(cells[k, 1] - cells[k - 1, 1]) + abs(cells[k, 2] - cells[k - 1, 2]) > 1:
-            jumpers += 1
-        elif dirs[k - 1] != NONE and dirs[k] != dirs[k - 1]:
+            continue
+        jumpers += kind == "jumper"
+        if heading != NONE and d != heading:
             bends += 1
+        heading = d
     return bends, vias, jumpers
 
 
@@ -477,22 +516,20 @@ def path_cost(space: SearchSpace, cells, *, bend: int, via: int, jump: int = 0, 
     """The cost of a given cell path under the same rules (for tests and tidy-up)."""
     cells = np.asarray(cells, dtype=np.int64)
     cost = 0
-    d_prev = NONE
-    for k in range(1, len(cells)):
+    heading = NONE
+    for k, (kind, d, dist) in enumerate(_moves(cells), start=1):
         (l0, j0, i0), (l1, j1, i1) = cells[k - 1], cells[k]
         cost += int(space.extra[l1, j1, i1])
-        if l0 != l1:
+        if kind == "via":
             cost += via + int(space.hole_extra[j1, i1])
-            d_prev = NONE
             continue
-        dist = abs(j1 - j0) + abs(i1 - i0)
-        if dist > 1:
+        if kind == "jumper":
             cost += jump + step * dist + int(space.hole_extra[j0, i0]) + int(space.hole_extra[j1, i1])
-            d_prev = NONE
-            continue
-        d = {(1, 0): 0, (0, 1): 1, (-1, 0): 2, (0, -1): 3}[(int(i1 - i0), int(j1 - j0))]
-        cost += step + (bend if d_prev != NONE and d != d_prev else 0)
-        d_prev = d
+        else:
+            cost += step
+        if heading != NONE and d != heading:
+            cost += bend
+        heading = d
     return cost
 
 
@@ -500,9 +537,10 @@ def reference_graph(space: SearchSpace, sources, targets, *, bend: int, via: int
                     step: int = STEP):
     """The same expanded state graph as a networkx DiGraph, for tests and benchmarks.
 
-    Nodes are (l, j, i, d) plus "S" (joined to every source state at cost 0) and "T"
+    Nodes are (l, j, i, d) (d a heading 0..3, 4 none, 5..8 landed from a jumper) plus
+    "S" (joined to the heading-less state of every source cell at cost 0) and "T"
     (joined from every state of every target cell at cost 0); edge attribute
-    ``weight``. Built with plain Python loops, independently of the compiled
+    ``weight``. A via keeps the heading; a step or jumper in another heading pays a bend. Built with plain Python loops, independently of the compiled
     engine, so that networkx's Dijkstra or A* on it is an outside reference.
     """
     import networkx as nx_
@@ -511,16 +549,19 @@ def reference_graph(space: SearchSpace, sources, targets, *, bend: int, via: int
     G = nx_.DiGraph()
     jump_cells = [] if not space.has_jumpers else [int(k) for k in space.jump_cells]
     wire = None if space.wire_block is None else space.wire_block
+    nds = NDIR_JUMP if jump_cells else NDIR
 
     def cell_open(l, j, i):
         return 0 <= i < nx and 0 <= j < ny and space.open_cell[l, j, i] != 0
 
-    def add_jumpers(u, l, j, i):
-        """Edges for every jumper that may leave cell (l, j, i) from state u."""
+    def add_jumpers(u, l, j, i, hd):
+        """Edges for every jumper that may leave cell (l, j, i) from state u with heading hd."""
         if not jump_cells or not space.jump_ok[j, i]:
             return
         for k in jump_cells:
             for nd in range(4):
+                if hd != NONE and nd == (hd + 2) % 4:
+                    continue
                 ni, nj = i + k * int(_DI[nd]), j + k * int(_DJ[nd])
                 if not cell_open(l, nj, ni) or not space.jump_ok[nj, ni]:
                     continue
@@ -528,16 +569,18 @@ def reference_graph(space: SearchSpace, sources, targets, *, bend: int, via: int
                     span = wire[j, min(i, ni):max(i, ni) + 1] if nd in (0, 2) else wire[min(j, nj):max(j, nj) + 1, i]
                     if span.any():
                         continue
-                G.add_edge(u, (l, nj, ni, NONE), weight=jump + step * k + int(space.extra[l, nj, ni])
-                           + int(space.hole_extra[j, i]) + int(space.hole_extra[nj, ni]))
+                G.add_edge(u, (l, nj, ni, 5 + nd), weight=jump + step * k + int(space.extra[l, nj, ni])
+                           + int(space.hole_extra[j, i]) + int(space.hole_extra[nj, ni])
+                           + (bend if hd != NONE and nd != hd else 0))
 
     for l in range(L):
         for j in range(ny):
             for i in range(nx):
-                for d in range(NDIR):
+                for d in range(nds):
                     u = (l, j, i, d)
+                    hd = _heading(d)
                     for nd in range(4):
-                        if d != NONE and nd == (d + 2) % 4:
+                        if hd != NONE and nd == (hd + 2) % 4:
                             continue
                         ni, nj = i + int(_DI[nd]), j + int(_DJ[nd])
                         if not cell_open(l, nj, ni):
@@ -550,24 +593,16 @@ def reference_graph(space: SearchSpace, sources, targets, *, bend: int, via: int
                             continue
                         if nd == 3 and not space.open_v[l, nj, i]:
                             continue
-                        w = step + int(space.extra[l, nj, ni]) + (bend if d != NONE and nd != d else 0)
+                        w = step + int(space.extra[l, nj, ni]) + (bend if hd != NONE and nd != hd else 0)
                         G.add_edge(u, (l, nj, ni, nd), weight=w)
                     if L == 2 and space.via_ok[j, i] and cell_open(1 - l, j, i):
-                        G.add_edge(u, (1 - l, j, i, NONE),
+                        G.add_edge(u, (1 - l, j, i, d),
                                    weight=via + int(space.extra[1 - l, j, i]) + int(space.hole_extra[j, i]))
-                    if d != NONE:
-                        add_jumpers(u, l, j, i)
-    # a source state: like NONE, and a jumper may leave it (a jumper may not leave a jumper's landing)
+                    if d < 5:
+                        add_jumpers(u, l, j, i, hd)
     for (l, j, i) in np.asarray(sources).reshape(-1, 3):
-        l, j, i = int(l), int(j), int(i)
-        src = (l, j, i, "src")
-        G.add_edge("S", src, weight=0)
-        for _, v, w in list(G.out_edges((l, j, i, NONE), data="weight")):
-            G.add_edge(src, v, weight=w)
-        add_jumpers(src, l, j, i)
-        if any(int(t[0]) == l and int(t[1]) == j and int(t[2]) == i for t in np.asarray(targets).reshape(-1, 3)):
-            G.add_edge(src, "T", weight=0)
+        G.add_edge("S", (int(l), int(j), int(i), NONE), weight=0)
     for (l, j, i) in np.asarray(targets).reshape(-1, 3):
-        for d in range(NDIR):
+        for d in range(nds):
             G.add_edge((int(l), int(j), int(i), d), "T", weight=0)
     return G

@@ -61,14 +61,77 @@ def test_source_that_is_a_target():
     assert p.cost == 0 and len(p.cells) == 1
 
 
-def test_via_crosses_a_wall_and_turn_at_via_is_free():
-    # layer 0 has a wall; layer 1 is open; vias allowed everywhere
+def test_via_crosses_a_wall_straight_on():
+    # layer 0 has a wall; layer 1 is open; vias allowed everywhere: down, along, up, no turn
     cell = np.ones((2, 1, 5), np.uint8)
     cell[0, 0, 2] = 0
     ones = np.ones_like(cell)
     sp = SearchSpace(cell, ones, ones, np.ones((1, 5), np.uint8), np.zeros_like(cell, dtype=np.int32))
     p = find_path(sp, [(0, 0, 0)], [(0, 0, 4)], bend=1, via=250)
-    assert p.vias == 2 and p.cost == 4 * STEP + 2 * 250
+    assert p.vias == 2 and p.bends == 0 and p.cost == 4 * STEP + 2 * 250
+
+
+def _l_through_a_via():
+    # hand drawn: layer 0 open only along row 0, layer 1 only along column 3; the one via place
+    # is their meeting cell (0, 3). The only path goes east on layer 0, vias, and north on layer 1
+    cell = np.zeros((2, 4, 4), np.uint8)
+    cell[0, 0, :] = 1
+    cell[1, :, 3] = 1
+    ones = np.ones_like(cell)
+    via_ok = np.zeros((4, 4), np.uint8)
+    via_ok[0, 3] = 1
+    return SearchSpace(cell, ones, ones, via_ok, np.zeros_like(cell, dtype=np.int32))
+
+
+def test_turn_at_a_via_costs_a_bend():
+    # the contract counts a turn at a via as a bend: 6 steps, one via, one bend (hand counted)
+    p = find_path(_l_through_a_via(), [(0, 0, 0)], [(1, 3, 3)], bend=400, via=250)
+    assert (p.vias, p.bends) == (1, 1) and p.cost == 6 * STEP + 250 + 400
+    assert path_cost(_l_through_a_via(), p.cells, bend=400, via=250) == p.cost
+
+
+def test_a_via_does_not_hide_a_corner():
+    # an open two-layer 5 x 5 grid: the L from (0, 0) to (4, 4) costs 8 steps and one bend on one
+    # layer; spending a via at the corner cannot make it cheaper, so none is spent even when a
+    # bend costs ten times a via
+    cell = np.ones((2, 5, 5), np.uint8)
+    sp = SearchSpace(cell, cell, cell, np.ones((5, 5), np.uint8), np.zeros_like(cell, dtype=np.int32))
+    p = find_path(sp, [(0, 0, 0)], [(0, 4, 4), (1, 4, 4)], bend=1000, via=100)
+    assert (p.vias, p.bends, p.cost) == (0, 1, 8 * STEP + 1000)
+
+
+def test_turn_at_a_jumper_end_costs_a_bend():
+    # one layer: row 1 open on both sides of a wall at column 2, the target above the far side:
+    #   row 2: # # # . .
+    #   row 1: S . # . .
+    #   row 0: # # # # #
+    sp = space_from(["###.T".replace("T", "."), "..#..", "#####"],
+                    jump_ok=np.ones((3, 5), np.uint8), wire_block=np.zeros((3, 5), np.uint8),
+                    jump_cells=np.array([2], np.int64))
+    # a jumper east from (1, 1) to (1, 3), then north one step to (2, 3): the wire's heading is
+    # east, so the step north is a turn at the jumper end, one bend (hand counted)
+    p = find_path(sp, [(0, 1, 0)], [(0, 2, 3)], bend=300, via=0, jump=500)
+    assert (p.jumpers, p.bends) == (1, 1)
+    assert p.cost == STEP + (500 + 2 * STEP) + STEP + 300
+    # arriving across the wire's heading costs a bend too: come up column 0, jump east
+    sp2 = space_from(["..#..", ".##..", ".####"],
+                     jump_ok=np.ones((3, 5), np.uint8), wire_block=np.zeros((3, 5), np.uint8),
+                     jump_cells=np.array([3], np.int64))
+    p = find_path(sp2, [(0, 0, 0)], [(0, 2, 4)], bend=300, via=0, jump=500)
+    assert (p.jumpers, p.bends) == (1, 1) and p.cost == 2 * STEP + 300 + 500 + 3 * STEP + STEP
+
+
+def test_order_changes_ties_not_costs():
+    # an open grid has many equal L and staircase-free paths; the step order picks among them
+    sp = space_from(["......"] * 6)
+    found = set()
+    for order in [(0, 1, 2, 3), (1, 0, 3, 2), (2, 3, 0, 1), (3, 2, 1, 0)]:
+        p = find_path(sp, [(0, 0, 0)], [(0, 5, 5)], bend=50, via=0, order=order)
+        assert p.cost == 10 * STEP + 50
+        found.add(tuple(map(tuple, p.cells.tolist())))
+    assert len(found) == 2          # east-then-north and north-then-east
+    with pytest.raises(ValueError):
+        find_path(sp, [(0, 0, 0)], [(0, 5, 5)], bend=50, via=0, order=(0, 0, 1, 2))
 
 
 def test_jumper_hops_over_a_wall_on_one_layer():
@@ -142,6 +205,64 @@ def test_optimal_cost_equals_networkx_dijkstra(seed):
         assert p is not None and p.cost == ref
         assert path_cost(sp, p.cells, bend=bend, via=via, jump=jump) == ref
         assert p.cells[0].tolist() in src.tolist() and p.cells[-1].tolist() in tgt.tolist()
+
+
+def _independent_graph(sp, src, tgt, bend, via):
+    """The pricing written out again, apart from router.search, for two-layer grids without
+    jumpers: a node is (layer, j, i, heading or None); a step pays STEP, its cell's extra and a
+    bend when the heading changes; a via keeps the heading and pays via, the cell's extra on the
+    other layer and the hole's extra; no step back against the heading."""
+    L, ny, nx_ = sp.shape
+    G = nx.DiGraph()
+    moves = {"E": (0, 1), "N": (1, 0), "W": (0, -1), "S": (-1, 0)}
+    back = {"E": "W", "W": "E", "N": "S", "S": "N"}
+    for l in range(L):
+        for j in range(ny):
+            for i in range(nx_):
+                for h in (None, "E", "N", "W", "S"):
+                    for m, (dj, di) in moves.items():
+                        if h is not None and m == back[h]:
+                            continue
+                        j2, i2 = j + dj, i + di
+                        if not (0 <= j2 < ny and 0 <= i2 < nx_) or not sp.open_cell[l, j2, i2]:
+                            continue
+                        step_open = {"E": sp.open_h[l, j, i], "W": sp.open_h[l, j, i2] if i2 >= 0 else 0,
+                                     "N": sp.open_v[l, j, i], "S": sp.open_v[l, j2, i] if j2 >= 0 else 0}[m]
+                        if not step_open:
+                            continue
+                        G.add_edge((l, j, i, h), (l, j2, i2, m),
+                                   weight=STEP + int(sp.extra[l, j2, i2]) + (bend if h not in (None, m) else 0))
+                    if L == 2 and sp.via_ok[j, i] and sp.open_cell[1 - l, j, i]:
+                        G.add_edge((l, j, i, h), (1 - l, j, i, h),
+                                   weight=via + int(sp.extra[1 - l, j, i]) + int(sp.hole_extra[j, i]))
+    for l, j, i in src:
+        G.add_edge("S", (int(l), int(j), int(i), None), weight=0)
+    for l, j, i in tgt:
+        for h in (None, "E", "N", "W", "S"):
+            G.add_edge((int(l), int(j), int(i), h), "T", weight=0)
+    return G
+
+
+@pytest.mark.parametrize("seed", range(30))
+def test_via_pricing_against_an_independent_networkx_graph(seed):
+    # networkx Dijkstra on a graph built in this file from the rule itself (a via keeps the
+    # heading; a turn after it is a bend): the same optimal cost as our A*, on small two-layer grids
+    rng = np.random.default_rng(700 + seed)
+    ny, nx_ = int(rng.integers(3, 9)), int(rng.integers(3, 9))
+    sp = random_space(rng, 2, ny, nx_)
+    src = np.stack([rng.integers(0, 2, 2), rng.integers(0, ny, 2), rng.integers(0, nx_, 2)], axis=1)
+    tgt = np.stack([rng.integers(0, 2, 2), rng.integers(0, ny, 2), rng.integers(0, nx_, 2)], axis=1)
+    bend, via = int(rng.integers(0, 1500)), int(rng.integers(0, 600))
+    p = find_path(sp, src, tgt, bend=bend, via=via)
+    G = _independent_graph(sp, src, tgt, bend, via)
+    try:
+        ref = nx.dijkstra_path_length(G, "S", "T")
+    except (nx.NetworkXNoPath, nx.NodeNotFound):
+        ref = None
+    assert (p is None) == (ref is None)
+    if p is not None:
+        assert p.cost == ref
+        assert path_cost(sp, p.cells, bend=bend, via=via) == ref
 
 
 def test_deterministic():
