@@ -271,6 +271,11 @@ def nearest_footprints(name: str, n: int = 3) -> list[str]:
     return found[:n]
 
 
+def _one_line(text: str) -> str:
+    """A message stays one line when a quoted cell holds a line break."""
+    return text.replace("\r", "\\r").replace("\n", "\\n")
+
+
 def _pins_text(fp: Footprint) -> str:
     pins = fp.pins()
     if len(pins) > 8:
@@ -290,7 +295,7 @@ def _parts(name, delim, rows, layers, notes):
         where = f"line {row.line}" + (f" ({ref})" if ref else "")
 
         def fail(msg, where=where):
-            raise BoardError(name, where, msg)
+            raise BoardError(name, _one_line(where), _one_line(msg))
         if not ref:
             fail("the ref is empty; give each part a ref like R1 or U3")
         if not re.fullmatch(r"[^\s.]+", ref):
@@ -355,7 +360,7 @@ def _nets(name, rows, fps, notes):
         where = f"line {row.line}" + (f" ({net} {pin})" if net and pin else "")
 
         def fail(msg, where=where):
-            raise BoardError(name, where, msg)
+            raise BoardError(name, _one_line(where), _one_line(msg))
         if not net:
             fail("the net name is empty; give it, e.g. GND")
         if not pin:
@@ -440,7 +445,8 @@ def _check_inside(board: Board, name, lines, size):
         if x0 < -1e-9 or y0 < -1e-9 or x1 > size[0] + 1e-9 or y1 > size[1] + 1e-9:
             raise BoardError(name, f"line {lines[p.ref]} ({p.ref})",
                              f"at ({p.at[0]:g}, {p.at[1]:g}) the part reaches ({x0:g}, {y0:g})..({x1:g}, {y1:g}), "
-                             f"outside the {size[0]:g} x {size[1]:g} mm board; move it or give a larger --size")
+                             f"outside the {size[0]:g} x {size[1]:g} mm board from (0, 0); move it or give a "
+                             "larger --size")
 
 
 def read_csv_board(parts_csv, nets_csv, *, size=None, layers: int = 2, name: str = "board") -> NewResult:
@@ -493,8 +499,7 @@ def read_csv_board(parts_csv, nets_csv, *, size=None, layers: int = 2, name: str
         notes.append(f"board size {size[0]:g} x {size[1]:g} mm, estimated from the parts' area "
                      f"(x {ROUTING_FACTOR[layers]:g} for routing on {layers} layer{'s' if layers == 2 else ''}); "
                      "give --size W H to choose it")
-    else:
-        _check_inside(board, pname, lines, size)
+    _check_inside(board, pname, lines, size)
     board.size = size
     board.outline = [(0.0, 0.0), (size[0], 0.0), (size[0], size[1]), (0.0, size[1])]
     board = loads_board(dumps_board(board), None)     # exactly what the other commands will read

@@ -196,6 +196,9 @@ BAD = [
     ("not UTF-8", "ref,footprint,value\nR1,chip-0603,10 \xb5F\n".encode("latin-1"), "net,pin\nA,R1.1\n",
      "parts.csv", 2, ["UTF-8"]),
     ("empty file", "", NETS, "parts.csv", 1, ["empty"]),
+    ("line break in a footprint name", 'ref,footprint,value\nU1,"dip-8\nx",v\n', "net,pin\nA,U1.1\n",
+     "parts.csv", 2, ["dip-8\\nx"]),
+    ("part below zero", PARTS.replace("3,8,90", "-5,8,90"), NETS, "parts.csv", 5, ["(0, 0)"]),
 ]
 
 
