@@ -13,6 +13,7 @@ import re
 from functools import lru_cache
 
 from .model import Footprint, Hole, Pad
+from .packages import builtin_package
 
 __all__ = ["builtin_footprint", "resolve_footprint", "BUILTIN_FAMILIES", "INCH"]
 
@@ -52,7 +53,9 @@ TANTALUM_SIZES = {
 LED_SIZES = {"3": 3.8, "5": 5.8}
 
 BUILTIN_FAMILIES = ("chip", "sot", "soic", "dip", "header", "to", "terminal", "axial", "radial", "hole",
-                    "diode", "led", "tantalum")
+                    "diode", "led", "tantalum",
+                    # computed lands and their outlines: router.packages
+                    "tssop", "ssop", "qfp", "qfn", "sod", "do", "crystal", "switch", "cap")
 
 # Polarised families mark pin 1 (router.silkscreen): the cathode of a diode or LED (a band),
 # the + of an electrolytic (radial) or tantalum capacitor (a + sign).
@@ -253,7 +256,7 @@ def _builtin(name: str):
     if m:
         d = float(m.group(1))
         return _hole(d, name) if 0.5 <= d <= 10.0 else None
-    return None
+    return builtin_package(name)
 
 
 def builtin_footprint(name: str) -> Footprint | None:
