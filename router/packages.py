@@ -192,9 +192,10 @@ def _sot89() -> Footprint:
     pads = [Pad("1", (-p, _r(y)), "rectangle", (lp.X, lp.length)),
             Pad("2", (0.0, _r(y)), "rectangle", (lp2.X, lp2.length)),
             Pad("3", (p, _r(y)), "rectangle", (lp.X, lp.length))]
-    # pin 2's tab under the body: from the lead lands' inner end to the body's far edge,
-    # as wide as the tab at its largest plus the side goal (common practice)
-    y0, y1 = -lp.G / 2, e_half
+    # pin 2's tab under the body: from the middle of pin 2's lead land (so the two overlap
+    # and are one piece of copper) to the body's far edge, as wide as the tab at its largest
+    # plus the side goal (common practice)
+    y0, y1 = y, e_half
     pads.append(Pad("2", (0.0, _r((y0 + y1) / 2)), "rectangle",
                     (round_step(o["tab"].hi + 2 * max(g.side, 0.0)), _r(y1 - y0))))
     return Footprint("sot-89", o["body"], pads)
