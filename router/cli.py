@@ -199,6 +199,16 @@ def cmd_pour(args) -> int:
     return EXIT_OK
 
 
+def cmd_footprints(args) -> int:
+    from .fpshow import run_footprints
+    text = run_footprints(args.name, as_json=args.json, output=args.output)
+    if not args.quiet or args.json:
+        print(text)
+    if args.output and not args.quiet and not args.json:
+        print(f"wrote {args.output}")
+    return EXIT_OK
+
+
 def cmd_new(args) -> int:
     from .csvboard import write_csv_board
     out = Path(args.output)
@@ -282,6 +292,12 @@ def build_parser() -> argparse.ArgumentParser:
     sp = add("pour", "fill the board's copper pours ([[pours]]) against its copper", cmd_pour)
     sp.add_argument("board", help="board file")
     sp.add_argument("-o", "--output", required=True, metavar="OUT", help="poured board file to write")
+
+    sp = add("footprints", "the built-in footprint families; with a name, its pads (and -o: a picture)",
+             cmd_footprints)
+    sp.add_argument("name", nargs="?", help="a footprint name, e.g. qfn-32-0.5-ep (default: list the families)")
+    sp.add_argument("--json", action="store_true", help="print the list or the pads as JSON")
+    sp.add_argument("-o", "--output", metavar="PICTURE", help="draw the footprint to a .png or .svg")
 
     from .csvboard import NEW_HELP
     sp = add("new", "a board file from a parts list and a netlist in CSV", cmd_new)
