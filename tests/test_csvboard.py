@@ -283,11 +283,14 @@ def test_estimated_board_places_and_routes(tmp_path):
     assert main(["check", str(tmp_path / "r.toml")]) == 0
 
 
-def test_example_greenhouse_node_new_place_route_check(tmp_path, capsys):
-    """boards/greenhouse-node: the README's three commands give a complete, clean board."""
+@pytest.mark.parametrize("example,nets", [("greenhouse-node", 14), ("beehive-scale", 18)])
+def test_example_new_place_route_check(tmp_path, capsys, example, nets):
+    """boards/<example>: the README's three commands give a complete, clean board (the beehive
+    scale carries a 0.5 mm pitch QFN-32 with its exposed pad, a TSSOP-16, a SOT-223, a 4-pad
+    crystal and tactile switches, at the default 0.25 mm grid)."""
     import json
     from pathlib import Path
-    src = Path(__file__).resolve().parent.parent / "boards" / "greenhouse-node"
+    src = Path(__file__).resolve().parent.parent / "boards" / example
     new, placed, routed = (tmp_path / f for f in ("node.toml", "placed.toml", "routed.toml"))
     assert main(["new", "--parts", str(src / "parts.csv"), "--nets", str(src / "nets.csv"),
                  "-o", str(new), "-q"]) == 0
@@ -297,6 +300,6 @@ def test_example_greenhouse_node_new_place_route_check(tmp_path, capsys):
     capsys.readouterr()
     assert main(["route", str(placed), "-o", str(routed), "--json"]) == 0
     totals = json.loads(capsys.readouterr().out)["totals"]
-    assert totals["routed"] == totals["nets"] == len(board.nets) == 14
+    assert totals["routed"] == totals["nets"] == len(board.nets) == nets
     assert main(["check", str(routed), "--json"]) == 0
     assert json.loads(capsys.readouterr().out)["violations"] == []
