@@ -241,6 +241,14 @@ def _footprint_names() -> list[str]:
                             ("diode-{}", ("7.62", "10.16", "12.7")), ("led-{}", ("3", "5")),
                             ("tantalum-{}", ("A", "B", "C", "D"))):
             names += [fam.format(v) for v in values if builtin_footprint(fam.format(v))]
+        try:        # the examples of `elbowroom footprints`, where that command is built
+            from .fpshow import FAMILIES
+        except ImportError:
+            FAMILIES = []
+        for row in FAMILIES:
+            for cand in [row[2], *(x.strip() for x in row[0].split(","))]:
+                if cand not in names and builtin_footprint(cand):
+                    names.append(cand)
         _KNOWN = names
     return _KNOWN
 

@@ -247,7 +247,8 @@ def test_missing_file_and_output_onto_input(tmp_path, capsys):
 
 def test_nearest_footprints_are_known_names():
     for typo, want in [("soic-7", "soic-8"), ("dipp-8", "dip-8"), ("header-1x41", "header-1x40"),
-                       ("chip-0806", "chip-0805"), ("sot23", "sot-23")]:
+                       ("chip-0806", "chip-0805"), ("sot23", "sot-23"), ("qfn-32-ep", "qfn-32-0.5-ep"),
+                       ("sot223", "sot-223"), ("tssop-19", "tssop-20"), ("crystal-3215", "crystal-3225")]:
         near = nearest_footprints(typo)
         assert want in near, (typo, near)
         assert all(builtin_footprint(x) is not None for x in near)
