@@ -324,6 +324,9 @@ def build_parser() -> argparse.ArgumentParser:
     sp = add("export", "fabrication files: Gerber and drill", cmd_export)
     sp.add_argument("board", help="board file")
     sp.add_argument("-o", "--output", required=True, metavar="DIR", help="folder for the files")
+
+    from explore.cli import add_commands      # sweep and shrink: many runs (explore/)
+    add_commands(sub, add)
     return p
 
 
