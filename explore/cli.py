@@ -52,6 +52,33 @@ def cmd_sweep(args) -> int:
     return EXIT_OK
 
 
+def cmd_shrink(args) -> int:
+    import json
+    from router.safefile import write_atomic
+    from .runners import Interrupted, make_runner
+    from .shrink import format_shrink, shrink
+    with make_runner(args.jobs, args.cluster) as runner:
+        try:
+            result = shrink(args.board, runner, step=args.step, tries=args.tries, keep_aspect=args.keep_aspect,
+                            progress=_progress(args))
+            interrupted = False
+        except Interrupted as exc:
+            result, interrupted = exc.shrink, True
+    if result.best is not None:
+        write_atomic(args.output, result.board_text)
+    if args.json:
+        print(json.dumps(dict(result.as_json(), output=args.output if result.best else None), indent=2))
+    elif not args.quiet:
+        print(format_shrink(result))
+        if result.best is not None:
+            print(f"wrote {args.output}")
+    if interrupted:
+        print("elbowroom: interrupted; " + ("the best size so far is written" if result.best else
+                                            "nothing was written"), file=sys.stderr)
+        return EXIT_INTERRUPTED
+    return EXIT_OK if result.best is not None else EXIT_NONE
+
+
 def add_commands(sub, add) -> None:
     """Add ``sweep`` and ``shrink`` to the subparsers `sub` (`add` makes one, as in router.cli)."""
     sp = add("sweep", "route one board with every combination of seeds and penalties, and rank them", cmd_sweep)
@@ -70,4 +97,16 @@ def add_commands(sub, add) -> None:
     sp.add_argument("--rank", default=None, metavar="ORDER",
                     help="the order naming the best (default routed,violations,vias,bends,length: most "
                          "nets routed, then fewest of each)")
+    _where(sp)
+
+    sp = add("shrink", "the smallest rectangular outline in which the board places and routes clean", cmd_shrink)
+    sp.add_argument("board", help="board file")
+    sp.add_argument("-o", "--output", required=True, metavar="OUT",
+                    help="the placed and routed board of the smallest size to write")
+    sp.add_argument("--step", type=float, default=0.5, metavar="MM",
+                    help="how much a side shrinks at a time, a whole number of grid pitches (default 0.5)")
+    sp.add_argument("--tries", type=int, default=3, metavar="N",
+                    help="placement seeds tried per size, 0 to N-1 (default 3)")
+    sp.add_argument("--keep-aspect", action="store_true", help="only sizes of the board's own aspect ratio")
+    sp.add_argument("--json", action="store_true", help="print the sizes tried and the best as JSON")
     _where(sp)
