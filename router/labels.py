@@ -9,7 +9,8 @@ then its corners, then rings further out; a free spot overlaps no pad, trace, vi
 or label already placed and stays inside the drawing. A ref placed away from its part gets a
 leader line from the label to the body. Violation numbers are placed the same way around the
 violation's place, clear of each other and of the refs. Net names go along the middle of long
-trace segments, turned with them, where they overlap no other label.
+trace segments (or a little to either side of it), turned with them, where they overlap no
+other label.
 """
 from __future__ import annotations
 
@@ -178,8 +179,10 @@ def net_labels(board: Board, height: float, limits, placer: Placer, min_length: 
                 continue
             seen_segments.add(key)
             vertical = abs(b[0] - a[0]) < 1e-9
-            mx, my = (a[0] + b[0]) / 2, (a[1] + b[1]) / 2
-            lab = Label(t.net, mx, my, w, h, 90 if vertical else 0, None, t.net)
-            if placer.free(lab.box(), avoid_copper=False):
-                out.append(placer.take(lab))
+            for f in (0.5, 0.3, 0.7):      # the middle first, then either side of it
+                mx, my = a[0] + f * (b[0] - a[0]), a[1] + f * (b[1] - a[1])
+                lab = Label(t.net, mx, my, w, h, 90 if vertical else 0, None, t.net)
+                if placer.free(lab.box(), avoid_copper=False):
+                    out.append(placer.take(lab))
+                    break
     return out

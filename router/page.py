@@ -91,6 +91,7 @@ def _pad_svg(p, fill: str) -> str:
         r = min(p.w, p.h) / 2 if p.shape == "obround" else 0.0
         el = (f'<rect x="{_n(p.x - p.w / 2)}" y="{_n(p.y - p.h / 2)}" width="{_n(p.w)}" height="{_n(p.h)}"'
               + (f' rx="{_n(r)}" ry="{_n(r)}"' if r else "") + f' fill="{fill}"')
+    el += f' data-part="{_a(p.ref)}" data-pin="{_a(p.pin)}" data-pad-net="{_a(p.net)}"'
     return el + f'><title>{_a(p.name)} ({_a(p.net)})</title></{"circle" if el.startswith("<circle") else "rect"}>'
 
 
@@ -98,7 +99,8 @@ def _points(pts) -> str:
     return " ".join(f"{_n(x)},{_n(y)}" for x, y in pts)
 
 
-def _svg(board: Board, violations: Optional[Sequence], groups: dict) -> tuple[str, list[str]]:
+def _svg(board: Board, violations: Optional[Sequence], groups: dict,
+         labels: Optional[str] = None) -> tuple[str, list[str]]:
     """The board's SVG element and the list of toggleable layers (key, label) in order."""
     from .geometry import body_rect, placed_holes, placed_pads
 
@@ -259,20 +261,87 @@ def _svg(board: Board, violations: Optional[Sequence], groups: dict) -> tuple[st
         out.append("</g>")
     out.append("</g>")   # flip
 
-    # refs: outside the flip so the text reads upright (y negated by hand)
-    if placed:
-        out.append('<g data-layer="parts" class="refs">')
-        for part in placed:
-            bx0, by0, bx1, by1 = body_rect(board, part)
-            bw, bh = bx1 - bx0, by1 - by0
-            fs = max(0.4, min(1.6, 0.45 * min(max(bw, bh) / max(len(part.ref), 1) * 1.6, min(bw, bh))))
-            rot = f' transform="rotate(-90 {_n(part.at[0])} {_n(-part.at[1])})"' if bh > bw * 1.5 else ""
-            out.append(f'<text x="{_n(part.at[0])}" y="{_n(-part.at[1])}" font-size="{_n(fs)}" '
-                       f'text-anchor="middle" dominant-baseline="central" fill="{STYLE["body"]}"{rot}>'
-                       f'{_a(part.ref)}</text>')
-        out.append("</g>")
+    # words outside the flip so the text reads upright (y negated by hand): refs, violation
+    # numbers, net names (router.labels), and millimetre ticks along the bottom and left edges
+    out += _words(board, located, (vb[0], -(vb[1] + vb[3]), vb[0] + vb[2], -vb[1]), labels, layers)
+    out += _ticks(x0, y0, x1, y1, m)
     out.append("</svg>")
     return "\n".join(out), layers
+
+
+def _label_height(board: Board) -> float:
+    xs = [p[0] for p in board.outline]
+    ys = [p[1] for p in board.outline]
+    return max(0.6, min(1.6, 0.018 * max(max(xs) - min(xs), max(ys) - min(ys))))
+
+
+def _words(board: Board, located, limits, labels: Optional[str], layers: list) -> list[str]:
+    """Refs (with leader lines), violation numbers and net names as SVG, placed by router.labels."""
+    from .labels import Placer, copper_obstacles, net_labels, ref_labels, violation_labels
+    h = _label_height(board)
+    placer = Placer(copper_obstacles(board), limits)
+    out = []
+
+    def text(lab, cls, fill, extra=""):
+        rot = f' transform="rotate(-90 {_n(lab.x)} {_n(-lab.y)})"' if lab.rotation == 90 else ""
+        return (f'<text class="{cls}" x="{_n(lab.x)}" y="{_n(-lab.y)}" font-size="{_n(lab.h)}" '
+                f'text-anchor="middle" dominant-baseline="central" fill="{fill}"{rot}{extra}>{_a(lab.text)}</text>')
+
+    def leader(lab, colour):
+        (ax, ay), (bx, by) = lab.leader
+        return (f'<line x1="{_n(ax)}" y1="{_n(-ay)}" x2="{_n(bx)}" y2="{_n(-by)}" stroke="{colour}" '
+                f'stroke-width="0.6" vector-effect="non-scaling-stroke"/>')
+
+    refs = ref_labels(board, h, limits, placer)
+    if refs:
+        out.append('<g data-layer="parts" class="refs">')
+        for lab in refs:
+            out.append(text(lab, "ref", STYLE["body"]))
+            if lab.leader:
+                out.append(leader(lab, STYLE["body"]))
+        out.append("</g>")
+    nums = violation_labels(located, h, limits, placer)
+    if nums:
+        out.append('<g data-layer="violations" class="violation-numbers">')
+        for lab in nums:
+            out.append(text(lab, "violation-number", STYLE["violation"], ' font-weight="bold"'))
+            if lab.leader:
+                out.append(leader(lab, STYLE["violation"]))
+        out.append("</g>")
+    if labels == "nets":
+        names = net_labels(board, h * 0.9, limits, placer)
+        if names:
+            layers.append(("netnames", "net names"))
+            out.append('<g data-layer="netnames">')
+            for lab in names:
+                out.append(text(lab, "net-name", "#000000", f' data-net="{_a(lab.text)}"'))
+            out.append("</g>")
+    return out
+
+
+def _ticks(x0: float, y0: float, x1: float, y1: float, m: float) -> list[str]:
+    """Millimetre ticks and numbers along the board's bottom and left edges (upright SVG units)."""
+    span = max(x1 - x0, y1 - y0)
+    step = next(s for s in (1, 2, 5, 10, 20, 50, 100, 200, 500, 1e9) if span / s <= 12)
+    t = 0.25 * m
+    fs = _n(0.45 * m)
+    out = ['<g class="ticks" fill="#3A3A3A" stroke="#3A3A3A">']
+    k = math.ceil(x0 / step - 1e-9)
+    while k * step <= x1 + 1e-9:
+        x = k * step
+        out.append(f'<line x1="{_n(x)}" y1="{_n(-y0)}" x2="{_n(x)}" y2="{_n(-y0 + t)}" stroke-width="1" '
+                   f'vector-effect="non-scaling-stroke"/><text x="{_n(x)}" y="{_n(-y0 + t)}" font-size="{fs}" '
+                   f'text-anchor="middle" dominant-baseline="hanging" stroke="none">{_n(x)}</text>')
+        k += 1
+    k = math.ceil(y0 / step - 1e-9)
+    while k * step <= y1 + 1e-9:
+        y = k * step
+        out.append(f'<line x1="{_n(x0)}" y1="{_n(-y)}" x2="{_n(x0 - t)}" y2="{_n(-y)}" stroke-width="1" '
+                   f'vector-effect="non-scaling-stroke"/><text x="{_n(x0 - t)}" y="{_n(-y)}" font-size="{fs}" '
+                   f'text-anchor="end" dominant-baseline="central" stroke="none">{_n(y)}</text>')
+        k += 1
+    out.append("</g>")
+    return out
 
 
 # ----------------------------------------------------------------------------- page
@@ -394,9 +463,17 @@ _JS = r"""
 
   // hover and click
   var dragged = false;
+  var pinBox = document.getElementById("pin");
   document.addEventListener("mouseover", function (ev) {
     var name = netOf(ev.target);
     if (name !== null) highlight(name);
+    var pad = ev.target && ev.target.closest ? ev.target.closest("[data-pin]") : null;
+    if (pad) {
+      var net = pad.getAttribute("data-pad-net");
+      pinBox.textContent = "part " + pad.getAttribute("data-part") + ", pin " + pad.getAttribute("data-pin") +
+        ", net " + (net.charAt(0) === "~" ? "none (a pad in no net)" : net);
+      pinBox.className = "";
+    }
   });
   document.addEventListener("mouseout", function (ev) {
     if (netOf(ev.target) !== null && netOf(ev.relatedTarget) === null) highlight(pinned);
@@ -466,7 +543,7 @@ _JS = r"""
 """
 
 
-def page_html(board: Board, violations: Optional[Sequence] = None) -> str:
+def page_html(board: Board, violations: Optional[Sequence] = None, labels: Optional[str] = None) -> str:
     """The whole page as a string (see the module docstring).
 
     Parameters
@@ -483,7 +560,7 @@ def page_html(board: Board, violations: Optional[Sequence] = None) -> str:
     from .connectivity import net_groups
 
     groups = net_groups(board)
-    svg, layers = _svg(board, violations, groups)
+    svg, layers = _svg(board, violations, groups, labels)
     figures = page_figures(board)
     routed = {n["name"]: n.get("routed") for n in figures.get("nets", [])}
     data = {"figures": figures,
@@ -504,7 +581,13 @@ def page_html(board: Board, violations: Optional[Sequence] = None) -> str:
         for n in board.nets)
     vlist = ""
     if violations is not None:
-        items = "\n".join(f"<li><b>{_a(v.rule)}</b> {_a(v.message)}</li>" for v in violations)
+        number, k = {}, 0
+        for i, v in enumerate(violations):
+            if getattr(v, "at", None) is not None:
+                k += 1
+                number[i] = k
+        items = "\n".join(f'<li data-number="{number.get(i, "")}"><b>{number.get(i, "-")}</b> '
+                          f"<b>{_a(v.rule)}</b> {_a(v.message)}</li>" for i, v in enumerate(violations))
         vlist = (f'<h2>Violations ({len(violations)})</h2><ul id="violations">{items}</ul>'
                  if violations else '<h2>Violations</h2><p id="violations">none</p>')
     t = figures.get("totals", {})
@@ -527,6 +610,8 @@ def page_html(board: Board, violations: Optional[Sequence] = None) -> str:
 {toggles}
 </div>
 <p><button id="reset" type="button">reset view</button> <span class="muted">wheel: zoom, drag: pan</span></p>
+<h2>Pin under the pointer</h2>
+<p id="pin" class="muted">none</p>
 <h2>Net</h2>
 <div id="info"></div>
 <h2>Nets</h2>
@@ -546,7 +631,7 @@ def page_html(board: Board, violations: Optional[Sequence] = None) -> str:
 """
 
 
-def write_page(board: Board, path, violations: Optional[Sequence] = None) -> Path:
+def write_page(board: Board, path, violations: Optional[Sequence] = None, labels: Optional[str] = None) -> Path:
     """Write the interactive page of `board` to `path` (one .html file), atomically.
 
     Returns
@@ -555,5 +640,5 @@ def write_page(board: Board, path, violations: Optional[Sequence] = None) -> Pat
         The path written.
     """
     path = Path(path)
-    write_atomic(path, page_html(board, violations))
+    write_atomic(path, page_html(board, violations, labels))
     return path

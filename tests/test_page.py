@@ -303,3 +303,73 @@ def test_chromium_hover_click_toggle_and_zoom(tmp_path):
     assert out["top_hidden"] == "none" and out["top_shown"] == ""
     # 1.0015 ** -400 (the page's zoom step per wheel unit): hand computed 0.5489...
     assert out["zoom"] == pytest.approx(1.0015 ** -400, rel=1e-4)
+
+
+# ---------------------------------------------------------------- readable words, the pin under the pointer
+
+def _svg_texts(svg, cls):
+    return [el for el in svg.iter("{http://www.w3.org/2000/svg}text") if el.get("class") == cls]
+
+
+def test_page_refs_off_the_pads_ticks_and_pin_attributes():
+    # the refs as written on the page, boxes from their place and size (router.labels' estimate,
+    # which over-states a capital's width), against the pads as shapely shapes
+    from shapely.geometry import box
+    from router.geometry import pad_shape, placed_pads
+    from router.labels import text_size
+    board = loads_board(HAND)
+    svg = svg_of(page_html(board))
+    refs = _svg_texts(svg, "ref")
+    assert sorted(el.text for el in refs) == sorted(p.ref for p in board.parts)
+    pads = [pad_shape(p) for p in placed_pads(board)]
+    for el in refs:
+        x, y, h = float(el.get("x")), -float(el.get("y")), float(el.get("font-size"))
+        w, _ = text_size(el.text, h)
+        assert not any(p.intersects(box(x - w / 2, y - h / 2, x + w / 2, y + h / 2)) for p in pads), el.text
+    ticks = [el.text for g in svg.iter("{http://www.w3.org/2000/svg}g") if g.get("class") == "ticks"
+             for el in g.iter("{http://www.w3.org/2000/svg}text")]
+    assert "0" in ticks and len(ticks) >= 4
+    pins = {(el.get("data-part"), el.get("data-pin"), el.get("data-pad-net")) for el in svg.iter()
+            if el.get("data-pin") is not None}
+    assert pins == {(p.ref, p.pin, p.net) for p in placed_pads(board)}
+
+
+def test_page_violation_numbers_and_net_names():
+    board = loads_board(HAND)
+    vs = check(board)
+    located = [v for v in vs if v.at is not None]
+    text = page_html(board, vs, labels="nets")
+    svg = svg_of(text)
+    nums = _svg_texts(svg, "violation-number")
+    assert [el.text for el in nums] == [str(k) for k in range(1, len(located) + 1)]
+    assert len(re.findall(r'<li data-number="\d+">', text)) == len(located)
+    names = {el.text for el in _svg_texts(svg, "net-name")}
+    long_nets = {t.net for t in board.traces for a, b in zip(t.points, t.points[1:])
+                 if abs(a[0] - b[0]) + abs(a[1] - b[1]) >= 7.0}      # HAND: net A's 7.08 mm segment
+    assert long_nets == {"A"} and long_nets <= names
+    assert not _svg_texts(svg_of(page_html(board, vs)), "net-name")
+
+
+PIN_PROBE = r"""<script>
+(function () {
+  var pad = document.querySelector('[data-part="R1"][data-pin="2"]');
+  pad.dispatchEvent(new MouseEvent("mouseover", {bubbles: true}));
+  var pre = document.createElement("pre");
+  pre.id = "probe";
+  pre.textContent = document.getElementById("pin").textContent;
+  document.body.appendChild(pre);
+}());
+</script>
+</body>"""
+
+
+def test_chromium_shows_the_pin_under_the_pointer(tmp_path):
+    exe = chromium()
+    text = page_html(loads_board(HAND))
+    probe = tmp_path / "pin.html"
+    probe.write_text(text.replace("</body>", PIN_PROBE), encoding="utf-8")
+    dom = dump_dom(exe, probe.as_uri(), tmp_path)
+    m = re.search(r'<pre id="probe">(.*?)</pre>', dom, re.S)
+    assert m, dom[-2000:]
+    net = next(n.name for n in loads_board(HAND).nets if "R1.2" in n.pins)
+    assert html.unescape(m.group(1)) == f"part R1, pin 2, net {net}"
