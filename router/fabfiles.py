@@ -12,6 +12,7 @@
   length, clipped by the mask openings and kept inside the board;
 - a solder-paste file per copper side (:mod:`router.paste`);
 - ``bom.csv`` and ``placement.csv`` (:mod:`router.assembly`);
+- a 1:1 PDF print per copper layer for home etching (:mod:`router.printout`), the top mirrored;
 - the board outline (the profile);
 - two drill files, plated holes (pad drills, vias, jumper ends) and unplated holes apart,
   tools sorted by size, via holes and component holes on tools of their own;
@@ -298,6 +299,8 @@ def file_names(board: Board) -> dict[str, str]:
     names["outline"] = f"{stem}-outline.gbr"
     names["drill-plated"] = f"{stem}-holes-plated.drl"
     names["drill-nonplated"] = f"{stem}-holes-unplated.drl"
+    for layer in board.layers:
+        names[f"print-{layer}"] = f"{stem}-print-{layer}.pdf"
     names["bom"] = "bom.csv"
     names["placement"] = "placement.csv"
     names["list"] = f"{stem}-files.txt"
@@ -546,6 +549,8 @@ def _summary(board: Board, names: dict[str, str], plated: list[_Drill], nonplate
         "silk-bottom": "silkscreen, bottom",
         "paste-top": "solder paste, top: stencil openings over surface pads",
         "paste-bottom": "solder paste, bottom: stencil openings over surface pads",
+        "print-top": "1:1 print of the top copper, mirrored, for toner transfer (check the 50 mm bar)",
+        "print-bottom": "1:1 print of the bottom copper, seen from the top, for toner transfer (check the 50 mm bar)",
         "bom": "parts list: value, footprint, count, refs (for buying and kitting)",
         "placement": "placement: ref, value, footprint, x, y, rotation, side (for assembly; "
                      "bottom parts seen from the bottom)",
@@ -585,7 +590,10 @@ def _summary(board: Board, names: dict[str, str], plated: list[_Drill], nonplate
 
 # ----------------------------------------------------------------------------- export
 
-def _write(path: Path, text: str) -> None:
+def _write(path: Path, text) -> None:
+    if isinstance(text, bytes):
+        path.write_bytes(text)
+        return
     with open(path, "w", encoding="utf-8", newline="\n") as fh:
         fh.write(text)
 
@@ -623,7 +631,7 @@ def export(board: Board, out_dir, open_vias: bool = False) -> list[Path]:
     _check_input(board)
     names = file_names(board)
     pads = placed_pads(board)
-    texts: dict[str, str] = {}
+    texts: dict[str, str | bytes] = {}
     for i, layer in enumerate(board.layers, start=1):
         texts[f"copper-{layer}"] = _copper(board, layer, pads, i)
     openings = {side: _openings(board, side, pads, open_vias) for side in _SIDES}
@@ -635,6 +643,9 @@ def export(board: Board, out_dir, open_vias: bool = False) -> list[Path]:
     for layer in board.layers:
         texts[f"paste-{layer}"] = _paste(board, layer, pads)
     texts["outline"] = _outline(board)
+    from .printout import print_pdf
+    for layer in board.layers:        # toner transfer mirrors once: the top is printed mirrored
+        texts[f"print-{layer}"] = print_pdf(board, layer, mirror=(layer == "top"))[0]
     from .assembly import bom_csv, placement_csv
     texts["bom"] = bom_csv(board)
     texts["placement"] = placement_csv(board)

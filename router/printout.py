@@ -18,14 +18,14 @@ mirrored and the bottom layer as seen from the top (common practice).
 from __future__ import annotations
 
 import io
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 
 from .errors import BoardError
 from .model import Board
 from .safefile import write_atomic
 
-__all__ = ["print_layer", "PrintInfo", "PAGES", "MARGIN", "SCALE_BAR", "DRILL_MARK"]
+__all__ = ["print_layer", "print_pdf", "PrintInfo", "PAGES", "MARGIN", "SCALE_BAR", "DRILL_MARK"]
 
 #: Page sizes tried in order, (width, height) in mm (ISO 216 A4 and A3).
 PAGES = (("A4", 210.0, 297.0), ("A4 landscape", 297.0, 210.0), ("A3", 297.0, 420.0),
@@ -43,7 +43,7 @@ _PT = 72.0 / 25.4           # points per mm
 @dataclass(frozen=True)
 class PrintInfo:
     """What was printed: the page, where the board and the bar are on it (page mm, origin lower left)."""
-    path: Path
+    path: Path | None
     page: str
     page_size: tuple[float, float]
     board_origin: tuple[float, float]      # page position of the board's lower-left bound
@@ -86,6 +86,8 @@ def _layer_shapes(board: Board, layer: str):
 def print_layer(board: Board, path, layer: str | None = None, mirror: bool = False) -> PrintInfo:
     """Write the 1:1 PDF print of one copper layer of `board` to `path`, atomically.
 
+    See :func:`print_pdf` for what is drawn.
+
     Parameters
     ----------
     board : Board
@@ -105,6 +107,16 @@ def print_layer(board: Board, path, layer: str | None = None, mirror: bool = Fal
     BoardError
         For a path not ending in .pdf, a layer the board does not have, or an unplaced part.
     """
+    path = Path(path)
+    if path.suffix.lower() != ".pdf":
+        raise BoardError(str(path), "-o", f"a print is a .pdf file, not '{path.suffix or path.name}'; name it FILE.pdf")
+    data, info = print_pdf(board, layer, mirror)
+    write_atomic(path, data)
+    return replace(info, path=path)
+
+
+def print_pdf(board: Board, layer: str | None = None, mirror: bool = False) -> tuple[bytes, PrintInfo]:
+    """The 1:1 PDF print of one copper layer as bytes, and what was printed (its path is None)."""
     from matplotlib.backends.backend_pdf import FigureCanvasPdf
     from matplotlib.figure import Figure
     from matplotlib.patches import Circle, PathPatch, Polygon as MPolygon
@@ -113,9 +125,6 @@ def print_layer(board: Board, path, layer: str | None = None, mirror: bool = Fal
     from .draw import _path
     from .geometry import outline_polygon, placed_holes
 
-    path = Path(path)
-    if path.suffix.lower() != ".pdf":
-        raise BoardError(str(path), "-o", f"a print is a .pdf file, not '{path.suffix or path.name}'; name it FILE.pdf")
     layer = layer or board.layers[0]
     if layer not in board.layers:
         raise BoardError(board.source, "--layer", f"this board has no {layer} copper (layers: "
@@ -177,5 +186,4 @@ def print_layer(board: Board, path, layer: str | None = None, mirror: bool = Fal
 
     buf = io.BytesIO()
     fig.savefig(buf, format="pdf", metadata={"CreationDate": None, "Creator": "elbowroom"})
-    write_atomic(path, buf.getvalue())
-    return PrintInfo(path, page, (pw, ph), (ox, oy), bar, layer, mirror)
+    return buf.getvalue(), PrintInfo(None, page, (pw, ph), (ox, oy), bar, layer, mirror)

@@ -93,3 +93,16 @@ def test_cli_print_and_bad_input(tmp_path, capsys):
     assert main(["print", str(src), "-o", str(tmp_path / "c.png")]) == 2
     assert ".pdf" in capsys.readouterr().err
     assert not (tmp_path / "b.pdf").exists() and not (tmp_path / "c.png").exists()
+
+
+def test_export_writes_a_print_per_copper_layer(tmp_path):
+    from router.fabfiles import export, file_names
+    board = load_board(ROOT / "boards" / "soil-alarm-1layer.toml")
+    names = file_names(board)
+    files = {f.name for f in export(board, tmp_path)}
+    assert names["print-bottom"] in files and "print-top" not in names      # one-layer: bottom only
+    size, lines, _, _ = _read(tmp_path / names["print-bottom"])
+    assert size == pytest.approx((210.0, 297.0), abs=EXACT)
+    assert any(_mm(l["x1"] - l["x0"]) == pytest.approx(SCALE_BAR, abs=EXACT) for l in lines)
+    listing = (tmp_path / names["list"]).read_text()
+    assert names["print-bottom"] in listing and "toner transfer" in listing
