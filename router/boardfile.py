@@ -285,14 +285,14 @@ def _from_dict(data: dict, file) -> Board:
     refs: dict[str, int] = {}
     for i, pv in enumerate(r.array(data.get("parts", []), "[[parts]]")):
         ref_hint = pv.get("ref") if isinstance(pv, dict) and isinstance(pv.get("ref"), str) else None
-        entry = f"parts[{i}]" + (f" ({ref_hint})" if ref_hint else "")
+        entry = f"part {i + 1}" + (f" ({ref_hint})" if ref_hint else "")
         pv = r.table(pv, entry)
         r.keys(pv, entry, {"ref", "footprint", "value", "at", "rotation", "side", "fixed"}, ("ref", "footprint"))
         ref = r.string(pv["ref"], f"{entry} ref")
         if not re.fullmatch(r"[^\s.]+", ref):
             r.fail(entry, f"ref '{ref}' may not contain spaces or dots (pins are named REF.PIN)")
         if ref in refs:
-            r.fail(entry, f"duplicate ref '{ref}' (also parts[{refs[ref]}]); give each part its own ref")
+            r.fail(entry, f"duplicate ref '{ref}' (also part {refs[ref] + 1}); give each part its own ref")
         refs[ref] = i
         fpname = r.string(pv["footprint"], f"{entry} footprint")
         fp = resolve_footprint(fpname, own)
@@ -325,7 +325,7 @@ def _from_dict(data: dict, file) -> Board:
     pin_owner: dict[str, str] = {}
     for i, nv in enumerate(r.array(data.get("nets", []), "[[nets]]")):
         nhint = nv.get("name") if isinstance(nv, dict) and isinstance(nv.get("name"), str) else None
-        entry = f'nets "{nhint}"' if nhint else f"nets[{i}]"
+        entry = f'nets "{nhint}"' if nhint else f"net {i + 1}"
         nv = r.table(nv, entry)
         r.keys(nv, entry, {"name", "pins", "class"}, ("name", "pins"))
         nname = r.string(nv["name"], f"{entry} name")
@@ -360,7 +360,7 @@ def _from_dict(data: dict, file) -> Board:
     # [[keepouts]]
     keepouts = []
     for i, kv in enumerate(r.array(data.get("keepouts", []), "[[keepouts]]")):
-        entry = f"keepouts[{i}]"
+        entry = f"keepout {i + 1}"
         kv = r.table(kv, entry)
         r.keys(kv, entry, {"layers", "rect", "polygon"})
         klayers = None
@@ -384,11 +384,11 @@ def _from_dict(data: dict, file) -> Board:
     # copper
     traces = []
     for i, tv in enumerate(r.array(data.get("traces", []), "[[traces]]")):
-        entry = f"traces[{i}]"
+        entry = f"trace {i + 1}"
         tv = r.table(tv, entry)
         r.keys(tv, entry, {"net", "layer", "width", "points", "fixed"}, ("net", "layer", "width", "points"))
         net = _net_ref(r, tv["net"], entry, net_names)
-        entry = f'traces[{i}] (net "{net}")'
+        entry = f'trace {i + 1} (net "{net}")'
         layer = r.layer(tv["layer"], f"{entry} layer", layers)
         width = r.number(tv["width"], f"{entry} width", positive=True)
         pts = [r.point(p, f"{entry} points") for p in r.array(tv["points"], f"{entry} points")]
@@ -402,7 +402,7 @@ def _from_dict(data: dict, file) -> Board:
         traces.append(Trace(net, layer, width, pts, r.boolean(tv.get("fixed", False), f"{entry} fixed")))
     vias = []
     for i, vv in enumerate(r.array(data.get("vias", []), "[[vias]]")):
-        entry = f"vias[{i}]"
+        entry = f"via {i + 1}"
         vv = r.table(vv, entry)
         r.keys(vv, entry, {"net", "at", "drill", "diameter"}, ("net", "at"))
         if layers_n == 1:
@@ -415,7 +415,7 @@ def _from_dict(data: dict, file) -> Board:
         vias.append(Via(net, r.point(vv["at"], f"{entry} at"), drill, dia))
     jumpers = []
     for i, jv in enumerate(r.array(data.get("jumpers", []), "[[jumpers]]")):
-        entry = f"jumpers[{i}]"
+        entry = f"jumper {i + 1}"
         jv = r.table(jv, entry)
         r.keys(jv, entry, {"net", "from", "to", "drill", "diameter"}, ("net", "from", "to"))
         if layers_n == 2:
@@ -461,7 +461,7 @@ def _footprint(r: _Reader, fname, fval) -> Footprint:
     body = r.size(fval["body"], f"{entry}.body")
     pads = []
     for k, pv in enumerate(r.array(fval.get("pads", []), f"{entry}.pads")):
-        pentry = f"{entry}.pads[{k}]"
+        pentry = f"{entry} pad {k + 1}"
         pv = r.table(pv, pentry)
         if "at" in pv:
             r.fail(pentry, "a pad's place in its footprint is 'offset', not 'at'; rename the key")
@@ -487,7 +487,7 @@ def _footprint(r: _Reader, fname, fval) -> Footprint:
         pads.append(Pad(pin, r.point(pv["offset"], f"{pentry} offset"), shape, size, drill))
     holes = []
     for k, hv in enumerate(r.array(fval.get("holes", []), f"{entry}.holes")):
-        hentry = f"{entry}.holes[{k}]"
+        hentry = f"{entry} hole {k + 1}"
         hv = r.table(hv, hentry)
         if "at" in hv:
             r.fail(hentry, "a hole's place in its footprint is 'offset', not 'at'; rename the key")

@@ -20,14 +20,14 @@ class BoardError(ElbowroomError):
     file : str or None
         The file the entry came from (``None`` for a board built in code).
     entry : str
-        Where in the file, e.g. ``parts[3] (U7)`` or ``nets "SDA" pin "U9.4"``.
+        Where in the file, e.g. ``part 4 (U7)`` or ``nets "SDA" pin "U9.4"``.
     message : str
         What is wrong, ideally with the fix.
 
     Examples
     --------
-    >>> str(BoardError("a.toml", "parts[0] (U1)", "unknown footprint 'dip-7'"))
-    "a.toml: parts[0] (U1): unknown footprint 'dip-7'"
+    >>> str(BoardError("a.toml", "part 1 (U1)", "unknown footprint 'dip-7'"))
+    "a.toml: part 1 (U1): unknown footprint 'dip-7'"
     """
 
     def __init__(self, file, entry, message):

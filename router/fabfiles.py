@@ -313,16 +313,16 @@ def _check_input(board: Board) -> None:
     src = board.source
     for i, part in enumerate(board.parts):
         if part.at is None:
-            raise BoardError(src, f"parts[{i}] ({part.ref})",
+            raise BoardError(src, f"part {i + 1} ({part.ref})",
                              "the part has no place, so it has no copper to export; "
                              "place it first (elbowroom place)")
     for i, t in enumerate(board.traces):
         if t.layer not in board.layers:
-            raise BoardError(src, f"traces[{i}]",
+            raise BoardError(src, f"trace {i + 1}",
                              f"layer {t.layer!r} is not a copper layer of this board "
                              f"({', '.join(board.layers)})")
     if board.vias and board.copper_layers == 1:
-        raise BoardError(src, "vias[0]", "a one-layer board has no vias; use a jumper")
+        raise BoardError(src, "via 1", "a one-layer board has no vias; use a jumper")
     if len(board.outline) < 3 or not outline_polygon(board).is_valid:
         raise BoardError(src, "board.outline", "the outline is not a simple polygon; fix its corners")
 

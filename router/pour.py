@@ -329,9 +329,9 @@ def pour_board(board: Board) -> PourResult:
     names = {n.name for n in b.nets}
     for k, p in enumerate(b.pours):
         if p.net not in names:
-            raise BoardError(b.source, f"pours[{k}] net", f"unknown net '{p.net}'")
+            raise BoardError(b.source, f"pour {k + 1} net", f"unknown net '{p.net}'")
         if p.layer not in b.layers:
-            raise BoardError(b.source, f"pours[{k}] layer",
+            raise BoardError(b.source, f"pour {k + 1} layer",
                              f"unknown layer '{p.layer}' (this board has {', '.join(b.layers)})")
         p.filled, p.filled_for = [], None
     if not b.pours:

@@ -22,13 +22,13 @@ def read_pours(r, values, layers, net_names, rules: Rules, outline) -> list[Pour
     out = []
     board_poly = Polygon(outline).buffer(TOL, join_style="mitre")
     for i, pv in enumerate(r.array(values, "[[pours]]")):
-        entry = f"pours[{i}]"
+        entry = f"pour {i + 1}"
         pv = r.table(pv, entry)
         r.keys(pv, entry, POUR_KEYS, ("net", "layer"))
         net = r.string(pv["net"], f"{entry} net")
         if net not in net_names:
             r.fail(f"{entry} net", f"unknown net '{net}'; pour a net listed in [[nets]]")
-        entry = f'pours[{i}] (net "{net}")'
+        entry = f'pour {i + 1} (net "{net}")'
         layer = r.layer(pv["layer"], f"{entry} layer", layers)
         polygon = None
         if "polygon" in pv:
@@ -68,14 +68,14 @@ def read_pours(r, values, layers, net_names, rules: Rules, outline) -> list[Pour
         filled = []
         for k, piece in enumerate(r.array(pv.get("filled", []), f"{entry} filled")):
             rings = []
-            for m, ring in enumerate(r.array(piece, f"{entry} filled[{k}]")):
-                pts = [r.point(p, f"{entry} filled[{k}][{m}]") for p in r.array(ring, f"{entry} filled[{k}][{m}]")]
+            for m, ring in enumerate(r.array(piece, f"{entry} filled piece {k + 1}")):
+                pts = [r.point(p, f"{entry} filled piece {k + 1} ring {m + 1}") for p in r.array(ring, f"{entry} filled piece {k + 1} ring {m + 1}")]
                 if len(pts) < 3:
-                    r.fail(f"{entry} filled[{k}][{m}]", "a ring needs at least three corners; "
+                    r.fail(f"{entry} filled piece {k + 1} ring {m + 1}", "a ring needs at least three corners; "
                                                         "run `elbowroom pour` to recompute the fill")
                 rings.append(pts)
             if not rings:
-                r.fail(f"{entry} filled[{k}]", "a piece needs its outer ring; run `elbowroom pour` to recompute")
+                r.fail(f"{entry} filled piece {k + 1}", "a piece needs its outer ring; run `elbowroom pour` to recompute")
             filled.append(rings)
         filled_for = None
         if "filled_for" in pv:

@@ -710,7 +710,7 @@ def test_unplaced_part_leaves_the_folder_untouched(tmp_path):
     board.source = "b.toml"                      # as load_board sets it
     with pytest.raises(BoardError) as exc:
         export(board, out)
-    assert str(exc.value) == ("b.toml: parts[4] (C1): the part has no place, so it has no copper to "
+    assert str(exc.value) == ("b.toml: part 5 (C1): the part has no place, so it has no copper to "
                               "export; place it first (elbowroom place)")
     assert _snapshot(out) == before
     assert sorted(p.name for p in tmp_path.iterdir()) == ["fab"]     # no temporary folder left
@@ -771,7 +771,7 @@ def test_cli_export(tmp_path, capsys):
     src.write_text(UNPLACED)
     assert main(["export", str(src), "-o", str(tmp_path / "fab2")]) == 2
     err = capsys.readouterr().err.strip().splitlines()
-    assert len(err) == 1 and "parts[4] (C1)" in err[0] and "place it first" in err[0]
+    assert len(err) == 1 and "part 5 (C1)" in err[0] and "place it first" in err[0]
     assert not (tmp_path / "fab2").exists()
 
 

@@ -39,10 +39,10 @@ def test_good_board_loads():
     ('size = [30.0, 20.0]', 'size = [inf, 20.0]', ["board.size", "finite"]),
     ('size = [30.0, 20.0]', 'size = "big"', ["board.size", "pair"]),
     ('size = [30.0, 20.0]', 'outline = [[0,0],[10,10],[10,0],[0,10]]', ["board.outline", "not simple"]),
-    ('footprint = "dip-8"', 'footprint = "dip-7"', ["parts[0] (U1)", "unknown footprint 'dip-7'"]),
-    ('ref = "R1"', 'ref = "U1"', ["parts[1] (U1)", "duplicate ref"]),
-    ('at = [15.0, 10.0]', 'at = [15.0, 10.0]\nrotation = 45', ["parts[0] (U1)", "multiple of 90"]),
-    ('at = [15.0, 10.0]', 'at = [15.0, 10.0]\nside = "left"', ["parts[0] (U1)", "side"]),
+    ('footprint = "dip-8"', 'footprint = "dip-7"', ["part 1 (U1)", "unknown footprint 'dip-7'"]),
+    ('ref = "R1"', 'ref = "U1"', ["part 2 (U1)", "duplicate ref"]),
+    ('at = [15.0, 10.0]', 'at = [15.0, 10.0]\nrotation = 45', ["part 1 (U1)", "multiple of 90"]),
+    ('at = [15.0, 10.0]', 'at = [15.0, 10.0]\nside = "left"', ["part 1 (U1)", "side"]),
     ('pins = ["U1.1", "R1.1"]', 'pins = ["U1.9", "R1.1"]', ['nets "A" pin "U1.9"', "no pin '9'"]),
     ('pins = ["U1.1", "R1.1"]', 'pins = ["U9.4", "R1.1"]', ['nets "A" pin "U9.4"', "no part 'U9'"]),
     ('pins = ["U1.1", "R1.1"]', 'pins = ["U1.1", "R1.1"]\nclass = "hv"', ['nets "A"', "unknown class 'hv'"]),
@@ -63,13 +63,13 @@ def test_bad_entries(old, new, words):
 
 
 @pytest.mark.parametrize("extra,words", [
-    ('[[traces]]\nnet = "A"\nlayer = "top"\nwidth = 0.25\npoints = [[1, 1], [2, 2]]', ["traces[0]", "diagonal"]),
-    ('[[traces]]\nnet = "A"\nlayer = "top"\nwidth = 0.25\npoints = [[1, 1]]', ["traces[0]", "at least two points"]),
+    ('[[traces]]\nnet = "A"\nlayer = "top"\nwidth = 0.25\npoints = [[1, 1], [2, 2]]', ["trace 1", "diagonal"]),
+    ('[[traces]]\nnet = "A"\nlayer = "top"\nwidth = 0.25\npoints = [[1, 1]]', ["trace 1", "at least two points"]),
     ('[[traces]]\nnet = "A"\nlayer = "inner"\nwidth = 0.25\npoints = [[1, 1], [1, 2]]', ["layer", "unknown layer 'inner'"]),
-    ('[[traces]]\nnet = "Z"\nlayer = "top"\nwidth = 0.25\npoints = [[1, 1], [1, 2]]', ["traces[0]", "unknown net 'Z'"]),
+    ('[[traces]]\nnet = "Z"\nlayer = "top"\nwidth = 0.25\npoints = [[1, 1], [1, 2]]', ["trace 1", "unknown net 'Z'"]),
     ('[[traces]]\nnet = "A"\nlayer = "top"\nwidth = -0.25\npoints = [[1, 1], [1, 2]]', ["width", "greater than zero"]),
-    ('[[vias]]\nnet = "A"\nat = [3, 3]\ndrill = 0.8\ndiameter = 0.8', ["vias[0]", "as large as the diameter"]),
-    ('[[jumpers]]\nnet = "A"\nfrom = [3, 3]\nto = [3, 8]', ["jumpers[0]", "one-layer boards"]),
+    ('[[vias]]\nnet = "A"\nat = [3, 3]\ndrill = 0.8\ndiameter = 0.8', ["via 1", "as large as the diameter"]),
+    ('[[jumpers]]\nnet = "A"\nfrom = [3, 3]\nto = [3, 8]', ["jumper 1", "one-layer boards"]),
     ('[classes.thin]\ntrace_width = 0.1', ["classes.thin.trace_width", "below rules.min_trace_width"]),
     ('[footprints.blob]\nbody = [3, 3]\npads = [{ pin = "1", offset = [0, 0], size = [1.0, 1.0], drill = 1.0 }]',
      ["footprints.blob pad of pin 1", "as large as the pad"]),
@@ -81,7 +81,7 @@ def test_bad_entries(old, new, words):
     ('[footprints.blob]\nbody = [3, 3]\npads = [{ pin = "1", offset = [0, 0], shape = "oval", size = [1.0, 1.0] }]',
      ["use 'obround'"]),
     ('[footprints.blob]\nbody = [3, 3]\npads = [{ pin = "1", at = [0, 0], size = [1.0, 1.0] }]',
-     ["footprints.blob.pads[0]", "'offset', not 'at'"]),
+     ["footprints.blob pad 1", "'offset', not 'at'"]),
 ])
 def test_bad_copper_and_classes(extra, words):
     with pytest.raises(BoardError) as info:
@@ -126,3 +126,18 @@ def test_missing_file(capsys):
     from router import load_board
     with pytest.raises(BoardError, match="no such file"):
         load_board("/nonexistent/board.toml")
+
+
+def test_entries_count_from_one():
+    """Messages number entries as people count them: the second part is 'part 2', never 'parts[1]'."""
+    text = GOOD.replace('footprint = "chip-0805"', 'footprint = "chip-0807"')
+    with pytest.raises(BoardError) as info:
+        loads_board(text, "bad.toml")
+    assert "part 2 (R1)" in str(info.value) and "[" not in str(info.value).split(":")[1]
+    two = GOOD + '[[keepouts]]\nrect = [0, 0, 1, 1]\n[[keepouts]]\nrect = [5, 5, 4, 6]\n'
+    with pytest.raises(BoardError, match=r"keepout 2 rect: must have x1 > x0"):
+        loads_board(two, "bad.toml")
+    tr = GOOD + ('[[traces]]\nnet = "A"\nlayer = "top"\nwidth = 0.25\npoints = [[1, 1], [1, 2]]\n'
+                 '[[traces]]\nnet = "A"\nlayer = "top"\nwidth = 0.25\npoints = [[1, 1], [2, 2]]\n')
+    with pytest.raises(BoardError, match=r'trace 2 \(net "A"\): step 1 .* diagonal'):
+        loads_board(tr, "bad.toml")
