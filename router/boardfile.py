@@ -231,6 +231,12 @@ def _from_dict(data: dict, file) -> Board:
             else:
                 setattr(rules, key, r.number(value, entry, nonnegative=key in RULES_NONNEGATIVE,
                                              positive=key not in RULES_NONNEGATIVE))
+    g = rules.jumper_wire_gauge
+    from .rules import JUMPER_AMPACITY
+    if g != int(g) or int(g) not in JUMPER_AMPACITY:
+        r.fail("rules.jumper_wire_gauge", f"{g:g} is not a wire gauge of the jumper table; use a whole AWG "
+                                          f"from {min(JUMPER_AMPACITY)} to {max(JUMPER_AMPACITY)}")
+    rules.jumper_wire_gauge = int(g)
     if rules.via_drill >= rules.via_diameter:
         r.fail("rules.via_drill", f"drill {rules.via_drill} is as large as the via diameter "
                                   f"{rules.via_diameter}; make the drill smaller")
@@ -531,7 +537,7 @@ def _to_dict(board: Board) -> dict:
     rules = {}
     for f in fields(Rules):
         v = getattr(board.rules, f.name)
-        rules[f.name] = v if isinstance(v, str) else _num(v)
+        rules[f.name] = v if isinstance(v, (str, int)) else _num(v)
     d["rules"] = rules
     classes = {}
     for name, nc in board.classes.items():

@@ -27,7 +27,9 @@ from .connectivity import components, item_index
 from .copper import CopperItem, copper_items, holes
 from .geometry import body_rect, outline_polygon, part_footprint, placed_pads
 from .model import Board
-from .rules import ipc2221_spacing, ipc2221_width_for_current, required_clearance
+from .cautions import peak_note
+from .rules import (ipc2221_spacing, ipc2221_width_for_current, jumper_ampacity, required_clearance,
+                    via_current, via_drill_for_current)
 from .units import TOL, short_of
 
 __all__ = ["RULES", "Violation", "check", "warnings", "violations_json", "format_violations",
@@ -217,9 +219,20 @@ def _clearance_and_short(ctx: _Ctx) -> list[Violation]:
             out.append(Violation("short", [na, nb], layer, at, 0.0, _r(rq), msg))
         else:
             msg = (f"{_net_label(na)} and {_net_label(nb)} {_on(layer)}: {dist:.2f} mm apart at "
-                   f"{_fmt_at(at)}, {rq:.2f} mm required ({a.source}, {b.source})")
+                   f"{_fmt_at(at)}, {rq:.2f} mm required ({a.source}, {b.source})"
+                   f"{_voltage_reason(board, a.net, b.net, rq)}")
             out.append(Violation("clearance", [na, nb], layer, at, _r(dist), _r(rq), msg))
     return out
+
+
+def _voltage_reason(board: Board, na: str, nb: str, required: float) -> str:
+    """Where a declared voltage raised the required clearance: say so, and what the voltage means."""
+    ca, cb = board.net_class(na), board.net_class(nb)
+    volts = [v for v in (ca.voltage, cb.voltage) if v is not None]
+    if not volts or not short_of(max(ca.clearance, cb.clearance), required):
+        return ""
+    return (f"; IPC-2221 Table 6-1 ({board.rules.voltage_table}) spacing for {max(volts):g} V peak, "
+            f"{peak_note()}")
 
 
 def _open(ctx: _Ctx) -> list[Violation]:
@@ -429,6 +442,44 @@ def _width_and_current(board: Board) -> list[Violation]:
             msg = (f"{t.net} on {t.layer}: trace {ti + 1} is {t.width:.2f} mm wide at {_fmt_at(at)}, "
                    f"{w:.2f} mm needed for {nc.current:g} A (IPC-2221)")
             out.append(Violation("current", [t.net], t.layer, at, _r(t.width), _r(w), msg))
+    out += _via_and_jumper_current(board, class_nets)
+    return out
+
+
+def _via_and_jumper_current(board: Board, class_nets: dict) -> list[Violation]:
+    """Vias (the plated barrel as a conductor, IPC-2221) and jumper wires (their gauge's ampacity)
+    of a class that declares a current: each must carry the whole current, since one via or one
+    jumper may be all that joins two parts of the net. One violation per net and kind."""
+    rules = board.rules
+    out = []
+    for name, nc in board.classes.items():
+        if nc.current is None or not class_nets.get(name):
+            continue
+        nets = set(class_nets[name])
+        for net in sorted(nets):
+            weak = [(k, v) for k, v in enumerate(board.vias) if v.net == net and short_of(
+                via_current(v.drill, rules.plating_thickness, rules.temperature_rise), nc.current)]
+            if weak:
+                k, v = min(weak, key=lambda kv: (kv[1].drill, kv[0]))
+                amps = via_current(v.drill, rules.plating_thickness, rules.temperature_rise)
+                need = via_drill_for_current(nc.current, rules.plating_thickness, rules.temperature_rise)
+                at = _xy(v.at)
+                many = f"{len(weak)} vias, the smallest via {k + 1}" if len(weak) > 1 else f"via {k + 1}"
+                msg = (f"{net}: {many} at {_fmt_at(at)}, {v.drill:.2f} mm drill with "
+                       f"{rules.plating_thickness * 1000:g} um plating, carries {amps:.2f} A by IPC-2221 "
+                       f"(barrel as a conductor), {nc.current:g} A declared; a {need:.2f} mm drill or "
+                       f"vias side by side carry it")
+                out.append(Violation("current", [net], None, at, _r(v.drill), _r(need), msg))
+            jumps = [(k, j) for k, j in enumerate(board.jumpers) if j.net == net]
+            cap = jumper_ampacity(rules.jumper_wire_gauge)
+            if jumps and short_of(cap, nc.current):
+                k, j = jumps[0]
+                at = _xy(j.start)
+                many = f"{len(jumps)} jumpers, the first jumper {k + 1}" if len(jumps) > 1 else f"jumper {k + 1}"
+                msg = (f"{net}: {many} at {_fmt_at(at)}: a {rules.jumper_wire_gauge} AWG wire carries "
+                       f"{cap:g} A (wire table, chassis wiring), {nc.current:g} A declared; set "
+                       f"rules.jumper_wire_gauge to a thicker wire")
+                out.append(Violation("current", [net], None, at, None, None, msg))
     return out
 
 
@@ -441,7 +492,7 @@ def _voltage(board: Board) -> list[Violation]:
         nets = sorted(n.name for n in board.nets if n.net_class == name)
         if nets and short_of(nc.clearance, need):     # a class no net uses carries no voltage
             msg = (f"class {name}: clearance {nc.clearance:.2f} mm is below the {need:.2f} mm IPC-2221 "
-                   f"Table 6-1 ({board.rules.voltage_table}) asks for {nc.voltage:g} V")
+                   f"Table 6-1 ({board.rules.voltage_table}) asks for {nc.voltage:g} V peak; {peak_note()}")
             out.append(Violation("voltage", nets, None, None, _r(nc.clearance), _r(need), msg))
     return out
 

@@ -56,16 +56,24 @@ def cmd_place(args) -> int:
 
 def cmd_route(args) -> int:
     from . import load_board, save_board, route
+    from .cautions import cautions
+    from .preflight import check_summary, fit_notes, overlap_notes
     from .rules import CAUTION, needs_caution
     try:
         from . import negotiate  # noqa: F401
     except ImportError:
         _not_ready("route")
     board = load_board(args.board)
+    before = [f"before routing: {line}" for line in overlap_notes(board) + fit_notes(board)]
+    if not args.quiet and not args.json:
+        for line in before:
+            print(line)
     progress = (not args.quiet) and (not args.json) and sys.stderr.isatty()
     result = route(board, bend_penalty=args.bend_penalty, via_penalty=args.via_penalty,
                    seed=args.seed, reroute=args.reroute, progress=progress, passes=args.passes)
     save_board(result.board, args.output)
+    summary, violations = check_summary(result.board)       # the written board, as `check` sees it
+    removed = result.removed
     if args.json:
         figs = dict(result.figures)
         figs["totals"] = dict(figs["totals"], seconds=round(result.seconds, 3))
@@ -74,9 +82,18 @@ def cmd_route(args) -> int:
         if result.poured:
             figs["poured"] = [{"net": n, "layer": la, "pads_joined": j, "not_joined": m}
                               for n, la, j, m in result.poured]
+        figs["removed"] = removed.as_json() if removed is not None else None
+        figs["before"] = before
+        counts: dict = {}
+        for v in violations:
+            counts[v.rule] = counts.get(v.rule, 0) + 1
+        figs["check"] = {"violations": len(violations), "counts": counts}
+        figs["cautions"] = cautions(result.board)
         print(json.dumps(figs, indent=2))
     elif not args.quiet:
         t = result.figures["totals"]
+        if removed:
+            print(removed.sentence())
         print(f"routed {t['routed']} of {t['nets']} nets in {result.seconds:.1f} s: "
               f"{t['bends']} bends, {t['length']:.1f} mm, {t['vias']} vias, {t['jumpers']} jumpers")
         for net, reason in result.failed.items():
@@ -87,9 +104,12 @@ def cmd_route(args) -> int:
             for pad, why in missed.items():
                 print(f"    {pad} is joined by traces or vias instead: {why}")
         print(f"wrote {args.output}")
+        print(summary + (f" (elbowroom check {args.output} lists them)" if violations else ""))
         if needs_caution(result.board):
             print(CAUTION)
-    return EXIT_OK if not result.failed else EXIT_FINDINGS
+        for line in cautions(result.board):
+            print(line)
+    return EXIT_OK if not result.failed and not violations else EXIT_FINDINGS
 
 
 def cmd_check(args) -> int:
@@ -98,12 +118,19 @@ def cmd_check(args) -> int:
         from .check import check, format_violations, violations_json
     except ImportError:
         _not_ready("check")
+    from .cautions import cautions, not_declared, undeclared_note
     board = load_board(args.board)
     violations = check(board, strict=getattr(args, "strict", False))
     if args.json:
-        print(json.dumps(violations_json(violations), indent=2))
+        out = violations_json(violations)
+        out["not_declared"] = not_declared(board)     # rules nothing was declared for, so not checked
+        out["cautions"] = cautions(board)
+        print(json.dumps(out, indent=2))
     else:
         print(format_violations(violations, board))
+        note = undeclared_note(board)
+        for line in ([note] if note else []) + cautions(board):
+            print(line)
     return EXIT_FINDINGS if violations else EXIT_OK
 
 
@@ -156,6 +183,9 @@ def cmd_render(args) -> int:
         _not_ready("render")
     if not args.quiet:
         print(f"wrote {out}")
+        from .cautions import cautions
+        for line in cautions(board):
+            print(line)
     return EXIT_OK
 
 
@@ -170,8 +200,10 @@ def cmd_export(args) -> int:
     if not args.quiet:
         for f in files:
             print(f"wrote {f}")
+        from .cautions import cautions
         from .rules import CAUTION
-        print(CAUTION)
+        for line in [CAUTION] + cautions(board):
+            print(line)
     return EXIT_OK
 
 
@@ -223,6 +255,13 @@ def cmd_new(args) -> int:
 
 # ------------------------------------------------------------------ parser
 
+_ELECTRICAL = ("A class's voltage is the peak working voltage in V (AC: RMS x 1.414, so 230 V RMS mains "
+               "is 325 V): clearances rise to IPC-2221 Table 6-1 spacing for it, which is working "
+               "spacing, not safety isolation. A class's current (A) sizes its traces (IPC-2221), its vias "
+               "(the plated barrel, rules.plating_thickness, default 0.025 mm) and its jumper wires "
+               "(rules.jumper_wire_gauge, AWG, default 22). Over 50 V, or with a current, the "
+               "commands print a caution.")
+
 def build_parser() -> argparse.ArgumentParser:
     p = _Parser(prog="elbowroom",
                 description="Route, check, report, draw and export small one- and two-layer boards.",
@@ -230,8 +269,8 @@ def build_parser() -> argparse.ArgumentParser:
                        "rules and the local electrical codes; mains or high-voltage work needs licensed practice.")
     sub = p.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
 
-    def add(name, help_, func):
-        sp = sub.add_parser(name, help=help_, description=help_)
+    def add(name, help_, func, epilog=None):
+        sp = sub.add_parser(name, help=help_, description=help_, epilog=epilog)
         sp.set_defaults(func=func)
         sp.add_argument("-q", "--quiet", action="store_true", help="print nothing but errors")
         return sp
@@ -248,7 +287,14 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("--gap", type=float, default=None, metavar="MM",
                     help="body-to-body gap (default rules.part_gap, 0.5 mm)")
 
-    sp = add("route", "route every net that is not yet routed", cmd_route)
+    sp = add("route", "route every net that is not yet routed", cmd_route,
+             epilog="Without --reroute, copper that is not fixed and ends touching nothing of its net "
+                    "(left behind when a part moved) is removed first, and the output says how much. "
+                    "Before routing it names the classes that do not fit between a footprint's pads "
+                    "(trace_width + 2 x clearance, or neck_width + 2 x the own-pad clearance, against "
+                    "the pad gap) and part bodies that overlap; after routing it prints the check's "
+                    "summary of the written board. Exit 1 when a net stays unrouted or the written "
+                    "board has violations. " + _ELECTRICAL)
     sp.add_argument("board", help="board file")
     sp.add_argument("-o", "--output", required=True, metavar="OUT", help="routed board file to write")
     sp.add_argument("--bend-penalty", type=float, default=None, metavar="B",
@@ -266,7 +312,8 @@ def build_parser() -> argparse.ArgumentParser:
                     help="most negotiated-congestion passes (default 16)")
     sp.add_argument("--json", action="store_true", help="print the figures as JSON")
 
-    sp = add("check", "clearance, connectivity and manufacturing checks", cmd_check)
+    sp = add("check", "clearance, connectivity and manufacturing checks", cmd_check, epilog=_ELECTRICAL +
+             " When no class declares a voltage or a current, check says so once: neither was checked.")
     sp.add_argument("board", help="board file")
     sp.add_argument("--json", action="store_true", help="print the violations as JSON")
     sp.add_argument("--strict", action="store_true",
@@ -282,7 +329,8 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("--json", action="store_true", help="print the comparison as JSON")
     sp.add_argument("--plot", metavar="FILE", help="write a bar chart (.png or .svg)")
 
-    sp = add("render", "draw the board: .png, .svg or an interactive .html page", cmd_render)
+    sp = add("render", "draw the board: .png, .svg or an interactive .html page", cmd_render,
+             epilog="With --check the title counts the check's violations and warnings.")
     sp.add_argument("board", help="board file")
     sp.add_argument("-o", "--output", required=True, metavar="FILE", help="picture to write")
     sp.add_argument("--check", action="store_true", help="mark the check's violations, numbered and listed")

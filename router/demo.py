@@ -91,4 +91,7 @@ def run_demo(out: Path, quiet: bool = False) -> int:
     if skipped:
         say(f"not in this version yet: {', '.join(skipped)}")
     say(CAUTION)
+    from .cautions import cautions
+    for line in cautions(board):
+        say(line)
     return 0

@@ -235,7 +235,8 @@ def board_figure(board: Board, violations: Optional[Sequence] = None, dpi: float
     board : Board
     violations : list of router.check.Violation, optional
         Drawn as markers at their ``at``, each numbered; the numbers are listed with the rule and
-        message under the picture (those without a place are counted in the title).
+        message under the picture (those without a place are counted in the title); when given,
+        the title counts the check's warnings (:func:`router.check.warnings`) too.
     dpi : float
     labels : None or "nets"
         "nets": net names along long trace segments too.
@@ -389,6 +390,10 @@ def board_figure(board: Board, violations: Optional[Sequence] = None, dpi: float
         title += f", {len(violations)} violation{'s' if len(violations) != 1 else ''}"
         if unplaced:
             title += f" ({unplaced} without a place)"
+        from .check import warnings          # dangling ends, own pad spacing, stale pours
+        n_warn = len(warnings(board))
+        if n_warn:
+            title += f", {n_warn} warning{'s' if n_warn != 1 else ''}"
     fig.text(0.5, 1 - (_TITLE_IN * 0.55) / size[1], title, ha="center", va="center", fontsize=10)
 
     handles = [Patch(facecolor=STYLE[l], label=f"copper {l}") for l in board.layers]

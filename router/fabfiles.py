@@ -46,6 +46,7 @@ from shapely.geometry.base import BaseGeometry
 from .errors import BoardError
 from .geometry import PlacedPad, outline_polygon, pad_shape, placed_holes, placed_pads
 from .model import Board, Point
+from .cautions import cautions
 from .rules import CAUTION, class_clearance_table
 from .safefile import atomic_dir
 
@@ -584,6 +585,7 @@ def _summary(board: Board, names: dict[str, str], plated: list[_Drill], nonplate
         "Drill: plain-text drill format, metric, tools sorted by size.",
         "",
         CAUTION,
+        *cautions(board),        # mains and current cautions (router.cautions)
     ]
     return "\n".join(lines) + "\n"
 

@@ -42,6 +42,8 @@ class Rules:
     part_gap: float = 0.5            # placement: body to body
     voltage_table: str = "B2"        # IPC-2221 Table 6-1 column used for `voltage`
     paste_reduction: float | str = 0.0   # paste inset per side in mm, or "N%" of each pad side (router.paste)
+    plating_thickness: float = 0.025  # plated-hole wall copper, mm (25 um: common practice), for via current
+    jumper_wire_gauge: int = 22      # AWG of jumper wires, for their current (22 AWG: common practice)
 
 
 @dataclass

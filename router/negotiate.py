@@ -63,6 +63,7 @@ class RouteResult:
     passes: int = 0
     shared_left: int = 0
     poured: list = field(default_factory=list)     # per pour: (net, layer, pads joined, {pad: why not})
+    removed: object = None        # router.deadends.Removed: dead-end copper taken out first
 
     def __iter__(self):
         yield self.board
@@ -243,7 +244,9 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
         later pass and of the repair, and each net's order of trying steps (which of the paths of
         equal cost is taken). The same seed gives the same board, byte for byte.
     reroute : bool
-        Remove every trace that is not ``fixed``, and every via and jumper, first.
+        Remove every trace that is not ``fixed``, and every via and jumper, first. Without it,
+        the copper that is not ``fixed`` and ends touching nothing of its net is removed first
+        (:mod:`router.deadends`; ``result.removed`` says how much).
     progress : bool
         Show a progress bar (passes and nets) on stderr.
     passes : int, optional
@@ -268,10 +271,14 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
     """
     t0 = time.perf_counter()
     b = board.copy()
+    from .deadends import Removed, remove_dead_ends
+    removed = Removed()
     if reroute:
         b.traces = [t for t in b.traces if t.fixed]
         b.vias = []
         b.jumpers = []
+    else:                            # copper left behind when a part moved (router.deadends)
+        b, removed = remove_dead_ends(b)
     for p in b.pours:                # copper changes: the pour is filled again at the end (router.pour)
         p.filled, p.filled_for = [], None
     grid_pitch = b.rules.grid
@@ -311,6 +318,7 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
         result = after_route(result, bend_penalty=bend_penalty, via_penalty=via_penalty, seed=seed,
                              progress=progress, passes=passes, jumper_penalty=jumper_penalty,
                              polish=polish, retries=retries, every_net=every_net)
+    result.removed = removed.add(result.removed) if result.removed else removed
     return result
 
 
