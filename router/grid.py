@@ -321,6 +321,10 @@ class RoutingGrid:
             self.base_cell[k, :] = ok
             self.base_h[k, :] = h
             self.base_v[k, :] = v
+        # the edge alone, kept only where polygon keepouts change it (router.blockage names the cause)
+        self.edge_base = None
+        if any(not ko.is_rect for ko in self.board.keepouts):
+            self.edge_base = (self.base_cell.copy(), self.base_h.copy(), self.base_v.copy())
         # polygon keepouts: copper may touch, not enter
         for ko in self.board.keepouts:
             if ko.is_rect:

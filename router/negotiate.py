@@ -167,7 +167,7 @@ class _Negotiation:
             others = grid.obstacle_arrays([ob for n, items in sorted(self.soft.items()) if n != net
                                            for ob in items], prof)
         r = route_net(grid, net, space, self.groups[net], bend=self.bend, via=self.via, jump=self.jump,
-                      others=others, order=self.ties.get(net, (0, 1, 2, 3)))
+                      others=others, order=self.ties.get(net, (0, 1, 2, 3)), explain=strict)
         if r.blind:
             self.blind[net] = r.failed
         return r

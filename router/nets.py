@@ -301,7 +301,8 @@ def _lay_path(grid: RoutingGrid, space: SearchSpace, route: NetRoute, cells: np.
 
 
 def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[list], *,
-              bend: int, via: int, jump: int, others=None, order=(0, 1, 2, 3)) -> NetRoute:
+              bend: int, via: int, jump: int, others=None, order=(0, 1, 2, 3),
+              explain: bool = False) -> NetRoute:
     """Grow the rectilinear Steiner tree of one net.
 
     Parameters
@@ -319,6 +320,9 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
         which leave the grid, must keep clear of it too (used when other nets are walls).
     order : sequence of the headings 0..3
         The order the search tries steps in: it picks among paths of equal cost (the seed's ties).
+    explain : bool
+        When no way is found, name the kind of obstacle that closes it (:mod:`router.blockage`;
+        a few more searches, so only for the attempt whose reason is reported).
 
     Returns
     -------
@@ -374,7 +378,12 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
                 space.via_ok[j, i] = 0
         if path is None:
             names = ", ".join(terms[k].name for k in left[:3]) + (" ..." if len(left) > 3 else "")
-            route.failed = f"no way from {terms[first].name} to {names} past the other copper"
+            route.failed = f"no way from {terms[first].name} to {names}"
+            if explain:                  # the obstacle that closes the way (router.blockage)
+                from .blockage import closed_by
+                route.failed += ": " + closed_by(grid, net, space, sources, targets)
+            else:
+                route.failed += " past the obstacles around it"
             return route
         start = tuple(int(v) for v in path.cells[0])
         end = tuple(int(v) for v in path.cells[-1])
