@@ -17,6 +17,7 @@ that route.
 from __future__ import annotations
 
 import itertools
+import math
 from collections import defaultdict
 
 import numpy as np
@@ -33,7 +34,7 @@ _MOST_NAMED = 10          # nets or keepouts tried one by one when naming
 class _Relax:
     """The net's open maps, and the same maps with chosen kinds of obstacle taken away."""
 
-    def __init__(self, grid, net: str, space: SearchSpace):
+    def __init__(self, grid, net: str, space: SearchSpace, near=None):
         self.grid, self.net, self.space = grid, net, space
         prof = grid.profile_of(net)
         self.prof = prof
@@ -61,6 +62,11 @@ class _Relax:
         for ob in grid.obstacles:
             if id(ob) in own_ids:
                 continue
+            if near is not None:         # only obstacles whose reach comes into the box `near`
+                gx = max(ob.box[0] - near[2], near[0] - ob.box[2], 0.0)
+                gy = max(ob.box[1] - near[3], near[1] - ob.box[3], 0.0)
+                if math.hypot(gx, gy) >= grid._need(ob, prof, prof.half):
+                    continue
             kind = {"copper": "copper", "npth": "hole", "keepout": "keepout", "body": "body"}[ob.kind]
             if kind == "body" and net in ob.owners:
                 continue
@@ -82,16 +88,20 @@ class _Relax:
                     m[l] |= b
             self.poly[k] = maps
         self._cache = {}
+        self.window = None               # (layers, ja, jb, ia, ib): "opens" asks for an open cell there
         self.extra = np.zeros((grid.L, grid.ny, grid.nx), np.int32)
 
-    def _stamped(self, key, obstacles):
+    def _stamped(self, key, obstacles, keep: bool = True):
+        """Count maps of `obstacles` alone; kept for a whole kind, made afresh for one net or keepout
+        (so that memory stays at a few grids whatever the number of nets)."""
         got = self._cache.get(key)
         if got is None:
             g = self.grid
             got = tuple(np.zeros((g.L, g.ny, g.nx), np.int32) for _ in range(3))
             for ob in obstacles:
                 g._stamp_maps(ob, g._need(ob, self.prof, self.prof.half), 1, *got)
-            self._cache[key] = got
+            if keep:
+                self._cache[key] = got
         return got
 
     def _on_board(self):
@@ -121,24 +131,43 @@ class _Relax:
     def opens(self, kinds=(), nets=None, keepouts=None) -> bool:
         """True when the search finds a way with `kinds` taken away (for "copper" only the
         copper of `nets` when given, for "keepout" only `keepouts` when given)."""
+        if self.window is not None:
+            l_s, ja, jb, ia, ib, mask = self.window
+            return bool((self.maps(kinds, nets, keepouts)[0][l_s, ja:jb, ia:ib].astype(bool) & mask).any())
+        opened = self.maps(kinds, nets, keepouts)
+        sp = self.space
+        trial = SearchSpace(opened[0], opened[1], opened[2], sp.via_ok, self.extra, jump_ok=sp.jump_ok,
+                            wire_block=sp.wire_block, jump_cells=sp.jump_cells)
+        return find_path(trial, self.sources, self.targets, bend=0, via=0, jump=0) is not None
+
+    def maps(self, kinds=(), nets=None, keepouts=None):
+        """The open cells, h and v steps with `kinds` taken away (uint8 arrays)."""
         counts = [a.copy() for a in (self.cell, self.h, self.v)]
         for kind in ("hole", "body"):
             if kind in kinds:
                 for c, s in zip(counts, self._stamped(kind, self.obs[kind])):
                     c -= s
         if "copper" in kinds:
-            for n in (sorted(self.by_net) if nets is None else nets):
-                for c, s in zip(counts, self._stamped(("net", n), self.by_net[n])):
+            if nets is None:
+                for c, s in zip(counts, self._stamped("copper", self.obs["copper"])):
                     c -= s
+            else:
+                for n in nets:
+                    for c, s in zip(counts, self._stamped(("net", n), self.by_net[n], keep=False)):
+                        c -= s
         poly_gone = []
         if "keepout" in kinds:
-            chosen = sorted(set(self.by_keepout) | set(self.poly)) if keepouts is None else keepouts
-            for k in chosen:
-                if k in self.by_keepout:
-                    for c, s in zip(counts, self._stamped(("keepout", k), self.by_keepout[k])):
-                        c -= s
-                elif k in self.poly:
-                    poly_gone.append(k)
+            if keepouts is None:
+                for c, s in zip(counts, self._stamped("keepout", self.obs["keepout"])):
+                    c -= s
+                poly_gone = list(self.poly)
+            else:
+                for k in keepouts:
+                    if k in self.by_keepout:
+                        for c, s in zip(counts, self._stamped(("keepout", k), self.by_keepout[k], keep=False)):
+                            c -= s
+                    elif k in self.poly:
+                        poly_gone.append(k)
         opened = []
         for m, (c, base, edge_only) in enumerate(zip(counts, self.base, self.edge_only)):
             if "edge" in kinds:
@@ -158,10 +187,7 @@ class _Relax:
             if "routed" not in kinds:
                 o &= ~self.soft_closed[m]
             opened.append(np.ascontiguousarray(o.astype(np.uint8)))
-        sp = self.space
-        trial = SearchSpace(opened[0], opened[1], opened[2], sp.via_ok, self.extra, jump_ok=sp.jump_ok,
-                            wire_block=sp.wire_block, jump_cells=sp.jump_cells)
-        return find_path(trial, self.sources, self.targets, bend=0, via=0, jump=0) is not None
+        return opened
 
 
 def _near_first(relax: _Relax, names, boxes_of) -> list:
@@ -214,6 +240,38 @@ def _words(relax: _Relax, closing: list[str]) -> str:
         elif kind == "routed":
             parts.append("copper routed for other nets")
     return " and ".join(parts)
+
+
+def pad_closed_by(grid, net: str, space: SearchSpace, pad) -> str:
+    """The words for what closes every grid point near `pad` (inside its copper or a short
+    straight stub away) to `net`: for a pad with no way to the grid."""
+    from .copper import pad_core
+    from .grid import box_of_core
+    core, rad = pad_core(pad)
+    bx = box_of_core(core)
+    reach = rad + 2 * grid.pitch
+    near = (bx[0] - reach, bx[1] - reach, bx[2] + reach, bx[3] + reach)
+    relax = _Relax(grid, net, space, near=near)
+    ia, ib, ja, jb = grid._window(bx, reach)
+    layers = [grid.layer_index(l) for l in pad.layers if l in grid.layers]
+    X, Y = grid.xs[ia:ib], grid.ys[ja:jb]
+    gx = np.maximum(np.maximum(bx[0] - X, 0.0), X - bx[2])
+    gy = np.maximum(np.maximum(bx[1] - Y, 0.0), Y - bx[3])
+    # grid points inside the pad's copper or a short straight stub away (router.nets._STUB_MAX)
+    from .nets import _STUB_MAX
+    mask = np.hypot(gy[:, None], gx[None, :]) <= rad + _STUB_MAX * grid.pitch
+    relax.window = (layers, ja, jb, ia, ib, mask[None, :, :])
+    if relax.opens(()):
+        return "grid points near it are open, but no exit from the pad reaches one clear of other copper"
+    kinds = relax.present()
+    relax.sources = relax.targets = np.array([[layers[0], (ja + jb) // 2, (ia + ib) // 2]], dtype=np.int64)
+    singles = [k for k in kinds if relax.opens([k])]
+    if singles:
+        tail = "" if len(singles) == 1 else " (taking away any one of them opens a grid point)"
+        return "closed by " + _words(relax, singles) + tail
+    if relax.opens(kinds):
+        return "closed by " + _words(relax, kinds) + " together"
+    return "no grid point lies within reach of it"
 
 
 def closed_by(grid, net: str, space: SearchSpace, sources, targets) -> str:

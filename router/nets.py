@@ -344,8 +344,11 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
                         f"(for a {grid.profile_of(net).width:g} mm trace)")
         return route
     if blind:
-        route.failed = (f"pad {blind[0].name} has no open grid point within reach "
-                        f"(too close to other copper or the edge for a {grid.profile_of(net).width:g} mm trace)")
+        from .blockage import pad_closed_by      # name what closes the pad in (router.blockage)
+        why = pad_closed_by(grid, net, space, blind[0].pads[0]) if len(blind[0].pads) == 1 else \
+            "too close to other copper or the edge"
+        route.failed = (f"pad {blind[0].name} has no open grid point within reach for a "
+                        f"{grid.profile_of(net).width:g} mm trace: {why}")
         route.blind = others is None     # against fixed copper only: the same in every pass
         return route
     # start from the terminal nearest the net's centre, so the tree grows outwards

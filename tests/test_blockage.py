@@ -77,3 +77,11 @@ def test_cut_by_a_named_nets_copper():
             '[[nets]]\nname = "B"\npins = ["R2.1", "R2.2"]\n'
     b, why = reason(head() + PARTS + other + wall)
     assert "closed by copper of net B" in why, why
+
+
+def test_a_pad_walled_in_names_what_walls_it():
+    # a keepout over R1.2's whole pad and two pitches around it: no grid point near the pad is open
+    ko = '[[keepouts]]\nrect = [13.5, 8.5, 16.7, 11.5]\n'
+    assert box(13.5, 8.5, 16.7, 11.5).contains(box(15.08 - 0.9 - 0.5, 10 - 0.9 - 0.5, 15.08 + 0.9 + 0.5, 10 + 1.4))
+    b, why = reason(head() + PARTS + ko)
+    assert why == "pad R1.2 has no open grid point within reach for a 0.25 mm trace: closed by keepout 1", why
