@@ -91,6 +91,8 @@ def _end_touched(items, i: int, end, others) -> bool:
 
 def dead_items(board: Board) -> set[int]:
     """Positions in :func:`router.copper.copper_items` of `board` of the dead-end copper."""
+    if not (board.traces or board.vias or board.jumpers):
+        return set()                     # no copper but pads (and pours): nothing can be a dead end
     items = copper_items(board)
     touch = _touching(board, items)
     fixed = {ti for ti, t in enumerate(board.traces) if t.fixed}
