@@ -215,6 +215,9 @@ def cmd_print(args) -> int:
     if not args.quiet:
         print(f"wrote {info.path}: copper {info.layer}{', mirrored' if info.mirror else ''}, 1:1 on "
               f"{info.page} ({info.page_size[0]:g} x {info.page_size[1]:g} mm); check the 50 mm bar after printing")
+        from .cautions import cautions        # a board made at home carries the same cautions
+        for line in cautions(board):
+            print(line)
     return EXIT_OK
 
 
