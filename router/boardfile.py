@@ -30,7 +30,7 @@ __all__ = ["load_board", "save_board", "loads_board", "dumps_board", "validate_b
 FORMAT = 1
 TOP_KEYS = {"format", "board", "rules", "classes", "footprints", "parts", "nets", "keepouts",
             "traces", "vias", "jumpers", "pours"}
-PAD_SHAPES = ("round", "rectangle", "obround")   # the open Gerber standard's aperture words
+PAD_SHAPES = ("round", "rectangle", "obround", "rounded-rectangle")   # Gerber aperture words, and ours
 #: words of an older pad vocabulary, refused with the word to use instead
 OLD_PAD_SHAPES = {"circle": "round", "rect": "rectangle", "oval": "obround"}
 RULE_FIELDS = {f.name: f for f in fields(Rules)}
@@ -200,11 +200,12 @@ def _from_dict(data: dict, file) -> Board:
     if "size" in b and "outline" in b:
         r.fail("[board]", "give either size or outline, not both")
     size = None
+    outline_path = None
     if "size" in b:
         size = r.size(b["size"], "board.size")
         outline = [(0.0, 0.0), (size[0], 0.0), (size[0], size[1]), (0.0, size[1])]
     elif "outline" in b:
-        outline = r.polygon(b["outline"], "board.outline")
+        outline, outline_path = _outline(r, b["outline"])
     else:
         r.fail("[board]", "missing size (or outline); e.g. size = [60.0, 40.0]")
     layers_n = r.integer(b.get("copper_layers", 2), "board.copper_layers")
@@ -307,10 +308,7 @@ def _from_dict(data: dict, file) -> Board:
                           f"header-1x4, ...) or define it under [footprints.{fpname}]")
         value = r.string(pv.get("value", ""), f"{entry} value", nonempty=False)
         at = r.point(pv["at"], f"{entry} at") if "at" in pv else None
-        rot = r.number(pv.get("rotation", 0), f"{entry} rotation")
-        if rot != int(rot) or int(rot) % 90 != 0:
-            r.fail(entry, f"rotation {pv.get('rotation')} is not a multiple of 90; use 0, 90, 180 or 270")
-        rot = int(rot) % 360
+        rot = _angle(r.number(pv.get("rotation", 0), f"{entry} rotation"))
         side = r.string(pv.get("side", "top"), f"{entry} side")
         if side not in ("top", "bottom"):
             r.fail(entry, f"side '{side}' must be 'top' or 'bottom'")
@@ -443,7 +441,7 @@ def _from_dict(data: dict, file) -> Board:
 
     return Board(name=name, outline=outline, copper_layers=layers_n, rules=rules, classes=classes,
                  footprints=own, parts=parts, nets=nets, keepouts=keepouts, traces=traces, vias=vias,
-                 jumpers=jumpers, pours=pours, size=size, format=fmt)
+                 jumpers=jumpers, pours=pours, size=size, format=fmt, outline_path=outline_path)
 
 
 def _pin_list(fp: Footprint) -> str:
@@ -460,6 +458,48 @@ def _net_ref(r: _Reader, value, entry, net_names):
     return net
 
 
+def _angle(v: float) -> float:
+    """An angle in degrees in [0, 360), kept whole where it is whole."""
+    v = float(v) % 360.0
+    if abs(v - round(v)) <= 1e-9:
+        v = float(round(v) % 360)
+    return v
+
+
+def _outline(r: _Reader, value):
+    """The board outline: a polygon of corners, or a path of corners and arcs (router.outline)."""
+    from .outline import OutlineArc, arc_problem, chords
+    entry = "board.outline"
+    items = r.array(value, entry)
+    if not any(isinstance(e, dict) for e in items):
+        return r.polygon(items, entry), None
+    path: list = []
+    for k, e in enumerate(items):
+        if isinstance(e, dict):
+            aentry = f"board.outline[{k}]"
+            r.keys(e, aentry, {"to", "centre", "clockwise"}, ("to", "centre"))
+            path.append(OutlineArc(r.point(e["to"], f"{aentry} to"), r.point(e["centre"], f"{aentry} centre"),
+                                   r.boolean(e.get("clockwise", False), f"{aentry} clockwise")))
+        else:
+            path.append(r.point(e, entry))
+    if not isinstance(path[-1], OutlineArc) and len(path) > 1 and path[0] == path[-1]:
+        path.pop()
+    if len(path) < 2:
+        r.fail(entry, "an outline needs at least two entries (corners or arcs)")
+    ends = [tuple(e.to) if isinstance(e, OutlineArc) else tuple(e) for e in path]
+    for k, e in enumerate(path):
+        if isinstance(e, OutlineArc):
+            why = arc_problem(ends[k - 1], e)
+            if why:
+                r.fail(f"board.outline[{k}]", f"the arc to {list(e.to)} cannot be drawn: {why}")
+    pts = chords(path)
+    poly = Polygon(pts)
+    if not poly.is_valid or poly.area <= 0:
+        r.fail(entry, f"the outline is not simple ({explain_validity(poly)}); list its corners and arcs "
+                      "in order around it without crossing")
+    return pts, path
+
+
 def _footprint(r: _Reader, fname, fval) -> Footprint:
     entry = f"footprints.{fname}"
     fval = r.table(fval, entry)
@@ -471,7 +511,8 @@ def _footprint(r: _Reader, fname, fval) -> Footprint:
         pv = r.table(pv, pentry)
         if "at" in pv:
             r.fail(pentry, "a pad's place in its footprint is 'offset', not 'at'; rename the key")
-        r.keys(pv, pentry, {"pin", "offset", "shape", "size", "drill"}, ("pin", "offset", "size"))
+        r.keys(pv, pentry, {"pin", "offset", "shape", "size", "drill", "rotation", "corner_radius"},
+               ("pin", "offset", "size"))
         pin = pv["pin"]
         if isinstance(pin, int) and not isinstance(pin, bool):
             pin = str(pin)
@@ -484,13 +525,25 @@ def _footprint(r: _Reader, fname, fval) -> Footprint:
         if shape not in PAD_SHAPES:
             r.fail(pentry, f"unknown shape '{shape}' (known: {', '.join(PAD_SHAPES)})")
         size = r.size(pv["size"], f"{pentry} size")
+        corner = None
+        if shape == "rounded-rectangle":
+            if "corner_radius" not in pv:
+                r.fail(pentry, "a rounded-rectangle pad needs corner_radius (mm), e.g. corner_radius = 0.1")
+            corner = r.number(pv["corner_radius"], f"{pentry} corner_radius", positive=True)
+            if corner > min(size) / 2 + TOL:
+                r.fail(pentry, f"corner_radius {corner:g} is more than half the pad's smaller side "
+                               f"{min(size):g}; make it at most {min(size) / 2:g} (or use shape = \"obround\")")
+        elif "corner_radius" in pv:
+            r.fail(pentry, f"only a rounded-rectangle pad has a corner_radius, not a {shape} one; "
+                           "drop it or set shape = \"rounded-rectangle\"")
+        prot = _angle(r.number(pv.get("rotation", 0), f"{pentry} rotation"))
         drill = None
         if "drill" in pv:
             drill = r.number(pv["drill"], f"{pentry} drill", positive=True)
             if drill >= min(size) - TOL:
                 r.fail(pentry, f"drill {drill} is as large as the pad's smaller side {min(size)}; "
                                "make the pad larger or the drill smaller")
-        pads.append(Pad(pin, r.point(pv["offset"], f"{pentry} offset"), shape, size, drill))
+        pads.append(Pad(pin, r.point(pv["offset"], f"{pentry} offset"), shape, size, drill, prot, corner))
     holes = []
     for k, hv in enumerate(r.array(fval.get("holes", []), f"{entry}.holes")):
         hentry = f"{entry} hole {k + 1}"
@@ -531,7 +584,7 @@ def _to_dict(board: Board) -> dict:
     if board.size is not None:
         bt["size"] = _pt(board.size)
     else:
-        bt["outline"] = [_pt(p) for p in board.outline]
+        bt["outline"] = _outline_out(board)
     bt["copper_layers"] = board.copper_layers
     d["board"] = bt
     rules = {}
@@ -563,6 +616,10 @@ def _to_dict(board: Board) -> dict:
             pads = []
             for pad in fp.pads:
                 pd = {"pin": pad.pin, "offset": _pt(pad.offset), "shape": pad.shape, "size": _pt(pad.size)}
+                if pad.corner_radius is not None:
+                    pd["corner_radius"] = _num(pad.corner_radius)
+                if pad.rotation:
+                    pd["rotation"] = _rot(pad.rotation)
                 if pad.drill is not None:
                     pd["drill"] = _num(pad.drill)
                 pads.append(pd)
@@ -578,7 +635,7 @@ def _to_dict(board: Board) -> dict:
             pd["value"] = p.value
         if p.at is not None:
             pd["at"] = _pt(p.at)
-        pd["rotation"] = int(p.rotation)
+        pd["rotation"] = _rot(p.rotation)
         pd["side"] = p.side
         if p.fixed:
             pd["fixed"] = True
@@ -615,6 +672,34 @@ def _to_dict(board: Board) -> dict:
         from .pourfile import pours_to_list
         d["pours"] = pours_to_list(board.pours)
     return d
+
+
+def _rot(v) -> float | int:
+    """An angle as written: a whole number where it is whole."""
+    v = float(v)
+    return int(round(v)) if abs(v - round(v)) <= 1e-9 else _num(v)
+
+
+def _outline_out(board: Board) -> list:
+    from .outline import OutlineArc
+    if board.outline_path is None:
+        return [_pt(p) for p in board.outline]
+    path = list(board.outline_path)
+    first = next((k for k, e in enumerate(path) if not isinstance(e, OutlineArc)), None)
+    if first is None:                 # arcs only: start at the last arc's end (a corner on the path)
+        path = [tuple(path[-1].to)] + path
+    else:                             # a corner first (an arc starts where the entry before it ends)
+        path = path[first:] + path[:first]
+    out = []
+    for e in path:
+        if isinstance(e, OutlineArc):
+            d = {"to": _pt(e.to), "centre": _pt(e.centre)}
+            if e.clockwise:
+                d["clockwise"] = True
+            out.append(d)
+        else:
+            out.append(_pt(e))
+    return out
 
 
 def _literal(v) -> str:

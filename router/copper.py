@@ -1,9 +1,10 @@
 """Every copper item and every hole of a board, in board coordinates, exactly.
 
 A copper item is a *core* and a *radius*: the copper is every point within the
-radius of the core. A rectangular pad is its box with radius 0; a circular
-pad, a via and a jumper end are their centre point with radius d/2; an oval pad
-is its long axis (a one-segment line) with radius min(w, h)/2; each trace
+radius of the core. A rectangular pad is its box (a polygon when turned) with radius 0;
+a circular pad, a via and a jumper end are their centre point with radius d/2; an oval
+pad is its long axis (a one-segment line, at the pad's angle) with radius min(w, h)/2;
+a rounded rectangle is its inner rectangle with the corner radius; each trace
 segment is its line with radius width/2 (the round ends of the stroke come
 free). The distance between two items is then exact, with no polygon error:
 
@@ -20,7 +21,7 @@ from typing import Optional
 from shapely.geometry import LineString, Point as SPoint, Polygon, box
 from shapely.geometry.base import BaseGeometry
 
-from .geometry import ARC_SEGMENTS, PlacedPad, placed_holes, placed_pads
+from .geometry import ARC_SEGMENTS, PlacedPad, pad_core, placed_holes, placed_pads
 from .model import Board, Point
 
 __all__ = ["CopperItem", "HoleItem", "copper_items", "holes", "distance", "pad_core"]
@@ -94,27 +95,6 @@ class HoleItem:
     @property
     def at(self) -> Point:
         return (self.x, self.y)
-
-
-def pad_core(pad: PlacedPad) -> tuple[BaseGeometry, float]:
-    """The exact core and radius of a placed pad.
-
-    Examples
-    --------
-    >>> from router.geometry import PlacedPad
-    >>> core, r = pad_core(PlacedPad("U1", "1", "N", 0.0, 0.0, "obround", 3.0, 1.0, None, ("top",), 0))
-    >>> list(core.coords), r
-    ([(-1.0, 0.0), (1.0, 0.0)], 0.5)
-    """
-    x, y, w, h = pad.x, pad.y, pad.w, pad.h
-    if pad.shape == "rectangle":
-        return box(x - w / 2, y - h / 2, x + w / 2, y + h / 2), 0.0
-    r = min(w, h) / 2
-    if pad.shape == "round" or abs(w - h) <= 1e-12:
-        return SPoint(x, y), r
-    if w > h:
-        return LineString([(x - w / 2 + r, y), (x + w / 2 - r, y)]), r
-    return LineString([(x, y - h / 2 + r), (x, y + h / 2 - r)]), r
 
 
 def copper_items(board: Board) -> list[CopperItem]:

@@ -62,9 +62,11 @@ class Pad:
     """A pad of a footprint, in the footprint's own coordinates (body centre at 0, 0)."""
     pin: str
     offset: Point                    # the pad centre in the footprint's own coordinates
-    shape: str = "round"             # "round", "rectangle" or "obround" (Gerber aperture words)
-    size: Point = (1.6, 1.6)         # width along x, height along y
+    shape: str = "round"             # "round", "rectangle", "obround" or "rounded-rectangle"
+    size: Point = (1.6, 1.6)         # width along x, height along y (before the pad's own rotation)
     drill: Optional[float] = None    # None: a surface pad on the part's side
+    rotation: float = 0.0            # degrees counter-clockwise about the pad centre, in the footprint
+    corner_radius: Optional[float] = None   # rounded-rectangle only: the radius of its four corners
 
     @property
     def plated(self) -> bool:
@@ -102,7 +104,7 @@ class Part:
     footprint: str
     value: str = ""
     at: Optional[Point] = None        # None: unplaced
-    rotation: int = 0                 # 0, 90, 180, 270
+    rotation: float = 0               # degrees counter-clockwise, any value (0, 90, 180, 270 most often)
     side: str = "top"
     fixed: bool = False
 
@@ -179,7 +181,8 @@ class Pour:
 @dataclass
 class Board:
     name: str
-    outline: list[Point]              # a simple polygon; from `size` it is the rectangle
+    outline: list[Point]              # a simple polygon; from `size` it is the rectangle; with arcs,
+                                      # their chords (router.outline) for inside tests and pictures
     copper_layers: int = 2
     rules: Rules = field(default_factory=Rules)
     classes: dict[str, NetClass] = field(default_factory=lambda: {"default": NetClass("default")})
@@ -194,6 +197,7 @@ class Board:
     size: Optional[Point] = None      # set when the file gave `size`, kept for writing back
     format: int = 1
     source: Optional[str] = field(default=None, compare=False)   # the path it was read from
+    outline_path: Optional[list] = None   # the outline as given with arcs ([x, y] and router.outline.OutlineArc); None: no arcs
 
     @property
     def layers(self) -> tuple[str, ...]:
@@ -233,4 +237,5 @@ class Board:
             jumpers=[replace(j) for j in self.jumpers],
             pours=[replace(p, thermal=replace(p.thermal), filled=list(p.filled)) for p in self.pours],
             rules=replace(self.rules),
+            outline_path=None if self.outline_path is None else list(self.outline_path),
         )

@@ -41,7 +41,7 @@ def test_good_board_loads():
     ('size = [30.0, 20.0]', 'outline = [[0,0],[10,10],[10,0],[0,10]]', ["board.outline", "not simple"]),
     ('footprint = "dip-8"', 'footprint = "dip-7"', ["part 1 (U1)", "unknown footprint 'dip-7'"]),
     ('ref = "R1"', 'ref = "U1"', ["part 2 (U1)", "duplicate ref"]),
-    ('at = [15.0, 10.0]', 'at = [15.0, 10.0]\nrotation = 45', ["part 1 (U1)", "multiple of 90"]),
+    ('at = [15.0, 10.0]', 'at = [15.0, 10.0]\nrotation = "45"', ["part 1 (U1)", "must be a number"]),
     ('at = [15.0, 10.0]', 'at = [15.0, 10.0]\nside = "left"', ["part 1 (U1)", "side"]),
     ('pins = ["U1.1", "R1.1"]', 'pins = ["U1.9", "R1.1"]', ['nets "A" pin "U1.9"', "no pin '9'"]),
     ('pins = ["U1.1", "R1.1"]', 'pins = ["U9.4", "R1.1"]', ['nets "A" pin "U9.4"', "no part 'U9'"]),
