@@ -25,7 +25,8 @@ from shapely.ops import nearest_points
 
 from .connectivity import components, item_index
 from .copper import CopperItem, copper_items, holes
-from .geometry import body_rect, outline_polygon, part_footprint, placed_pads
+from .geometry import body_polygon, body_rect, outline_polygon, part_footprint, placed_pads
+from .outline import edge_distance
 from .model import Board
 from .cautions import peak_note
 from .rules import (ipc2221_spacing, ipc2221_width_for_current, jumper_ampacity, required_clearance,
@@ -279,7 +280,7 @@ def _edge(ctx: _Ctx) -> list[Violation]:
     boundary = outline.exterior
     shapely.prepare(outline)
     inside = shapely.covers(outline, ctx.cores)
-    d = shapely.distance(ctx.cores, boundary) - ctx.radii
+    d = edge_distance(board, ctx.cores) - ctx.radii       # exact, arcs of the outline included
     worst: dict[tuple, tuple] = {}
 
     def note(key, dist, i, at, what, required):
@@ -302,7 +303,7 @@ def _edge(ctx: _Ctx) -> list[Violation]:
             note((ctx.labels[i], _one_layer(it), "outline"), -math.inf, i, (p.x, p.y), "off the board",
                  ec)
         else:
-            p = nearest_points(it.core, boundary)[0]
+            p = nearest_points(it.core, boundary)[0]        # where (arcs: the chords' nearest point)
             note((ctx.labels[i], _one_layer(it), "outline"), float(d[i]), i, (p.x, p.y),
                  "the board edge", ec)
     npth = [h for h in holes(board) if not h.plated]
@@ -378,7 +379,7 @@ def _keepout(ctx: _Ctx) -> list[Violation]:
         if part.at is None or not part_footprint(board, part).keepout_body:
             continue
         own = {p.net for p in pads if p.ref == part.ref}
-        poly = box(*body_rect(board, part))
+        poly = body_polygon(board, part)
         shrunk = _shrink(poly)
         seen = set()
         for i in sorted(ctx.idx.intersection(poly.bounds)):
@@ -549,8 +550,9 @@ def _placement(board: Board) -> list[Violation]:
     grown = outline.buffer(TOL, join_style="mitre")
     placed = [p for p in board.parts if p.at is not None]
     rects = [body_rect(board, p) for p in placed]
-    for p, r in zip(placed, rects):
-        if not grown.covers(box(*r)):
+    polys = [body_polygon(board, p) for p in placed]
+    for p, r, poly in zip(placed, rects, polys):
+        if not grown.covers(poly):
             c = _xy(p.at)
             msg = f"{p.ref}: body runs off the board (centre {_fmt_at(c)})"
             out.append(Violation("placement", [], None, c, None, None, msg))
@@ -561,6 +563,16 @@ def _placement(board: Board) -> list[Violation]:
                 continue
             bx0, by0, bx1, by1 = rects[b]
             ox, oy = min(ax1, bx1) - max(ax0, bx0), min(ay1, by1) - max(ay0, by0)
+            if ox > TOL and oy > TOL and (float(placed[a].rotation) % 90 or float(placed[b].rotation) % 90):
+                # a turned body: its boxes overlap, do the bodies? (shrunk by TOL: touching is no overlap)
+                inter = _shrink(polys[a]).intersection(_shrink(polys[b]))
+                if inter.is_empty or inter.area <= 0:
+                    continue
+                q = inter.representative_point()
+                c = _xy((q.x, q.y))
+                msg = f"{placed[a].ref} and {placed[b].ref}: bodies overlap at {_fmt_at(c)}"
+                out.append(Violation("placement", [], None, c, None, None, msg))
+                continue
             if ox > TOL and oy > TOL:
                 c = _xy(((max(ax0, bx0) + min(ax1, bx1)) / 2, (max(ay0, by0) + min(ay1, by1)) / 2))
                 msg = f"{placed[a].ref} and {placed[b].ref}: bodies overlap at {_fmt_at(c)}"
@@ -570,10 +582,10 @@ def _placement(board: Board) -> list[Violation]:
         wires = [LineString([j.start, j.end]) if tuple(j.start) != tuple(j.end) else SPoint(j.start)
                  for j in board.jumpers]
         for ji, (j, w) in enumerate(zip(board.jumpers, wires)):
-            for p, r in zip(placed, rects):
+            for p, r, poly in zip(placed, rects, polys):
                 if p.side != side:
                     continue
-                body = _shrink(box(*r))
+                body = _shrink(poly)
                 if not body.is_empty and w.intersects(body):
                     q = w.intersection(body).representative_point()
                     c = _xy((q.x, q.y))

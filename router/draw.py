@@ -259,7 +259,7 @@ def board_figure(board: Board, violations: Optional[Sequence] = None, dpi: float
     from matplotlib.patches import Circle, Patch, Polygon as MPolygon, Rectangle
 
     from .connectivity import net_groups
-    from .geometry import (body_rect, outline_polygon, pad_shape, placed_holes, placed_pads,
+    from .geometry import (body_polygon, body_rect, outline_polygon, pad_shape, placed_holes, placed_pads,
                            ring_shape, trace_shape)
 
     placed_v = [v for v in (violations or []) if getattr(v, "at", None) is not None]
@@ -289,10 +289,9 @@ def board_figure(board: Board, violations: Optional[Sequence] = None, dpi: float
     for part in board.parts:
         if part.at is None:
             continue
-        bx0, by0, bx1, by1 = body_rect(board, part)
-        ax.add_patch(Rectangle((bx0, by0), bx1 - bx0, by1 - by0, facecolor="none",
-                               edgecolor=STYLE["body"], linewidth=0.6,
-                               linestyle=(0, (3, 2)) if part.side == "bottom" else "solid", zorder=2))
+        ax.add_patch(MPolygon(list(body_polygon(board, part).exterior.coords), closed=True, facecolor="none",
+                              edgecolor=STYLE["body"], linewidth=0.6,
+                              linestyle=(0, (3, 2)) if part.side == "bottom" else "solid", zorder=2))
 
     # pours: filled and semi-transparent, under the traces, thermal gaps showing (router.pour)
     if board.pours:

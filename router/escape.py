@@ -28,7 +28,7 @@ import shapely
 from shapely.geometry import Point as SPoint
 
 from .copper import pad_core
-from .geometry import PlacedPad, placed_pads
+from .geometry import PlacedPad, placed_pads, ray_through
 from .model import Board, NetClass
 from .rules import own_pad_clearance
 from .units import TOL
@@ -227,7 +227,12 @@ def escape_access(grid, space, net: str, pad: PlacedPad, others=None, most: int 
     full = grid._base_need(prof)
     found: dict = {}
     for _, _, dx, dy in dirs:
-        if dx:
+        if pad.angle:                 # a turned pad: where the axis from its centre leaves its copper
+            far = (x1 - x0) + (y1 - y0) + 2 * rad + 1.0
+            t = ray_through(core, rad, (pad.x, pad.y), (dx, dy), far, entering=False)
+            t = max(t - 2 * TOL, 0.0)    # just inside, so the exit touches the pad after rounding
+            start = (pad.x + dx * t, pad.y + dy * t)
+        elif dx:
             start = (x1 + rad if dx > 0 else x0 - rad, cy)
         else:
             start = (cx, y1 + rad if dy > 0 else y0 - rad)
@@ -356,7 +361,7 @@ def _pad_via_points(grid, net, pad, vd, drill, most):
     for i in range(int(math.ceil(inner[0] / g - 1e-9)), int(math.floor(inner[2] / g + 1e-9)) + 1):
         for j in range(int(math.ceil(inner[1] / g - 1e-9)), int(math.floor(inner[3] / g + 1e-9)) + 1):
             x, y = i * g, j * g
-            if pad.shape != "rectangle" and core.distance(SPoint(x, y)) > rad - vd / 2 + TOL:
+            if not _via_inside(pad, core, rad, SPoint(x, y), vd):
                 continue
             cands.append((math.hypot(x - pad.x, y - pad.y), i - grid.i0, j - grid.j0, x, y))
     cands.sort()
@@ -375,3 +380,19 @@ def _pad_via_points(grid, net, pad, vd, drill, most):
         if len(out) >= most:
             break
     return out
+
+
+def _via_inside(pad, core, rad: float, q, vd: float) -> bool:
+    """The via's disc (diameter `vd`, centre `q`) lies wholly inside the pad's copper, exactly.
+
+    A rectangle (turned or not): the centre inside and the disc clear of its sides. A rounded
+    rectangle: with a via radius at least the corner radius, the same in the full rectangle
+    (such a disc inside the rectangle misses the rounded corners); else within the corner
+    radius less the via radius of the inner rectangle. Round and obround: within the radius
+    less the via radius of the core.
+    """
+    from .geometry import turned_box
+    if pad.shape == "rectangle" or (pad.shape == "rounded-rectangle" and vd / 2 >= rad - TOL):
+        full = turned_box(pad.x, pad.y, pad.w, pad.h, pad.angle)
+        return full.contains(q) and full.exterior.distance(q) >= vd / 2 - TOL
+    return core.distance(q) <= rad - vd / 2 + TOL

@@ -2,9 +2,10 @@
 
 ``export(board, out_dir)`` writes, for the board as it is:
 
-- one Gerber file per copper layer: pads flashed in their shapes (rotation is in the placed
-  pad's width and height, since parts turn by quarter turns only), traces drawn with round
-  apertures of their width, vias and jumper ends flashed;
+- one Gerber file per copper layer: pads flashed in their shapes (a quarter turn is in the
+  placed pad's width and height; a pad turned by any other angle, and every rounded
+  rectangle, is flashed with an aperture macro of its own: :data:`MACROS`), traces drawn with
+  round apertures of their width, vias and jumper ends flashed;
 - a solder-mask file per copper side: pads and jumper ends opened by ``rules.mask_expansion``
   beyond their copper, vias covered unless ``open_vias``;
 - a silkscreen file per side (:mod:`router.silkscreen`): part outlines, refs in the project's
@@ -13,7 +14,7 @@
 - a solder-paste file per copper side (:mod:`router.paste`);
 - ``bom.csv`` and ``placement.csv`` (:mod:`router.assembly`);
 - a 1:1 PDF print per copper layer for home etching (:mod:`router.printout`), the top mirrored;
-- the board outline (the profile);
+- the board outline (the profile), arcs as circular arcs (G75, G02/G03);
 - two drill files, plated holes (pad drills, vias, jumper ends) and unplated holes apart,
   tools sorted by size, via holes and component holes on tools of their own;
 - a plain-text list of the files with the board's figures and :data:`router.rules.CAUTION`.
@@ -35,6 +36,7 @@ References
 """
 from __future__ import annotations
 
+import math
 import re
 from collections import defaultdict
 from dataclasses import dataclass, field
@@ -62,6 +64,17 @@ TEXT_HEIGHT = 1.0
 SILK_GAP = 0.1
 #: Width of the profile (board outline) lines in mm; the centre line is the edge.
 PROFILE_WIDTH = 0.1
+
+#: Aperture macros for pads the standard apertures cannot draw (Gerber specification, section
+#: 4.5: primitive 21 is a centred rectangle turned about the origin, primitive 1 a circle).
+#: TurnedRect: width, height, angle. TurnedOblong: straight length, diameter, angle of the long
+#: axis, both end centres (x, y). RoundedBox: the rectangle less its corners along x and along
+#: y (w, h - 2r, w - 2r, h), angle, corner diameter, the four corner centres (x, y).
+MACROS = {
+    "TurnedRect": "21,1,$1,$2,0,0,$3*",
+    "TurnedOblong": "21,1,$1,$2,0,0,$3*1,1,$2,$4,$5*1,1,$2,$6,$7*",
+    "RoundedBox": "21,1,$1,$2,0,0,$5*21,1,$3,$4,0,0,$5*1,1,$6,$7,$8*1,1,$6,$9,$10*1,1,$6,$11,$12*1,1,$6,$13,$14*",
+}
 
 _SIDES = ("top", "bottom")
 _SIDE_WORD = {"top": "Top", "bottom": "Bot"}
@@ -215,12 +228,37 @@ class _Gerber:
             self.apertures[key] = 10 + len(self.apertures)
         return self.apertures[key]
 
-    def pad_aperture(self, function: str, shape: str, w: float, h: float) -> int:
+    def pad_aperture(self, function: str, shape: str, w: float, h: float, angle: float = 0.0,
+                     corner: float = 0.0) -> int:
+        if shape == "rounded-rectangle":
+            if corner <= 1e-12:
+                shape = "rectangle"
+            elif corner >= min(w, h) / 2 - 1e-12:
+                shape = "obround"          # corners of half the short side: the stadium
+            else:
+                return self._rounded(function, w, h, angle, corner)
         if shape == "round":
             return self.aperture(function, "C", min(w, h))
         if shape == "obround" and abs(w - h) <= 1e-12:
             return self.aperture(function, "C", w)
+        if angle:
+            c, s = math.cos(math.radians(angle)), math.sin(math.radians(angle))
+            if shape == "rectangle":
+                return self.aperture(function, "TurnedRect", w, h, angle)
+            length, d = abs(w - h), min(w, h)
+            ux, uy = (c, s) if w > h else (-s, c)
+            along = angle if w > h else angle + 90.0
+            ex, ey = ux * length / 2, uy * length / 2
+            return self.aperture(function, "TurnedOblong", length, d, along, ex, ey, -ex, -ey)
         return self.aperture(function, "R" if shape == "rectangle" else "O", w, h)
+
+    def _rounded(self, function: str, w: float, h: float, angle: float, r: float) -> int:
+        c, s = math.cos(math.radians(angle)), math.sin(math.radians(angle))
+        corners = []
+        for u, v in ((w / 2 - r, h / 2 - r), (-(w / 2 - r), h / 2 - r), (-(w / 2 - r), -(h / 2 - r)),
+                     (w / 2 - r, -(h / 2 - r))):
+            corners += [c * u - s * v, s * u + c * v]
+        return self.aperture(function, "RoundedBox", w, h - 2 * r, w - 2 * r, h, angle, 2 * r, *corners)
 
     def _use(self, code: int) -> None:
         if code != self._current:
@@ -256,6 +294,8 @@ class _Gerber:
         lines += [f"%TF.{k},{v}*%" for k, v in self.file_attrs]
         lines += ["%LPD*%", "G01*"]
         last_function = None
+        for name in sorted({t for (_, t, _) in self.apertures if t in MACROS}):
+            lines.append(f"%AM{name}*{MACROS[name]}%")
         for (function, template, sizes), code in self.apertures.items():
             if function != last_function:
                 lines.append(f"%TA.AperFunction,{function}*%")
@@ -351,7 +391,7 @@ def _copper(board: Board, layer: str, pads: list[PlacedPad], index: int) -> str:
     for pad in pads:
         if layer not in pad.layers:
             continue
-        code = g.pad_aperture(_pad_function(pad), pad.shape, pad.w, pad.h)
+        code = g.pad_aperture(_pad_function(pad), pad.shape, pad.w, pad.h, pad.angle, pad.corner)
         g.attrs(N=_net_attr(pad.net), P=f"{_field(pad.ref)},{_field(pad.pin)}", C=_field(pad.ref))
         g.flash(code, pad.at)
     for t in board.traces:
@@ -384,6 +424,8 @@ class _Opening:
     at: Point
     w: float
     h: float
+    angle: float = 0.0
+    corner: float = 0.0
 
 
 def _openings(board: Board, side: str, pads: list[PlacedPad], open_vias: bool) -> list[_Opening]:
@@ -392,7 +434,8 @@ def _openings(board: Board, side: str, pads: list[PlacedPad], open_vias: bool) -
     out = []
     for pad in pads:
         if side in pad.layers or pad.plated:
-            out.append(_Opening(_pad_function(pad), pad.shape, pad.at, pad.w + 2 * e, pad.h + 2 * e))
+            out.append(_Opening(_pad_function(pad), pad.shape, pad.at, pad.w + 2 * e, pad.h + 2 * e,
+                                pad.angle, pad.corner + e if pad.shape == "rounded-rectangle" else 0.0))
     for j in board.jumpers:
         for at in (j.start, j.end):
             out.append(_Opening("ComponentPad", "round", at, j.diameter + 2 * e, j.diameter + 2 * e))
@@ -410,12 +453,12 @@ def _mask(board: Board, side: str, openings: list[_Opening]) -> str:
                 [_software(), ("Part", "Single"),
                  ("FileFunction", f"Soldermask,{_SIDE_WORD[side]}"), ("FilePolarity", "Negative")])
     for o in openings:
-        g.flash(g.pad_aperture(o.function, o.shape, o.w, o.h), o.at)
+        g.flash(g.pad_aperture(o.function, o.shape, o.w, o.h, o.angle, o.corner), o.at)
     return g.text()
 
 
 def _opening_shape(o: _Opening) -> BaseGeometry:
-    pad = PlacedPad("", "", "", o.at[0], o.at[1], o.shape, o.w, o.h, None, (), 0)
+    pad = PlacedPad("", "", "", o.at[0], o.at[1], o.shape, o.w, o.h, None, (), 0, o.angle, o.corner)
     return pad_shape(pad)
 
 
@@ -439,7 +482,7 @@ def _paste(board: Board, side: str, pads: list[PlacedPad]) -> str:
                 [_software(), ("Part", "Single"),
                  ("FileFunction", f"Paste,{_SIDE_WORD[side]}"), ("FilePolarity", "Positive")])
     for o in paste_openings(board, side, pads):
-        g.flash(g.pad_aperture("SMDPad,CuDef", o.shape, o.w, o.h), o.at)
+        g.flash(g.pad_aperture("SMDPad,CuDef", o.shape, o.w, o.h, o.angle, o.corner), o.at)
     return g.text()
 
 
@@ -448,6 +491,23 @@ def _outline(board: Board) -> str:
                 [_software(), ("Part", "Single"), ("FileFunction", "Profile,NP"),
                  ("FilePolarity", "Positive")])
     code = g.aperture("Profile", "C", PROFILE_WIDTH)
+    from .outline import OutlineArc, has_arcs
+    if has_arcs(board):              # arcs as arcs: G75 (multi quadrant), G02/G03 with I, J from the start
+        path = board.outline_path
+        ends = [tuple(map(float, e.to)) if isinstance(e, OutlineArc) else tuple(map(float, e)) for e in path]
+        g._use(code)
+        g.body.append("G75*")
+        x, y = ends[-1]
+        g.body.append(f"X{_num(x)}Y{_num(y)}D02*")
+        for e, (ex, ey) in zip(path, ends):
+            if isinstance(e, OutlineArc):
+                i, j = e.centre[0] - x, e.centre[1] - y
+                g.body.append(f"{'G02' if e.clockwise else 'G03'}X{_num(ex)}Y{_num(ey)}I{_num(i)}J{_num(j)}D01*")
+                g.body.append("G01*")
+            elif (ex, ey) != (x, y):
+                g.body.append(f"X{_num(ex)}Y{_num(ey)}D01*")
+            x, y = ex, ey
+        return g.text()
     pts = [tuple(map(float, p)) for p in board.outline]
     g.polyline(code, pts + [pts[0]])
     return g.text()

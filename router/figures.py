@@ -43,6 +43,7 @@ from collections import defaultdict
 from typing import Callable, Iterable, Optional, Sequence
 
 from rtree import index as rtree_index
+from shapely.geometry import Point as SPoint
 
 from .connectivity import routed as routed_nets
 from .copper import pad_core
@@ -174,9 +175,9 @@ class _Covers:
     def __init__(self, board: Board, pads):
         self.items: dict[str, list[tuple[Rect, float]]] = {L: [] for L in board.layers}
         for pad in pads:
-            core, r = pad_core(pad)
+            core = _cover_core(pad)
             for L in pad.layers:
-                self.items.setdefault(L, []).append((tuple(core.bounds), r))
+                self.items.setdefault(L, []).append(core)
         for v in board.vias:
             for L in board.layers:
                 self.items[L].append(((v.at[0], v.at[1], v.at[0], v.at[1]), v.diameter / 2))
@@ -189,10 +190,10 @@ class _Covers:
                 x, y = t.points[0]
                 self.items.setdefault(t.layer, []).append(((x, y, x, y), t.width / 2))
         self.index: dict[str, rtree_index.Index] = {}
-        self.pads = [(tuple(pad_core(p)[0].bounds), pad_core(p)[1]) for p in pads]
+        self.pads = [_cover_core(p) for p in pads]
         self.pad_index = rtree_index.Index(
             ((i, (b[0] - r - TOL, b[1] - r - TOL, b[2] + r + TOL, b[3] + r + TOL), None)
-             for i, (b, r) in enumerate(self.pads))) if self.pads else rtree_index.Index()
+             for i, (b, r) in enumerate((_box(c), r) for c, r in self.pads))) if self.pads else rtree_index.Index()
 
     def in_pad(self, x: float, y: float) -> bool:
         """True inside a part's pad on any layer."""
@@ -204,7 +205,7 @@ class _Covers:
             g = TOL
             self.index[layer] = rtree_index.Index(
                 ((i, (b[0] - r - g, b[1] - r - g, b[2] + r + g, b[3] + r + g), None)
-                 for i, (b, r) in enumerate(items))) if items else rtree_index.Index()
+                 for i, (b, r) in enumerate((_box(c), r) for c, r in items))) if items else rtree_index.Index()
         return self.index[layer]
 
     def on(self, layer: str) -> Callable[[float, float], bool]:
@@ -216,10 +217,23 @@ class _Covers:
         return covered
 
 
-def _within(item: tuple[Rect, float], x: float, y: float) -> bool:
-    """True when (x, y) lies within a core (box) plus radius, with TOL."""
-    (x0, y0, x1, y1), r = item
+def _within(item: tuple, x: float, y: float) -> bool:
+    """True when (x, y) lies within a core (a box, or a turned pad's shapely core) plus radius, with TOL."""
+    core, r = item[0], item[1]
+    if not isinstance(core, tuple):          # a turned pad: its exact core
+        return core.distance(SPoint(x, y)) <= r + TOL
+    x0, y0, x1, y1 = core
     return math.hypot(max(x0 - x, 0.0, x - x1), max(y0 - y, 0.0, y - y1)) <= r + TOL
+
+
+def _cover_core(pad) -> tuple:
+    """(core, radius) of a pad for :func:`_within`: its box, or its shapely core when turned."""
+    core, r = pad_core(pad)
+    return (core if pad.angle else tuple(core.bounds), r)
+
+
+def _box(core) -> Rect:
+    return core if isinstance(core, tuple) else tuple(core.bounds)
 
 
 # ------------------------------------------------------------------ bends of a whole net
@@ -760,8 +774,8 @@ def board_figures(board: Board) -> dict:
     pads_of: dict[str, list] = defaultdict(list)
     for pad in pads:
         rects_of[pad.net].append(pad.bounds())
-        core, r = pad_core(pad)
-        pads_of[pad.net].append((tuple(core.bounds), r, tuple(pad.layers)))
+        core, r = _cover_core(pad)
+        pads_of[pad.net].append((core, r, tuple(pad.layers)))
     segs_of: dict[str, dict[str, list[Segment]]] = defaultdict(lambda: defaultdict(list))
     length_of: dict[str, float] = defaultdict(float)
     for t in board.traces:

@@ -332,3 +332,29 @@ def trace_shape(trace: Trace) -> BaseGeometry:
 def ring_shape(at: Point, diameter: float) -> BaseGeometry:
     """A via or jumper end's copper: a disc of `diameter` (the drill is inside it)."""
     return SPoint(at).buffer(diameter / 2, quad_segs=ARC_SEGMENTS)
+
+
+def ray_through(core, radius: float, origin: Point, direction: Point, far: float, entering: bool) -> float:
+    """Where the ray origin + t * direction (t in [0, far]) crosses the edge of the copper
+    within `radius` of a convex `core`: the last t inside (``entering`` False: the origin is
+    inside) or the first t inside (``entering`` True: the far end is inside).
+
+    The distance from a convex core along a line is convex, so the copper on the ray is one
+    interval and bisection to 1e-12 mm finds its end; the t returned lies inside the copper.
+    """
+    ox, oy = origin
+    dx, dy = direction
+
+    def inside(t: float) -> bool:
+        return core.distance(SPoint(ox + dx * t, oy + dy * t)) <= radius
+
+    lo, hi = 0.0, far            # entering: lo outside, hi inside; leaving: lo inside, hi outside
+    for _ in range(200):
+        if hi - lo <= 1e-12:
+            break
+        mid = (lo + hi) / 2
+        if inside(mid) == entering:
+            hi = mid
+        else:
+            lo = mid
+    return hi if entering else lo

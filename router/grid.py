@@ -16,7 +16,11 @@ the jumper end's, diameter) keeps every required distance:
 Every obstacle's copper is an axis-parallel box (a point or a segment being a thin
 box) with a radius, as in :mod:`router.copper`, so the distance from a grid point or a
 grid step to it is exact (``hypot`` of the two axis gaps), with no polygon error, and
-is compared with :data:`router.units.TOL` as everywhere else.
+is compared with :data:`router.units.TOL` as everywhere else. A pad turned by an angle
+(and the body of a turned part) keeps its exact core (a turned polygon or segment,
+:attr:`Obstacle.core`): its box is only the window, and each grid point and step in the
+window is measured against the core by shapely (exact distances, no polygon of circles).
+The board edge, arcs included, is measured exactly by :mod:`router.outline`.
 
 Obstacles are *counted*: for each net class the grid holds, per cell and step, how
 many obstacles block it. A net's own copper is subtracted again when its search space
@@ -34,8 +38,9 @@ import numpy as np
 import shapely
 from shapely.geometry import Polygon
 
-from .copper import pad_core
-from .geometry import (PlacedPad, body_rect, outline_polygon, part_footprint, placed_holes, placed_pads)
+from .geometry import (PlacedPad, body_polygon, body_rect, outline_polygon, pad_core, part_footprint,
+                       placed_holes, placed_pads)
+from .outline import edge_distance, edge_distance_xy, has_arcs
 from .model import Board
 from .rules import required_clearance
 from .search import SearchSpace
@@ -71,6 +76,7 @@ class Obstacle:
     net: Optional[str] = None            # owning net of copper
     cls: Optional[str] = None            # owning net's class
     owners: frozenset = frozenset()      # nets free to enter a body
+    core: object = None                  # a turned core (shapely): measured exactly; None: the box is the core
 
 
 @dataclass(frozen=True)
@@ -190,7 +196,8 @@ class RoutingGrid:
             core, rad = pad_core(pad)
             layers = tuple(self.layers.index(l) for l in pad.layers if l in self.layers)
             self.obstacles.append(Obstacle("copper", box_of_core(core), rad, layers, pad.net,
-                                           self.net_class.get(pad.net, "default")))
+                                           self.net_class.get(pad.net, "default"),
+                                           core=core if pad.angle else None))
         for t in board.traces:
             if t.layer not in self.layers:
                 continue
@@ -223,8 +230,11 @@ class RoutingGrid:
         for part in board.parts:
             if part.at is None or not part_footprint(board, part).keepout_body:
                 continue
+            poly = body_polygon(board, part)
+            turned = float(part.rotation) % 90 != 0
             self.obstacles.append(Obstacle("body", tuple(body_rect(board, part)), 0.0, allL,
-                                           owners=frozenset(pad_nets.get(part.ref, ()))))
+                                           owners=frozenset(pad_nets.get(part.ref, ())),
+                                           core=poly if turned else None))
 
     def _need(self, ob: Obstacle, prof: ClassProfile, half: float) -> float:
         """Centre distance copper of half-size `half` of class `prof` must keep from `ob`'s core."""
@@ -251,20 +261,35 @@ class RoutingGrid:
                 # a via or jumper end of another net: its hole keeps min_hole_spacing too
                 drill = self.jump_drill if self.one_layer else self.via_drill
                 need = max(need, drill + self.rules.min_hole_spacing + 2 * self.jump_slack)
-            self._stamp_points(ob.box, need, sign, vm)
+            self._stamp_points(ob.box, need, sign, vm, core=ob.core)
 
-    def _stamp_points(self, box: Box, need: float, sign: int, arr2d: np.ndarray) -> None:
+    def _stamp_points(self, box: Box, need: float, sign: int, arr2d: np.ndarray, core=None) -> None:
         ia, ib, ja, jb = self._window(box, need)
         if ia >= ib or ja >= jb:
             return
         X, Y = self.xs[ia:ib], self.ys[ja:jb]
-        dx = _gap(X, X, box[0], box[2])
-        dy = _gap(Y, Y, box[1], box[3])
         lim = need - TOL
         if lim <= 0:
             return
-        m = (dy[:, None] ** 2 + dx[None, :] ** 2) < lim * lim
+        if core is not None:           # a turned core: exact distances from shapely
+            m = self._core_distance(core, X, Y) < lim
+        else:
+            dx = _gap(X, X, box[0], box[2])
+            dy = _gap(Y, Y, box[1], box[3])
+            m = (dy[:, None] ** 2 + dx[None, :] ** 2) < lim * lim
         arr2d[ja:jb, ia:ib] += sign * m
+
+    @staticmethod
+    def _core_distance(core, X, Y, di: float = 0.0, dj: float = 0.0) -> np.ndarray:
+        """Exact distance (ny, nx) from `core` to the grid points X x Y, or to the steps from
+        each point by (di, dj) when one is given."""
+        GX, GY = np.meshgrid(X, Y)
+        if di or dj:
+            a = np.stack([GX.ravel(), GY.ravel()], 1)
+            geoms = shapely.linestrings(np.stack([a, a + np.array([di, dj])], 1))
+        else:
+            geoms = shapely.points(GX.ravel(), GY.ravel())
+        return shapely.distance(core, geoms).reshape(GX.shape)
 
     def _stamp_maps(self, ob: Obstacle, need: float, sign: int, cell, hmap, vmap) -> None:
         lim = need - TOL
@@ -276,6 +301,18 @@ class RoutingGrid:
         g = self.pitch
         x0, y0, x1, y1 = ob.box
         X, Y = self.xs[ia:ib], self.ys[ja:jb]
+        if ob.core is not None:          # a turned core: exact distances from shapely
+            mc = self._core_distance(ob.core, X, Y) < lim
+            mh = mv = None
+            if hmap is not None:
+                mh = self._core_distance(ob.core, X, Y, g, 0.0) < lim
+                mv = self._core_distance(ob.core, X, Y, 0.0, g) < lim
+            for l in ob.layers:
+                cell[l, ja:jb, ia:ib] += sign * mc
+                if mh is not None:
+                    hmap[l, ja:jb, ia:ib] += sign * mh
+                    vmap[l, ja:jb, ia:ib] += sign * mv
+            return
         dx = _gap(X, X, x0, x1)
         dy = _gap(Y, Y, y0, y1)
         lim2 = lim * lim
@@ -302,7 +339,7 @@ class RoutingGrid:
         outline = self.outline
         shapely.prepare(outline)
         inside = shapely.contains_xy(outline, X.ravel(), Y.ravel()) | shapely.intersects_xy(outline, X.ravel(), Y.ravel())
-        dist = shapely.distance(outline.exterior, pts)
+        dist = edge_distance_xy(self.board, X.ravel(), Y.ravel())     # exact, arcs included
         ec = self.rules.edge_clearance
         self.base_cell = np.zeros((P, L, ny, nx), bool)
         self.base_h = np.zeros((P, L, ny, nx), bool)
@@ -351,7 +388,7 @@ class RoutingGrid:
         spacing = self.rules.min_hole_spacing + self.jump_slack     # a jumper's far end sits up to the slack off its grid point
         for pad in self.pads:
             core, rad = pad_core(pad)
-            self._stamp_points(box_of_core(core), rad + half, 1, blockv)
+            self._stamp_points(box_of_core(core), rad + half, 1, blockv, core=core if pad.angle else None)
             if pad.drill is not None:
                 self._stamp_points((pad.x, pad.y, pad.x, pad.y), pad.drill / 2 + drill / 2 + spacing, 1, blockv)
         for h in placed_holes(self.board):
@@ -367,8 +404,9 @@ class RoutingGrid:
                 if part.at is None:
                     continue
                 bx = body_rect(self.board, part)
-                self._stamp_points(tuple(bx), half, 1, blockv)
-                self._stamp_points(tuple(bx), TOL * 2, 1, self.wire)
+                poly = body_polygon(self.board, part) if float(part.rotation) % 90 else None
+                self._stamp_points(tuple(bx), half, 1, blockv, core=poly)
+                self._stamp_points(tuple(bx), TOL * 2, 1, self.wire, core=poly)
             for jm in self.board.jumpers:
                 self.add_wire(jm.start, jm.end, +1)
         self.base_via = okv & (blockv == 0)
@@ -381,7 +419,7 @@ class RoutingGrid:
                 continue
             xa, ya = self.xs[ii], self.ys[jj]
             lines = shapely.linestrings(np.stack([np.stack([xa, ya], 1), np.stack([xa + di * g, ya + dj * g], 1)], 1))
-            d = shapely.distance(boundary, lines)
+            d = edge_distance(self.board, lines)
             good = (d >= need - TOL) & shapely.covers(inside_poly, lines)
             arr[jj[~good], ii[~good]] = False
 
@@ -537,17 +575,19 @@ class RoutingGrid:
             oy = np.maximum(np.maximum(oboxes[:, 1] - bx[3], 0.0), bx[1] - oboxes[:, 3])
             if np.any((np.hypot(ox, oy) < oneed + half - TOL) & ((omask >> layer) & 1).astype(bool)):
                 return False
+        line = shapely.linestrings([a, b]) if a != b else shapely.points(a)
         for k in np.nonzero(hit)[0]:
             ob = self.obstacles[k]
             if ob.kind == "copper" and ob.net == net:
                 continue
             if ob.kind == "body" and net in ob.owners:
                 continue
+            if ob.core is not None and not shapely.distance(ob.core, line) < base[k] + half - TOL:
+                continue                 # a turned core: its box was near, the core itself is not
             return False
-        line = shapely.linestrings([a, b]) if a != b else shapely.points(a)
         if not shapely.covers(self.outline, line):
             return False
-        if shapely.distance(self.outline.exterior, line) < self.rules.edge_clearance + half - TOL:
+        if edge_distance(self.board, [line])[0] < self.rules.edge_clearance + half - TOL:
             return False
         for ko in self.board.keepouts:
             if layer not in [self.layers.index(l) for l in ko.layers_on(self.layers) if l in self.layers]:

@@ -34,6 +34,7 @@ from dataclasses import dataclass, field
 from typing import Optional
 
 import numpy as np
+from shapely.geometry import Point as SPoint
 
 from .connectivity import components
 from .copper import copper_items, pad_core
@@ -495,7 +496,7 @@ def _repair(neg: _Negotiation, lost: dict, rounds: int, order: Optional[list] = 
 
 def _anchor_test(grid: RoutingGrid, net: str, r: NetRoute):
     pads = [p for p in grid.pads if p.net == net]
-    cores = [(box_of_core(c), rad) for c, rad in (pad_core(p) for p in pads)]
+    cores = [(box_of_core(c), rad, c if p.angle else None) for p, (c, rad) in ((p, pad_core(p)) for p in pads)]
     points = {(round(x, 6), round(y, 6)) for x, y in r.via_points(grid)}
     for a, b in r.jumpers:
         points.add((round(a[0], 6), round(a[1], 6)))
@@ -504,7 +505,11 @@ def _anchor_test(grid: RoutingGrid, net: str, r: NetRoute):
     def anchored(p) -> bool:
         if p in points:
             return True
-        for (x0, y0, x1, y1), rad in cores:
+        for (x0, y0, x1, y1), rad, core in cores:
+            if core is not None:             # a turned pad: its exact core
+                if core.distance(SPoint(*p)) <= rad + TOL:
+                    return True
+                continue
             gx = max(x0 - p[0], 0.0, p[0] - x1)
             gy = max(y0 - p[1], 0.0, p[1] - y1)
             if math.hypot(gx, gy) <= rad + TOL:

@@ -27,6 +27,7 @@ from functools import lru_cache
 from typing import Optional
 
 import numpy as np
+from shapely.geometry import Point as SPoint
 
 from .copper import pad_core
 from .grid import JUMP_PITCH, RoutingGrid, box_of_core
@@ -90,6 +91,8 @@ def _access(grid: RoutingGrid, space: SearchSpace, net: str, pad, others=None) -
     gy = np.maximum(np.maximum(bx[1] - Y, 0.0), Y - bx[3])
     d2 = gy[:, None] ** 2 + gx[None, :] ** 2
     inside = d2 <= (rad + TOL) ** 2
+    if pad.angle:                        # a turned pad: grid points inside its exact copper
+        inside = grid._core_distance(core, X, Y) <= rad + TOL
     for l in layers:
         oc = space.open_cell[l, ja:jb, ia:ib].astype(bool)
         jj, ii = np.nonzero(inside & oc)
@@ -105,7 +108,10 @@ def _access(grid: RoutingGrid, space: SearchSpace, net: str, pad, others=None) -
         for j, i in zip(*np.nonzero(oc & ~inside)):
             x, y = float(X[i]), float(Y[j])
             stub = None
-            if gx[i] <= rad - TOL or (rad == 0 and gx[i] == 0):
+            if pad.angle:
+                if core.distance(SPoint(x, y)) - rad <= _STUB_MAX * g:
+                    stub = _turned_stub(core, rad, (x, y), reach)
+            elif gx[i] <= rad - TOL or (rad == 0 and gx[i] == 0):
                 q = (x, min(max(y, bx[1]), bx[3]))
                 stub = (q, (x, y))
             elif gy[j] <= rad - TOL or (rad == 0 and gy[j] == 0):
@@ -147,6 +153,28 @@ def _access(grid: RoutingGrid, space: SearchSpace, net: str, pad, others=None) -
     # a pad escape: straight out of the pad's end, then to the grid, narrowed where needed (router.escape)
     from .escape import escape_access
     return escape_access(grid, space, net, pad, others)
+
+
+def _turned_stub(core, rad: float, p, reach: float):
+    """A straight stub along x or y from grid point `p` into a turned pad's copper (the
+    shorter way), or None: the stub's pad end is found exactly on the copper's edge."""
+    from shapely.geometry import LineString
+    from shapely.ops import nearest_points
+    from .geometry import ray_through
+    best = None
+    for d in ((1.0, 0.0), (-1.0, 0.0), (0.0, 1.0), (0.0, -1.0)):
+        far = (p[0] + d[0] * 2 * reach, p[1] + d[1] * 2 * reach)
+        ray = LineString([p, far])
+        if core.distance(ray) > rad - TOL:
+            continue                     # this way misses the pad (or only grazes it)
+        q = nearest_points(ray, core)[0]
+        tmax = abs(q.x - p[0]) + abs(q.y - p[1])
+        t = ray_through(core, rad, p, d, tmax, entering=True)
+        if best is None or t < best[0]:
+            best = (t, (p[0] + d[0] * t, p[1] + d[1] * t))
+    if best is None:
+        return None
+    return (best[1], p)
 
 
 #: Longest straight stub, in grid pitches (a stub is free in the search, so it is kept short).

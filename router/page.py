@@ -88,9 +88,10 @@ def _pad_svg(p, fill: str) -> str:
     if p.shape == "round" or (p.shape == "obround" and abs(p.w - p.h) < 1e-12):
         el = f'<circle cx="{_n(p.x)}" cy="{_n(p.y)}" r="{_n(min(p.w, p.h) / 2)}" fill="{fill}"'
     else:
-        r = min(p.w, p.h) / 2 if p.shape == "obround" else 0.0
+        r = min(p.w, p.h) / 2 if p.shape == "obround" else (p.corner if p.shape == "rounded-rectangle" else 0.0)
+        turn = f' transform="rotate({_n(p.angle)} {_n(p.x)} {_n(p.y)})"' if p.angle else ""
         el = (f'<rect x="{_n(p.x - p.w / 2)}" y="{_n(p.y - p.h / 2)}" width="{_n(p.w)}" height="{_n(p.h)}"'
-              + (f' rx="{_n(r)}" ry="{_n(r)}"' if r else "") + f' fill="{fill}"')
+              + (f' rx="{_n(r)}" ry="{_n(r)}"' if r else "") + turn + f' fill="{fill}"')
     el += f' data-part="{_a(p.ref)}" data-pin="{_a(p.pin)}" data-pad-net="{_a(p.net)}"'
     return el + f'><title>{_a(p.name)} ({_a(p.net)})</title></{"circle" if el.startswith("<circle") else "rect"}>'
 
@@ -102,7 +103,7 @@ def _points(pts) -> str:
 def _svg(board: Board, violations: Optional[Sequence], groups: dict,
          labels: Optional[str] = None) -> tuple[str, list[str]]:
     """The board's SVG element and the list of toggleable layers (key, label) in order."""
-    from .geometry import body_rect, placed_holes, placed_pads
+    from .geometry import body_polygon, body_rect, placed_holes, placed_pads
 
     xs = [p[0] for p in board.outline]
     ys = [p[1] for p in board.outline]
@@ -134,12 +135,12 @@ def _svg(board: Board, violations: Optional[Sequence], groups: dict,
         layers.append(("parts", "part bodies"))
         out.append('<g data-layer="parts">')
         for part in placed:
-            bx0, by0, bx1, by1 = body_rect(board, part)
             dash = ' stroke-dasharray="4 3"' if part.side == "bottom" else ""
-            out.append(f'<rect class="body" x="{_n(bx0)}" y="{_n(by0)}" width="{_n(bx1 - bx0)}" '
-                       f'height="{_n(by1 - by0)}" fill="none" stroke="{STYLE["body"]}" stroke-width="1"'
-                       f' vector-effect="non-scaling-stroke"{dash}><title>{_a(part.ref)} {_a(part.footprint)}'
-                       f'{" " + _a(part.value) if part.value else ""} ({part.side})</title></rect>')
+            corners = list(body_polygon(board, part).exterior.coords)[:-1]
+            out.append(f'<polygon class="body" points="{_points(corners)}" fill="none" stroke="{STYLE["body"]}" '
+                       f'stroke-width="1" vector-effect="non-scaling-stroke"{dash}><title>{_a(part.ref)} '
+                       f'{_a(part.footprint)}{" " + _a(part.value) if part.value else ""} ({part.side})</title>'
+                       f'</polygon>')
         out.append("</g>")
 
     pads = placed_pads(board)

@@ -89,6 +89,8 @@ class PasteOpening:
     w: float
     h: float
     window: bool = False          # one window of an exposed pad
+    angle: float = 0.0            # a turned pad's angle (router.geometry.PlacedPad.angle)
+    corner: float = 0.0           # a rounded rectangle's corner radius, reduced with the pad
 
 
 def exposed_pads(board: Board, pads: list[PlacedPad]) -> set[tuple[str, int]]:
@@ -114,12 +116,14 @@ def _windows(p: PlacedPad) -> list[PasteOpening]:
     nx, ny = math.ceil(p.w / WINDOW_CELL - 1e-9), math.ceil(p.h / WINDOW_CELL - 1e-9)
     cw, ch = p.w / nx, p.h / ny
     out = []
+    c, s = math.cos(math.radians(p.angle)), math.sin(math.radians(p.angle))
     for j in range(ny):
         for i in range(nx):
-            cx = p.x - p.w / 2 + (i + 0.5) * cw
-            cy = p.y - p.h / 2 + (j + 0.5) * ch
+            u = -p.w / 2 + (i + 0.5) * cw          # in the pad's own frame, turned with it
+            v = -p.h / 2 + (j + 0.5) * ch
+            cx, cy = p.x + c * u - s * v, p.y + s * u + c * v
             out.append(PasteOpening(p.ref, p.pin, "rectangle", (round(cx, 9), round(cy, 9)),
-                                    round(cw * WINDOW_SCALE, 9), round(ch * WINDOW_SCALE, 9), True))
+                                    round(cw * WINDOW_SCALE, 9), round(ch * WINDOW_SCALE, 9), True, p.angle))
     return out
 
 
@@ -147,5 +151,9 @@ def paste_openings(board: Board, side: str, pads: list[PlacedPad] | None = None)
             raise BoardError(board.source, "rules.paste_reduction",
                              f"{red!r} leaves pad {p.name} ({fp}, {p.w:g} x {p.h:g} mm) no paste; "
                              "make the reduction smaller")
-        out.append(PasteOpening(p.ref, p.pin, p.shape, p.at, w, h))
+        corner = 0.0
+        if p.shape == "rounded-rectangle":       # the corners shrink with the pad
+            corner = (p.corner * (1.0 - float(red.rstrip("%")) / 100.0) if isinstance(red, str)
+                      else max(p.corner - red, 0.0))
+        out.append(PasteOpening(p.ref, p.pin, p.shape, p.at, w, h, False, p.angle, corner))
     return out

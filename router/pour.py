@@ -136,7 +136,8 @@ def _pad_polygon(item: CopperItem):
 def _spokes(item: CopperItem, n: int, width: float, reach: float) -> list:
     """Spoke rectangles from the pad centre outwards: +-x (and +-y with four)."""
     pad = item.pad
-    x, y, hw, hh = pad.x, pad.y, pad.w / 2, pad.h / 2
+    bx0, by0, bx1, by1 = pad.bounds()          # a turned pad: spokes reach past its bounding box
+    x, y, hw, hh = pad.x, pad.y, (bx1 - bx0) / 2, (by1 - by0) / 2
     w2 = width / 2
     out = []
     along_x = n == 4 or pad.w >= pad.h

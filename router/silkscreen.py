@@ -32,7 +32,7 @@ from shapely.geometry.base import BaseGeometry
 from shapely.ops import unary_union
 
 from .fabfiles import SILK_GAP, SILK_WIDTH, TEXT_HEIGHT, text_strokes, text_width
-from .geometry import ARC_SEGMENTS, body_rect, outline_polygon, part_footprint, part_rect, transform
+from .geometry import ARC_SEGMENTS, body_polygon, body_rect, outline_polygon, part_footprint, part_rect, transform
 from .model import Board, Part, Point
 
 __all__ = ["Silk", "silk_layer", "to_local", "DOT", "PLUS", "BAND_STEP", "FUNCTIONS"]
@@ -91,6 +91,9 @@ def to_local(part: Part, at: Point) -> Point:
         x, y = -x, -y
     elif r == 270:
         x, y = -y, x
+    elif r != 0:                       # any other angle: turn back by it
+        c, s = math.cos(math.radians(r)), math.sin(math.radians(r))
+        x, y = c * x + s * y, -s * x + c * y
     if part.side == "bottom":
         x = -x
     return (round(x, 9) + 0.0, round(y, 9) + 0.0)
@@ -290,8 +293,8 @@ def silk_layer(board: Board, side: str, openings: Sequence[BaseGeometry]) -> Sil
     for part in board.parts:
         if part.side != side or part.at is None:
             continue
-        x0, y0, x1, y1 = body_rect(board, part)
-        pen.lines("outline", [[(x0, y0), (x1, y0), (x1, y1), (x0, y1), (x0, y0)]])
+        body = [tuple(map(float, p)) for p in body_polygon(board, part).exterior.coords]   # turned with the part
+        pen.lines("outline", [body])
         centre = _ref_centre(board, part, pen)
         silk.labels.append((part.ref, centre))
         pen.lines("ref", text_strokes(part.ref, centre, TEXT_HEIGHT, mirror=(side == "bottom")))
