@@ -458,11 +458,11 @@ def _net_ref(r: _Reader, value, entry, net_names):
     return net
 
 
-def _angle(v: float) -> float:
-    """An angle in degrees in [0, 360), kept whole where it is whole."""
+def _angle(v: float) -> float | int:
+    """An angle in degrees in [0, 360): an int where it is whole (quarter turns stay 0, 90, ...)."""
     v = float(v) % 360.0
     if abs(v - round(v)) <= 1e-9:
-        v = float(round(v) % 360)
+        return int(round(v)) % 360
     return v
 
 

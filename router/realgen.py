@@ -7,7 +7,9 @@ quad no-lead package at 0.5 mm pitch with its exposed pad, or a thin shrink dual
 resistors beside it, and a 0.5 mm pitch flat-cable connector at the module's edge. Supply
 and ground are many-pad nets over every module, a two-wire bus joins the fine-pitch parts,
 the outline is a rounded rectangle (its arcs as polygon points), and some parts sit off the
-grid. The footprints are the file's own (``[footprints]``), so the boards need no built-in
+grid. With ``angled=True`` the outline's corners are true arcs (:mod:`router.outline`) and
+parts sit at 45 degrees as designers turn them: about a third of the fine-pitch parts and a
+quarter of the decoupling capacitors (boards the routers before turned pads cannot read). The footprints are the file's own (``[footprints]``), so the boards need no built-in
 fine-pitch family.
 
 Sources of the dimensions (pads are the project's choice, as in :mod:`router.footprints`):
@@ -94,7 +96,14 @@ def _rounded_rect(w: float, h: float, r: float, step_deg: float = 15.0) -> list:
     return pts
 
 
-def real_board(seed: int, nets: int = 60) -> Board:
+def _arc_outline(w: float, h: float, r: float) -> list:
+    """A rounded rectangle as a path of corners and true arcs (counter-clockwise)."""
+    from .outline import OutlineArc
+    return [(r, 0.0), (w - r, 0.0), OutlineArc((w, r), (w - r, r)), (w, h - r), OutlineArc((w - r, h), (w - r, h - r)),
+            (r, h), OutlineArc((0.0, h - r), (r, h - r)), (0.0, r), OutlineArc((r, 0.0), (r, r))]
+
+
+def real_board(seed: int, nets: int = 60, angled: bool = False) -> Board:
     """A board that looks like a real two-layer design, about `nets` nets (30 to 200).
 
     Parameters
@@ -103,6 +112,8 @@ def real_board(seed: int, nets: int = 60) -> Board:
         The same seed and `nets` give the same board.
     nets : int
         Wanted number of nets; the board gets one module per about 22 nets.
+    angled : bool
+        Arcs in the outline, and some fine-pitch parts and capacitors at 45 degrees.
 
     Returns
     -------
@@ -156,7 +167,7 @@ def real_board(seed: int, nets: int = 60) -> Board:
         if rng.random() < 0.6:
             n = int(rng.choice([16, 20, 24, 32]))
             f = _quad(n)
-            ic = add(fp(f), mx, my + 1.0)
+            ic = add(fp(f), mx, my + 1.0, rot=45 if angled and rng.random() < 0.35 else 0)
             sides = n // 4
             supply = [sides - 1, 2 * sides - 1, 3 * sides]          # pins on three sides
             ground = [sides, 2 * sides + 1, n + 1]                 # and the exposed pad
@@ -176,7 +187,7 @@ def real_board(seed: int, nets: int = 60) -> Board:
             d = math.hypot(ox, oy) or 1.0
             cx = mx + ox / d * (f.body[0] / 2 + 3.0) + (1.2 if abs(oy) > abs(ox) else 0.0)
             cy = my + 1.0 + oy / d * (f.body[1] / 2 + 3.0) + (0.0 if abs(oy) > abs(ox) else 1.2)
-            c = add(c0402, cx, cy, rot=90 if abs(ox) > abs(oy) else 0)
+            c = add(c0402, cx, cy, rot=(90 if abs(ox) > abs(oy) else 0) + (45 if angled and rng.random() < 0.25 else 0))
             net_pins["VCC"].append(f"{c}.1")
             net_pins["GND"].append(f"{c}.2")
         for g_ in ground:
@@ -225,6 +236,13 @@ def real_board(seed: int, nets: int = 60) -> Board:
                 net_pins[name] = [f"{ic}.{pin}", f"{con}.{k + 2}"]
         free_prev = free[nsig:]
     net_list = [Net(n, p, cls_of.get(n, "default")) for n, p in net_pins.items() if len(p) >= 2]
-    b = Board(name=f"real-{seed}", outline=_rounded_rect(W, H, float(rng.choice([2.0, 3.0, 4.0]))),
-              copper_layers=2, rules=rules, classes=classes, footprints=fps, parts=parts, nets=net_list)
+    corner = float(rng.choice([2.0, 3.0, 4.0]))
+    path = _arc_outline(W, H, corner) if angled else None
+    if path is not None:
+        from .outline import chords
+        outline = chords(path)
+    else:
+        outline = _rounded_rect(W, H, corner)
+    b = Board(name=f"real-{seed}", outline=outline, copper_layers=2, rules=rules, classes=classes,
+              footprints=fps, parts=parts, nets=net_list, outline_path=path)
     return b

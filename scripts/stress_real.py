@@ -3,7 +3,7 @@
 Usage::
 
     python scripts/stress_real.py --seeds A B [--nets N ...] [--baseline DIR | --no-baseline]
-                                  [--commit REV] [--save DIR]
+                                  [--commit REV] [--save DIR] [--angled]
 
 Each seed in ``A .. B-1`` makes one board with ``real_board(seed, nets)`` (the nets cycle through
 ``--nets``, default 30 60 100 150 200). The board is routed in this process with today's code,
@@ -84,6 +84,9 @@ def main(argv=None) -> int:
     ap.add_argument("--commit", default="9bd7d45")
     ap.add_argument("--no-baseline", action="store_true")
     ap.add_argument("--save", type=Path)
+    ap.add_argument("--angled", action="store_true",
+                    help="boards with arc outlines and parts at 45 degrees (real_board(angled=True)); "
+                         "a baseline from before turned pads cannot read them")
     args = ap.parse_args(argv)
     if not args.no_baseline:
         ensure_baseline(args.baseline, args.commit)
@@ -97,7 +100,7 @@ def main(argv=None) -> int:
         tmp = Path(td)
         for k, seed in enumerate(range(*args.seeds)):
             n = args.nets[k % len(args.nets)]
-            text = dumps_board(real_board(seed, n))
+            text = dumps_board(real_board(seed, n, angled=args.angled))
             board = loads_board(text)
             t0 = time.perf_counter()
             r = route_board(board, seed=0)
