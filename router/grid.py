@@ -587,7 +587,8 @@ class RoutingGrid:
             return False
         if not shapely.covers(self.outline, line):
             return False
-        if edge_distance(self.board, [line])[0] < self.rules.edge_clearance + half - TOL:
+        need = self.rules.edge_clearance + half - TOL
+        if edge_distance(self.board, [line], upto=need)[0] < need:
             return False
         for ko in self.board.keepouts:
             if layer not in [self.layers.index(l) for l in ko.layers_on(self.layers) if l in self.layers]:

@@ -147,9 +147,13 @@ def straight_edges(path: Sequence) -> Optional[MultiLineString]:
 
 @lru_cache(maxsize=64)
 def _resolved(path: tuple):
+    """Arcs, straight edges, the outline's box, and each arc's wedges reaching well past the box."""
     arcs = arcs_of(path)
     lines = straight_edges(path)
-    return arcs, lines
+    x0, y0, x1, y1 = Polygon(chords(path)).bounds
+    diag = math.hypot(x1 - x0, y1 - y0)
+    wedges = [_wedges(a, 2 * diag + a.radius + 1.0) for a in arcs]
+    return arcs, lines, (x0, y0, x1, y1), diag, wedges
 
 
 def _key(board) -> tuple:
@@ -170,13 +174,13 @@ def _wedges(arc: Arc, far: float) -> list[Polygon]:
     return out
 
 
-def _arc_distance(arc: Arc, geoms: np.ndarray, far: float) -> np.ndarray:
+def _arc_distance(arc: Arc, geoms: np.ndarray, wedges) -> np.ndarray:
     """Exact distance from each geometry to one arc."""
     ends = MultiPoint([arc.start, arc.end])
     best = shapely.distance(geoms, ends)
     c = SPoint(arc.centre)
     R = arc.radius
-    for wedge in _wedges(arc, far):
+    for wedge in wedges:
         inter = shapely.intersection(geoms, wedge)
         parts, owner = shapely.get_parts(inter, return_index=True)
         if len(parts) == 0:
@@ -195,13 +199,16 @@ def _arc_distance(arc: Arc, geoms: np.ndarray, far: float) -> np.ndarray:
     return best
 
 
-def edge_distance(board, geoms) -> np.ndarray:
+def edge_distance(board, geoms, upto: float = math.inf) -> np.ndarray:
     """Exact distance of each geometry in `geoms` to the board's edge (straight edges and arcs).
 
     Parameters
     ----------
     board : Board
     geoms : array-like of shapely geometries
+    upto : float, optional
+        Only distances below `upto` are needed: an arc that every geometry is at least `upto`
+        from (measured to its whole circle's disc) is not measured.
 
     Returns
     -------
@@ -210,17 +217,27 @@ def edge_distance(board, geoms) -> np.ndarray:
     """
     geoms = np.asarray(geoms, dtype=object)
     if not has_arcs(board):
-        return shapely.distance(Polygon(board.outline).exterior, geoms)
-    arcs, lines = _resolved(_key(board))
+        return shapely.distance(_exterior(tuple(map(tuple, board.outline))), geoms)
+    arcs, lines, (x0, y0, x1, y1), diag, wedges = _resolved(_key(board))
     out = np.full(len(geoms), np.inf) if lines is None else shapely.distance(lines, geoms)
     if len(geoms) == 0:
         return out
-    x0, y0, x1, y1 = Polygon(board.outline).bounds
     b = shapely.total_bounds(geoms)
-    far = math.hypot(max(x1, b[2]) - min(x0, b[0]), max(y1, b[3]) - min(y0, b[1]))
-    for arc in arcs:
-        out = np.minimum(out, _arc_distance(arc, geoms, far + arc.radius))
+    inside_reach = b[0] >= x0 - diag and b[1] >= y0 - diag and b[2] <= x1 + diag and b[3] <= y1 + diag
+    for arc, w in zip(arcs, wedges):
+        near = shapely.distance(geoms, SPoint(arc.centre)) - arc.radius < np.minimum(out, upto)
+        if not near.any():
+            continue                  # the arc's whole disc is farther than what is asked
+        if not inside_reach:
+            far = math.hypot(max(x1, b[2]) - min(x0, b[0]), max(y1, b[3]) - min(y0, b[1]))
+            w = _wedges(arc, far + arc.radius + 1.0)
+        out[near] = np.minimum(out[near], _arc_distance(arc, geoms[near], w))
     return out
+
+
+@lru_cache(maxsize=64)
+def _exterior(pts: tuple):
+    return Polygon(pts).exterior
 
 
 def edge_distance_xy(board, x: np.ndarray, y: np.ndarray) -> np.ndarray:

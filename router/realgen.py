@@ -8,8 +8,10 @@ resistors beside it, and a 0.5 mm pitch flat-cable connector at the module's edg
 and ground are many-pad nets over every module, a two-wire bus joins the fine-pitch parts,
 the outline is a rounded rectangle (its arcs as polygon points), and some parts sit off the
 grid. With ``angled=True`` the outline's corners are true arcs (:mod:`router.outline`) and
-parts sit at 45 degrees as designers turn them: about a third of the fine-pitch parts and a
-quarter of the decoupling capacitors (boards the routers before turned pads cannot read). The footprints are the file's own (``[footprints]``), so the boards need no built-in
+about a third of the decoupling capacitors sit at 45 degrees, as designers turn them to
+reach a supply pin (boards the routers before turned pads cannot read). Fine-pitch parts stay
+square: a 0.5 mm pitch row at 45 degrees leaves no room for traces along x and y under the
+footprint's own pad spacing rule (the gap beside each pad's exit is below the pad gap). The footprints are the file's own (``[footprints]``), so the boards need no built-in
 fine-pitch family.
 
 Sources of the dimensions (pads are the project's choice, as in :mod:`router.footprints`):
@@ -113,7 +115,7 @@ def real_board(seed: int, nets: int = 60, angled: bool = False) -> Board:
     nets : int
         Wanted number of nets; the board gets one module per about 22 nets.
     angled : bool
-        Arcs in the outline, and some fine-pitch parts and capacitors at 45 degrees.
+        Arcs in the outline, and some capacitors at 45 degrees.
 
     Returns
     -------
@@ -167,7 +169,7 @@ def real_board(seed: int, nets: int = 60, angled: bool = False) -> Board:
         if rng.random() < 0.6:
             n = int(rng.choice([16, 20, 24, 32]))
             f = _quad(n)
-            ic = add(fp(f), mx, my + 1.0, rot=45 if angled and rng.random() < 0.35 else 0)
+            ic = add(fp(f), mx, my + 1.0)
             sides = n // 4
             supply = [sides - 1, 2 * sides - 1, 3 * sides]          # pins on three sides
             ground = [sides, 2 * sides + 1, n + 1]                 # and the exposed pad
@@ -187,7 +189,7 @@ def real_board(seed: int, nets: int = 60, angled: bool = False) -> Board:
             d = math.hypot(ox, oy) or 1.0
             cx = mx + ox / d * (f.body[0] / 2 + 3.0) + (1.2 if abs(oy) > abs(ox) else 0.0)
             cy = my + 1.0 + oy / d * (f.body[1] / 2 + 3.0) + (0.0 if abs(oy) > abs(ox) else 1.2)
-            c = add(c0402, cx, cy, rot=(90 if abs(ox) > abs(oy) else 0) + (45 if angled and rng.random() < 0.25 else 0))
+            c = add(c0402, cx, cy, rot=(90 if abs(ox) > abs(oy) else 0) + (45 if angled and rng.random() < 0.35 else 0))
             net_pins["VCC"].append(f"{c}.1")
             net_pins["GND"].append(f"{c}.2")
         for g_ in ground:
