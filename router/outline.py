@@ -246,7 +246,7 @@ def edge_distance_xy(board, x: np.ndarray, y: np.ndarray) -> np.ndarray:
     y = np.asarray(y, dtype=float)
     if not has_arcs(board):
         return shapely.distance(Polygon(board.outline).exterior, shapely.points(x, y))
-    arcs, lines = _resolved(_key(board))
+    arcs, lines = _resolved(_key(board))[:2]
     out = np.full(x.shape, np.inf) if lines is None else shapely.distance(lines, shapely.points(x, y))
     for arc in arcs:
         cx, cy = arc.centre
