@@ -207,8 +207,9 @@ def edge_distance(board, geoms, upto: float = math.inf) -> np.ndarray:
     board : Board
     geoms : array-like of shapely geometries
     upto : float, optional
-        Only distances below `upto` are needed: an arc that every geometry is at least `upto`
-        from (measured to its whole circle's disc) is not measured.
+        Only distances below `upto` are needed: a geometry whose distance to the outline's
+        chords is at least `upto` + :data:`CHORD_SAGITTA` gets that distance less the sagitta
+        (a lower bound, at least `upto`), and an arc whose whole disc is farther is not measured.
 
     Returns
     -------
@@ -218,6 +219,16 @@ def edge_distance(board, geoms, upto: float = math.inf) -> np.ndarray:
     geoms = np.asarray(geoms, dtype=object)
     if not has_arcs(board):
         return shapely.distance(_exterior(tuple(map(tuple, board.outline))), geoms)
+    if math.isfinite(upto) and len(geoms):
+        # the chords lie within CHORD_SAGITTA of the arcs: far from the edge, they answer alone
+        rough = shapely.distance(_exterior(tuple(map(tuple, board.outline))), geoms)
+        far_off = rough >= upto + CHORD_SAGITTA
+        if far_off.all():
+            return rough - CHORD_SAGITTA
+        if far_off.any():
+            out = rough - CHORD_SAGITTA
+            out[~far_off] = edge_distance(board, geoms[~far_off])
+            return out
     arcs, lines, (x0, y0, x1, y1), diag, wedges = _resolved(_key(board))
     out = np.full(len(geoms), np.inf) if lines is None else shapely.distance(lines, geoms)
     if len(geoms) == 0:
