@@ -259,7 +259,7 @@ def board_figure(board: Board, violations: Optional[Sequence] = None, dpi: float
     from matplotlib.patches import Circle, Patch, Polygon as MPolygon, Rectangle
 
     from .connectivity import net_groups
-    from .geometry import (body_polygon, body_rect, outline_polygon, pad_shape, placed_holes, placed_pads,
+    from .geometry import (body_polygon, outline_polygon, pad_shape, placed_holes, placed_pads,
                            ring_shape, trace_shape)
 
     placed_v = [v for v in (violations or []) if getattr(v, "at", None) is not None]
