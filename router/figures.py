@@ -54,7 +54,7 @@ from .units import TOL, snap
 __all__ = [
     "FIELDS", "TOTAL_FIELDS", "board_figures", "bend_points", "trace_length",
     "rect_distance", "hpwl", "rmst_length", "length_lower_bound", "bends_lower_bound",
-    "path_bends_lower_bound", "compare_figures", "format_report", "format_compare",
+    "path_bends_lower_bound", "vias_lower_bound", "compare_figures", "format_report", "format_compare",
 ]
 
 #: The per-net fields of the contract's ``report --json``, in order.
@@ -548,6 +548,36 @@ def rmst_length(rects: Sequence[Rect]) -> float:
     return float(total)
 
 
+def _one_layer_net(pad_layers: Sequence[Sequence[str]], layers: Sequence[str]) -> bool:
+    """True when one copper layer holds every pad of the net (it may route on it with no via)."""
+    if not pad_layers:
+        return False
+    common = set(layers)
+    for ls in pad_layers:
+        common &= set(ls)
+    return bool(common)
+
+
+def vias_lower_bound(pad_layers: Sequence[Sequence[str]], layers: Sequence[str]) -> int:
+    """Fewest vias a net's copper can have, from its pads' layers alone.
+
+    0 when one layer holds every pad (the net can route on it), or when a pad lies on
+    every layer (a plated hole changes layers for free); otherwise 1: some pad is only
+    on one layer and another only on another, and copper joining them changes layer
+    somewhere, through a via.
+
+    >>> vias_lower_bound([("top",), ("top", "bottom")], ["top", "bottom"])
+    0
+    >>> vias_lower_bound([("top",), ("bottom",)], ["top", "bottom"])
+    1
+    """
+    if len(pad_layers) < 2 or _one_layer_net(pad_layers, layers):
+        return 0
+    if any(set(layers) <= set(ls) for ls in pad_layers):
+        return 0
+    return 1
+
+
 def length_lower_bound(rects: Sequence[Rect]) -> float:
     """A lower bound on the copper needed to join pads: max(HPWL, 2/3 RMST) over their rectangles.
 
@@ -772,10 +802,12 @@ def board_figures(board: Board) -> dict:
     placed = {p.ref for p in board.parts if p.at is not None}
     rects_of: dict[str, list[Rect]] = defaultdict(list)
     pads_of: dict[str, list] = defaultdict(list)
+    layers_of: dict[str, list] = defaultdict(list)
     for pad in pads:
         rects_of[pad.net].append(pad.bounds())
         core, r = _cover_core(pad)
         pads_of[pad.net].append((core, r, tuple(pad.layers)))
+        layers_of[pad.net].append(tuple(pad.layers))
     segs_of: dict[str, dict[str, list[Segment]]] = defaultdict(lambda: defaultdict(list))
     length_of: dict[str, float] = defaultdict(float)
     for t in board.traces:
@@ -826,6 +858,8 @@ def board_figures(board: Board) -> dict:
             "bends_over_bound": len(bends_at) - bb,
             "bends_lower_bound_path": pb,
             "bend_points": [list(p) for p in bends_at],
+            "vias_lower_bound": 0 if (unplaced or net.name in poured) else vias_lower_bound(layers_of.get(net.name, []),
+                                                                                         board.layers),
             "_exact": (length, jlen, lb, span_lb),
         })
     from .escape import neck_traces          # pad exits narrower than the class (router.escape)
@@ -862,6 +896,9 @@ def board_figures(board: Board) -> dict:
         "bends_over_bound": sum(n["bends_over_bound"] for n in nets),
         "necks": sum(n["necks"] for n in nets),
         "copper_layers": len(board.layers),
+        "vias_lower_bound": sum(n["vias_lower_bound"] for n in nets),
+        "vias_on_one_layer_nets": sum(n["vias"] for n in nets
+                                      if _one_layer_net(layers_of.get(n["name"], []), board.layers)),
     }
     out = {"nets": nets, "totals": totals}
     if board.pours:                  # poured area and share of the board per layer (router.pour)
@@ -1032,6 +1069,9 @@ def format_report(figs: dict, board: Optional[Board] = None) -> str:
     out.append(f"totals: {t['routed']} of {t['nets']} nets routed"
                + (f" ({unrouted} not)" if unrouted else "")
                + f", {t['vias']} vias, {t['jumpers']} jumpers")
+    if "vias_lower_bound" in t and t["vias"]:
+        out.append(f"vias {t['vias']}, bound {t['vias_lower_bound']}: {t.get('vias_on_one_layer_nets', 0)} "
+                   f"on nets whose pads all lie on one layer (they could route with none)")
     if t.get("necks"):
         where = [f"{n['name']} at ({p[0]:.2f}, {p[1]:.2f})" for n in figs["nets"] for p in n.get("neck_points", [])]
         out.append(f"necks: {t['necks']} (pad exits narrower than the class): " + ", ".join(where[:8])

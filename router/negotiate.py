@@ -44,6 +44,7 @@ from .nets import NetRoute, route_net
 from .search import STEP
 from .tidy import polylines, trim_dangling
 from .units import TOL
+from .viapass import VIA_TRADE, ViaCrowd, fewer_vias as _fewer_vias
 
 __all__ = ["RouteResult", "route_board", "DEFAULT_BEND", "DEFAULT_VIA", "DEFAULT_JUMP", "DEFAULT_PASSES"]
 
@@ -82,7 +83,7 @@ def _cost(mm: float, pitch: float) -> int:
 
 class _Negotiation:
     def __init__(self, board: Board, grid: RoutingGrid, nets: list[str], groups: dict, bend: int, via: int,
-                 jump: int):
+                 jump: int, crowd: bool = True):
         self.board, self.grid, self.nets, self.groups = board, grid, nets, groups
         self.bend, self.via, self.jump = bend, via, jump
         self.routes: dict[str, NetRoute] = {}
@@ -93,6 +94,8 @@ class _Negotiation:
         self.present = 0.5
         self.blind: dict[str, str] = {}            # nets with a pad that no exit reaches (fixed copper only)
         self.ties: dict[str, tuple] = {}           # net -> the order its searches try headings in (the seed's ties)
+        self.own_at: dict[str, tuple] = {}         # net -> its own soft counts at its cells and holes (conflicts)
+        self.crowd = ViaCrowd(grid) if grid.L == 2 and crowd else None
 
     def width(self, net: str) -> float:
         return self.grid.profile_of(net).width
@@ -120,6 +123,9 @@ class _Negotiation:
             grid.add_wire(a, b, +1)
         self.routes[net] = r
         self.soft[net] = items
+        self.own_at[net] = _own_counts(grid, net, r, items)
+        if self.crowd is not None:
+            self.crowd.add(r.vias, +1)
         g = grid.pitch
         self.off_grid[net] = [ob for ob in items if not all(abs(v / g - round(v / g)) < 1e-6 for v in ob.box)]
 
@@ -129,10 +135,13 @@ class _Negotiation:
             return
         self.grid.add_soft(self.soft.pop(net), -1)
         self.off_grid.pop(net, None)
+        self.own_at.pop(net, None)
+        if self.crowd is not None:
+            self.crowd.add(r.vias, -1)
         for a, b in r.jumpers:
             self.grid.add_wire(a, b, -1)
 
-    def route(self, net: str, strict: bool = False) -> NetRoute:
+    def route(self, net: str, strict: bool = False, via: Optional[int] = None) -> NetRoute:
         grid = self.grid
         if net in self.blind:            # a pad with no way to the grid is found once, not every pass
             return NetRoute(net, failed=self.blind[net], blind=True)
@@ -147,6 +156,9 @@ class _Negotiation:
             # a via or jumper end near other nets' copper is priced like a shared cell
             he = self.present * STEP * grid.soft_via[k].astype(np.float64) + self.hist.max(axis=0)
             space.hole_extra = np.ascontiguousarray(np.minimum(he, 2**24).astype(np.int32))
+        if self.crowd is not None:       # a via among other nets' vias costs more (router.viapass)
+            space.hole_extra = np.ascontiguousarray(np.minimum(
+                space.hole_extra.astype(np.int64) + self.crowd.price(self.via), 2**24).astype(np.int32))
         if strict:
             blocked = grid.soft_cell[k] > 0
             space.open_cell = np.ascontiguousarray(space.open_cell & ~blocked).astype(np.uint8)
@@ -167,44 +179,99 @@ class _Negotiation:
             prof = grid.profile_of(net)
             others = grid.obstacle_arrays([ob for n, items in sorted(self.soft.items()) if n != net
                                            for ob in items], prof)
-        r = route_net(grid, net, space, self.groups[net], bend=self.bend, via=self.via, jump=self.jump,
-                      others=others, order=self.ties.get(net, (0, 1, 2, 3)), explain=strict)
+        r = route_net(grid, net, space, self.groups[net], bend=self.bend, via=self.via if via is None else via,
+                      jump=self.jump, others=others, cache=not strict, order=self.ties.get(net, (0, 1, 2, 3)),
+                      explain=strict)
         if r.blind:
             self.blind[net] = r.failed
         return r
 
     def conflicts(self) -> tuple[dict, list]:
-        """Nets sharing cells with other nets: net -> number of shared cells, and the cells."""
+        """Nets sharing cells with other nets: net -> number of shared cells, and the cells.
+
+        Other nets' copper at a net's cells is the soft count there less the net's own
+        (counted once when the net was laid, :func:`_own_counts`)."""
         grid = self.grid
         shared: dict[str, int] = {}
         cells_all = []
         for net in sorted(self.routes):
             r = self.routes[net]
-            if not r.cells and not r.vias:
+            if not r.cells and not r.vias and not r.jumpers:
                 continue
             k = grid.profile_of(net).index
-            grid.add_soft(self.soft[net], -1)
+            c, own_c, holes, own_h = self.own_at[net]
             n = 0
-            if r.cells or r.near:
-                c = np.array(sorted(r.cells | r.near), dtype=np.int64)
-                hit = grid.soft_cell[k][c[:, 0], c[:, 1], c[:, 2]] > 0
+            if len(c):
+                hit = grid.soft_cell[k][c[:, 0], c[:, 1], c[:, 2]] - own_c > 0
                 n += int(hit.sum())
                 cells_all.append(c[hit])
-            for j, i in r.vias:
-                if grid.soft_via[k][j, i] > 0:
+            if len(holes):
+                hh = grid.soft_via[k][holes[:, 0], holes[:, 1]] - own_h > 0
+                for (j, i), is_via in zip(holes[hh], holes_kind(r, hh)):
                     n += 1
-                    cells_all.append(np.array([[l, j, i] for l in range(grid.L)], dtype=np.int64))
-            for a, b in r.jumpers:
-                for at in (a, b):
-                    j = int(round(at[1] / grid.pitch)) - grid.j0
-                    i = int(round(at[0] / grid.pitch)) - grid.i0
-                    if 0 <= j < grid.ny and 0 <= i < grid.nx and grid.soft_via[k][j, i] > 0:
-                        n += 1
+                    if is_via:
+                        cells_all.append(np.array([[l, j, i] for l in range(grid.L)], dtype=np.int64))
+                    else:
                         cells_all.append(np.array([[0, j, i]], dtype=np.int64))
-            grid.add_soft(self.soft[net], +1)
             if n:
                 shared[net] = n
         return shared, cells_all
+
+
+def holes_kind(r: NetRoute, hit) -> list:
+    """For the hole places of `r` (its vias, then its jumpers' ends) marked in `hit`: True for a via."""
+    kinds = [True] * len(r.vias) + [False] * (2 * len(r.jumpers))
+    return [k for k, h in zip(kinds, hit) if h]
+
+
+def _hole_cells(grid: RoutingGrid, r: NetRoute) -> np.ndarray:
+    """(j, i) of a route's vias, then of its jumpers' ends (inside the grid)."""
+    out = [(j, i) for j, i in r.vias]
+    for a, b in r.jumpers:
+        for at in (a, b):
+            j = int(round(at[1] / grid.pitch)) - grid.j0
+            i = int(round(at[0] / grid.pitch)) - grid.i0
+            out.append((min(max(j, 0), grid.ny - 1), min(max(i, 0), grid.nx - 1)))
+    return np.array(out, dtype=np.int64).reshape(-1, 2)
+
+
+def _own_counts(grid: RoutingGrid, net: str, r: NetRoute, items) -> tuple:
+    """A route's own contribution to its class's soft maps at its cells (and near cells) and at
+    its hole places, computed with the same arithmetic as :meth:`RoutingGrid.stamp`, so that the
+    soft count there less this is exactly what the other nets' copper adds."""
+    prof = grid.profile_of(net)
+    cells = np.array(sorted(r.cells | r.near), dtype=np.int64).reshape(-1, 3)
+    holes = _hole_cells(grid, r)
+    own_c = np.zeros(len(cells), np.int64)
+    own_h = np.zeros(len(holes), np.int64)
+    if not items:
+        return cells, own_c, holes, own_h
+    boxes = np.array([ob.box for ob in items], dtype=np.float64)
+    lmask = np.array([sum(1 << l for l in ob.layers) for ob in items], dtype=np.int64)
+    if len(cells):
+        need = np.array([grid._need(ob, prof, prof.half) for ob in items]) - TOL
+        X = grid.xs[cells[:, 2]][:, None]
+        Y = grid.ys[cells[:, 1]][:, None]
+        dx = np.maximum(np.maximum(boxes[None, :, 0] - X, 0.0), X - boxes[None, :, 2])
+        dy = np.maximum(np.maximum(boxes[None, :, 1] - Y, 0.0), Y - boxes[None, :, 3])
+        on = ((lmask[None, :] >> cells[:, 0:1]) & 1).astype(bool)
+        own_c = ((dy ** 2 + dx ** 2 < need[None, :] ** 2) & on & (need[None, :] > 0)).sum(axis=1)
+    if len(holes):
+        half = (grid.jump_d / 2 + grid.jump_slack) if grid.one_layer else grid.via_d / 2
+        drill = grid.jump_drill if grid.one_layer else grid.via_drill
+        need = []
+        for ob in items:
+            n_ = grid._need(ob, prof, half)
+            if ob.kind == "copper" and ob.radius > 0 and ob.box[0] == ob.box[2] and ob.box[1] == ob.box[3]:
+                n_ = max(n_, drill + grid.rules.min_hole_spacing + 2 * grid.jump_slack)
+            need.append(n_ - TOL)
+        need = np.array(need)
+        X = grid.xs[holes[:, 1]][:, None]
+        Y = grid.ys[holes[:, 0]][:, None]
+        dx = np.maximum(np.maximum(boxes[None, :, 0] - X, 0.0), X - boxes[None, :, 2])
+        dy = np.maximum(np.maximum(boxes[None, :, 1] - Y, 0.0), Y - boxes[None, :, 3])
+        own_h = ((dy ** 2 + dx ** 2 < need[None, :] ** 2) & (need[None, :] > 0)).sum(axis=1)
+    return cells, own_c, holes, own_h
 
 
 def _pad_groups(board: Board, grid: RoutingGrid):
@@ -228,7 +295,7 @@ def _hpwl(pads) -> float:
 def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty: Optional[float] = None,
                 seed: int = 0, reroute: bool = False, progress: bool = False, passes: Optional[int] = None,
                 jumper_penalty: Optional[float] = None, polish: bool = True,
-                retries: int = 2, every_net: bool = False) -> RouteResult:
+                retries: int = 2, every_net: bool = False, fewer_vias: bool = True) -> RouteResult:
     """Route every net of `board` not yet routed; the input board is not changed.
 
     Parameters
@@ -263,6 +330,11 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
         When the routing is legal, route each net once more with the others as walls and
         no congestion costs, and keep the new route where it is cheaper: this takes out
         the detours and jogs that congestion forced on a net and that are no longer needed.
+
+    fewer_vias : bool
+        Two-layer boards: price a via higher among other vias while nets negotiate, and after
+        routing take out each via a net can do without at no more than
+        :data:`router.viapass.VIA_TRADE` mm of extra trace per via (:mod:`router.viapass`).
 
     Returns
     -------
@@ -304,12 +376,12 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
     start = b.copy()
     best = None
     for attempt in range(1 + max(0, int(retries))):
-        out_board, lost, npass, shared_left = _attempt(start, todo_names, seed, attempt, bend, via, jump, passes,
-                                                       progress, polish, every_net)
+        out_board, lost, npass, shared_left, blind = _attempt(start, todo_names, seed, attempt, bend, via, jump,
+                                                              passes, progress, polish, every_net, fewer_vias)
         if best is None or len(lost) < len(best[1]):
             best = (out_board, lost, npass, shared_left)
-        if not best[1]:
-            break
+        if not best[1] or set(best[1]) <= set(blind):
+            break                    # complete, or only pads no exit reaches are left: another order cannot help
     b, lost, npass, shared_left = best
     failed.update(lost)
     result = RouteResult(b, _figures(b), {n: failed[n] for n in [m.name for m in b.nets] if n in failed},
@@ -318,13 +390,13 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
         from .pour import after_route
         result = after_route(result, bend_penalty=bend_penalty, via_penalty=via_penalty, seed=seed,
                              progress=progress, passes=passes, jumper_penalty=jumper_penalty,
-                             polish=polish, retries=retries, every_net=every_net)
+                             polish=polish, retries=retries, every_net=every_net, fewer_vias=fewer_vias)
     result.removed = removed.add(result.removed) if result.removed else removed
     return result
 
 
 def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend: int, via: int, jump: int,
-             passes: int, progress: bool, polish: bool, every_net: bool = False):
+             passes: int, progress: bool, polish: bool, every_net: bool = False, fewer: bool = True):
     """One complete routing of `start`; attempt 0 takes nets shortest first, later attempts a
     shuffled order (each net's half-perimeter scaled by a random factor from the seed)."""
     b = start.copy()
@@ -339,7 +411,7 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
     elif seed:
         sizes = [s * math.exp(rng.normal(0.0, 0.35)) for s in sizes]
     order = [n for _, _, n in sorted(zip(sizes, ties, nets))]
-    neg = _Negotiation(b, grid, order, groups, bend, via, jump)
+    neg = _Negotiation(b, grid, order, groups, bend, via, jump, crowd=fewer)
     if seed:
         headings = [tuple(int(h) for h in rng.permutation(4)) for _ in nets]
         neg.ties = {n: headings[k] for k, n in enumerate(nets)}
@@ -362,7 +434,7 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
             if bar is not None:
                 bar.update(1)
         shared, cells = neg.conflicts()
-        still_failed = [n for n in order if neg.routes[n].failed]
+        still_failed = [n for n in order if neg.routes[n].failed and n not in neg.blind]
         if not shared and not still_failed:
             break
         if npass == passes:
@@ -371,7 +443,7 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
             if len(c):
                 neg.hist[c[:, 0], c[:, 1], c[:, 2]] += STEP
         neg.present *= 1.8
-        todo = list(order) if every_net else [n for n in order if n in shared or neg.routes[n].failed]
+        todo = [n for n in order if n not in neg.blind and (every_net or n in shared or neg.routes[n].failed)]
         todo = shuffle(todo)             # the rip-up order of this pass (the seed's; 0: the first pass's)
     if bar is not None:
         bar.close()
@@ -398,9 +470,11 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
         _repair(neg, lost, rounds=4 * len(lost) + 8, order=shuffle(list(lost)))
     if polish:
         _polish(neg, order)
+    if fewer and grid.L == 2:            # a pass that takes out vias a net can do without (router.viapass)
+        _fewer_vias(neg, order, _cost(VIA_TRADE, grid.pitch))
     _write(b, grid, neg, order)
     _settle(b, start, lost, order)
-    return b, lost, npass, shared_left
+    return b, lost, npass, shared_left, set(neg.blind)
 
 
 def _route_bends(grid: RoutingGrid, r: NetRoute) -> int:

@@ -204,13 +204,24 @@ def _add_stub(grid: RoutingGrid, route: NetRoute, stub, layer: int) -> None:
                     route.near.add((layer, j, i))
 
 
-def terminals(grid: RoutingGrid, space: SearchSpace, net: str, pad_groups: list[list], others=None) -> list[Terminal]:
-    """The terminals of `net`: groups of already-joined pads with their access cells."""
+def terminals(grid: RoutingGrid, space: SearchSpace, net: str, pad_groups: list[list], others=None,
+              cache: bool = False) -> list[Terminal]:
+    """The terminals of `net`: groups of already-joined pads with their access cells.
+
+    With `cache`, a pad's access is computed once per grid and net (valid while the search
+    space's open cells are the fixed copper's only, as in negotiation)."""
+    store = grid.__dict__.setdefault("_access_cache", {}) if cache and others is None else None
     out = []
     for pads in pad_groups:
         t = Terminal(list(pads))
         for p in pads:
-            for c, stub in _access(grid, space, net, p, others).items():
+            key = (net, p.ref, p.index)
+            acc = store.get(key) if store is not None else None
+            if acc is None:
+                acc = _access(grid, space, net, p, others)
+                if store is not None:
+                    store[key] = acc
+            for c, stub in acc.items():
                 if c not in t.cells or (t.cells[c] is not None and stub is None):
                     t.cells[c] = stub
         out.append(t)
@@ -330,7 +341,7 @@ def _lay_path(grid: RoutingGrid, space: SearchSpace, route: NetRoute, cells: np.
 
 def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[list], *,
               bend: int, via: int, jump: int, others=None, order=(0, 1, 2, 3),
-              explain: bool = False) -> NetRoute:
+              explain: bool = False, cache: bool = False) -> NetRoute:
     """Grow the rectilinear Steiner tree of one net.
 
     Parameters
@@ -351,6 +362,9 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
     explain : bool
         When no way is found, name the kind of obstacle that closes it (:mod:`router.blockage`;
         a few more searches, so only for the attempt whose reason is reported).
+    cache : bool
+        The space's open cells are the fixed copper's only (negotiation): pads' access is kept
+        on the grid and reused (:func:`terminals`).
 
     Returns
     -------
@@ -362,7 +376,7 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
     if not grid.one_layer:               # vias inside the net's large surface pads (router.escape)
         from .escape import pad_vias
         pad_vias(grid, space, net, [p for g in pad_groups for p in g], strict=others is not None)
-    terms = terminals(grid, space, net, pad_groups, others)
+    terms = terminals(grid, space, net, pad_groups, others, cache=cache)
     if len(terms) <= 1:
         return route
     blind = [t for t in terms if not t.cells]
