@@ -261,27 +261,35 @@ def escape_access(grid, space, net: str, pad: PlacedPad, others=None, most: int 
                     pts = [(round(px, 6), round(py, 6)) for px, py in pts]
                     cands.append((run + abs(w_ - s_across), abs(w_ - s_across), pts))
             cands.sort(key=lambda c: (c[0], c[1]))
-            for length, _, pts in cands:
-                # the own-pad rule holds within neck_length of the pad only (as check applies it)
-                base = relaxed if length <= nl + TOL else full
-                end = pts[-1]
-                i = int(round(end[0] / g)) - grid.i0
-                j = int(round(end[1] / g)) - grid.j0
-                if not (0 <= i < grid.nx and 0 <= j < grid.ny):
-                    continue
-                for l in layers:
-                    if (l, j, i) in found or not space.open_cell[l, j, i]:
+            # the two shortest exits; for a neck also the straightest long one, which carries the
+            # net past its neighbours' exits before the class width begins
+            orders = [cands]
+            if width < cw - TOL:
+                orders.append(sorted(cands, key=lambda c: (c[1] > 0, -c[0], c[1])))
+            for order in orders:
+                got = 0
+                for length, _, pts in order:
+                    # the own-pad rule holds within neck_length of the pad only (as check applies it)
+                    base = relaxed if length <= nl + TOL else full
+                    end = pts[-1]
+                    i = int(round(end[0] / g)) - grid.i0
+                    j = int(round(end[1] / g)) - grid.j0
+                    if not (0 <= i < grid.nx and 0 <= j < grid.ny):
                         continue
-                    segs = [(a, b) for a, b in zip(pts, pts[1:]) if a != b]
-                    if not segs:
-                        segs = [(pts[0], pts[0])]
-                    if all(grid.segment_clear(net, a, b, l, width, others, base=base) for a, b in segs):
-                        path = Neck(p for k, p in enumerate(pts) if k == 0 or p != pts[k - 1])
-                        path.width = width
-                        found[(l, j, i)] = path
-                        n_dir += 1
-                if n_dir >= 2:
-                    break
+                    for l in layers:
+                        if (l, j, i) in found or not space.open_cell[l, j, i]:
+                            continue
+                        segs = [(a, b) for a, b in zip(pts, pts[1:]) if a != b]
+                        if not segs:
+                            segs = [(pts[0], pts[0])]
+                        if all(grid.segment_clear(net, a, b, l, width, others, base=base) for a, b in segs):
+                            path = Neck(p for k, p in enumerate(pts) if k == 0 or p != pts[k - 1])
+                            path.width = width
+                            found[(l, j, i)] = path
+                            n_dir += 1
+                            got += 1
+                    if got >= (2 if order is cands else 1):
+                        break
             if n_dir:
                 break                       # the class width fits this way: no neck needed
         if len(found) >= most:
