@@ -92,7 +92,7 @@ class _Negotiation:
         self.own = {n: grid.own_obstacles(n) for n in nets}
         self.hist = np.zeros((grid.L, grid.ny, grid.nx), np.int64)
         self.present = 0.5
-        self.blind: dict[str, str] = {}            # nets with a pad that no exit reaches (fixed copper only)
+        self.blind: dict[str, str] = {}            # nets the fixed copper alone leaves unroutable: found once
         self.ties: dict[str, tuple] = {}           # net -> the order its searches try headings in (the seed's ties)
         self.own_at: dict[str, tuple] = {}         # net -> its own soft counts at its cells and holes (conflicts)
         self.crowd = ViaCrowd(grid) if grid.L == 2 and crowd else None
@@ -182,7 +182,9 @@ class _Negotiation:
         r = route_net(grid, net, space, self.groups[net], bend=self.bend, via=self.via if via is None else via,
                       jump=self.jump, others=others, cache=not strict, order=self.ties.get(net, (0, 1, 2, 3)),
                       explain=strict)
-        if r.blind:
+        if r.blind or (r.failed and not strict and not grid.one_layer):
+            # no way even with every other net's routed copper passable (two layers: their copper
+            # is only a cost here): the fixed copper, the edge or keepouts close it; found once
             self.blind[net] = r.failed
         return r
 

@@ -22,10 +22,11 @@ and the flat-cable connector's 0.3 mm pads at 0.5 mm pitch are common practice.
 from __future__ import annotations
 
 import math
+from typing import Optional
 
 import numpy as np
 
-from .model import Board, Footprint, NetClass, Net, Pad, Part, Rules
+from .model import Board, Footprint, Keepout, NetClass, Net, Pad, Part, Rules
 
 __all__ = ["real_board", "QUAD_PITCH", "DUAL_PITCH", "CONN_PITCH"]
 
@@ -40,7 +41,7 @@ MODULE = (32.0, 26.0)
 def _quad(n: int) -> Footprint:
     """A quad no-lead part: n/4 pads a side at 0.5 mm, 0.25 x 0.8 mm pads, an exposed pad."""
     side = n // 4
-    body = {16: 3.0, 20: 4.0, 24: 4.0, 32: 5.0}[n]
+    body = {16: 3.0, 20: 4.0, 24: 4.0, 32: 5.0, 48: 7.0, 64: 9.0}[n]
     h = body / 2
     pads = []
     span = (side - 1) * QUAD_PITCH
@@ -105,7 +106,8 @@ def _arc_outline(w: float, h: float, r: float) -> list:
             (r, h), OutlineArc((0.0, h - r), (r, h - r)), (0.0, r), OutlineArc((r, 0.0), (r, r))]
 
 
-def real_board(seed: int, nets: int = 60, angled: bool = False) -> Board:
+def real_board(seed: int, nets: int = 60, angled: bool = False, pads: Optional[int] = None,
+               enclosed: int = 0) -> Board:
     """A board that looks like a real two-layer design, about `nets` nets (30 to 200).
 
     Parameters
@@ -116,6 +118,14 @@ def real_board(seed: int, nets: int = 60, angled: bool = False) -> Board:
         Wanted number of nets; the board gets one module per about 22 nets.
     angled : bool
         Arcs in the outline, and some capacitors at 45 degrees.
+    pads : int, optional
+        Wanted number of pads, when more than the nets bring: more modules, larger quad parts
+        (48 and 64 pins), and fewer pins of each part on a net (the rest unconnected, as on
+        real boards with large parts).
+    enclosed : int
+        This many two-pin signal nets get one pad walled in by keepouts (four strips round
+        its part, clear of the copper): pads no route can reach, for measuring how the
+        router deals with them.
 
     Returns
     -------
@@ -125,6 +135,10 @@ def real_board(seed: int, nets: int = 60, angled: bool = False) -> Board:
     """
     rng = np.random.default_rng(seed)
     nmod = max(1, int(round(nets / 22)))
+    big = pads is not None and pads > 75 * nmod
+    if big:
+        nmod = max(nmod, int(round(pads / 75)))
+    budget = nets / nmod               # nets per module
     cols = int(math.ceil(math.sqrt(nmod * 1.3)))
     rows = int(math.ceil(nmod / cols))
     W, H = cols * MODULE[0] + 4.0, rows * MODULE[1] + 4.0
@@ -166,8 +180,8 @@ def real_board(seed: int, nets: int = 60, angled: bool = False) -> Board:
     for m in range(nmod):
         mx = 2.0 + (m % cols) * MODULE[0] + MODULE[0] / 2
         my = 2.0 + (m // cols) * MODULE[1] + MODULE[1] / 2
-        if rng.random() < 0.6:
-            n = int(rng.choice([16, 20, 24, 32]))
+        if big or rng.random() < 0.6:
+            n = int(rng.choice([48, 64] if big else [16, 20, 24, 32]))
             f = _quad(n)
             ic = add(fp(f), mx, my + 1.0)
             sides = n // 4
@@ -209,6 +223,8 @@ def real_board(seed: int, nets: int = 60, angled: bool = False) -> Board:
                 net_pins[name].append(f"{ic}.{free.pop()}")
         # a connector along the module's lower edge, and rows of resistors left and right
         nsig = min(len(free), int(rng.integers(8, 15)))
+        if big:                       # signals + resistor-to-connector nets + the bus within the budget
+            nsig = min(nsig, max(1, int(budget / 2 + rng.random())))
         ncon = min(nsig, 12)
         con_f = _conn(ncon + 2)
         con = add(fp(con_f), mx, my - MODULE[1] / 2 + 2.6)
@@ -238,6 +254,19 @@ def real_board(seed: int, nets: int = 60, angled: bool = False) -> Board:
                 net_pins[name] = [f"{ic}.{pin}", f"{con}.{k + 2}"]
         free_prev = free[nsig:]
     net_list = [Net(n, p, cls_of.get(n, "default")) for n, p in net_pins.items() if len(p) >= 2]
+    keepouts = []
+    two_pin = [n for n in net_list if len(n.pins) == 2 and n.net_class == "default" and n.pins[-1][0] == "R"]
+    for n in two_pin[:max(0, int(enclosed))]:
+        part = next(p for p in parts if p.ref == n.pins[-1].split(".")[0])
+        f = fps[part.footprint]
+        ex = max(abs(q.offset[0]) + q.size[0] / 2 for q in f.pads) + 0.35      # a frame of strips round the pads
+        ey = max(abs(q.offset[1]) + q.size[1] / 2 for q in f.pads) + 0.35
+        x, y = part.at
+        for x0, y0, x1, y1 in ((x - ex - 0.2, y - ey - 0.2, x + ex + 0.2, y - ey),
+                               (x - ex - 0.2, y + ey, x + ex + 0.2, y + ey + 0.2),
+                               (x - ex - 0.2, y - ey, x - ex, y + ey), (x + ex, y - ey, x + ex + 0.2, y + ey)):
+            keepouts.append(Keepout([(round(x0, 4), round(y0, 4)), (round(x1, 4), round(y0, 4)),
+                                     (round(x1, 4), round(y1, 4)), (round(x0, 4), round(y1, 4))], None, True))
     corner = float(rng.choice([2.0, 3.0, 4.0]))
     path = _arc_outline(W, H, corner) if angled else None
     if path is not None:
@@ -246,5 +275,5 @@ def real_board(seed: int, nets: int = 60, angled: bool = False) -> Board:
     else:
         outline = _rounded_rect(W, H, corner)
     b = Board(name=f"real-{seed}", outline=outline, copper_layers=2, rules=rules, classes=classes,
-              footprints=fps, parts=parts, nets=net_list, outline_path=path)
+              footprints=fps, parts=parts, nets=net_list, outline_path=path, keepouts=keepouts)
     return b

@@ -1,6 +1,6 @@
 """Route generated boards of growing size; completion, exact-check violations, bends and seconds.
 
-Usage: python scripts/bench_route.py [--quick] [--layers 2] [--seeds 1]
+Usage: python scripts/bench_route.py [--quick] [--layers 2] [--seeds 1] [--big] [--pads 1300 [--enclosed 3]]
 
 For each board: nets, grid cells (layers x nx x ny), nets routed, violations found by
 the independent exact check (router.check, shapely geometry, not the router's grid),
@@ -12,6 +12,9 @@ near 1 everywhere means time grows linearly in nets x cells. The last columns gi
 process's peak resident memory so far (resource.getrusage, MB) and, with ``--trace-memory``,
 the peak of Python and numpy allocations while routing that board (tracemalloc, MB).
 ``--big`` routes one 160 x 100 mm two-layer board at a 0.1 mm grid (3.2 million cells) too.
+``--pads N`` routes real-looking boards (:mod:`router.realgen`) of about N pads and ``--real-nets``
+nets instead, once as generated and once with ``--enclosed`` pads walled in by keepouts (no
+route can reach them: found once and reported).
 """
 from __future__ import annotations
 
@@ -45,12 +48,19 @@ def main(argv=None) -> int:
     ap.add_argument("--seeds", type=int, default=1, help="boards per size")
     ap.add_argument("--offgrid", action="store_true", help="parts off the routing grid")
     ap.add_argument("--big", action="store_true", help="also a 160 x 100 mm board at a 0.1 mm grid (3.2 M cells)")
+    ap.add_argument("--pads", type=int, metavar="N",
+                    help="only real-looking boards (router.realgen) of about N pads and --real-nets nets, "
+                         "with and without --enclosed pads no route can reach")
+    ap.add_argument("--real-nets", type=int, default=150)
+    ap.add_argument("--enclosed", type=int, default=3, help="walled-in pads on the second --pads board")
     ap.add_argument("--trace-memory", action="store_true", help="peak allocations per board (tracemalloc; slower)")
     ap.add_argument("--bend-penalty", type=float, default=None, metavar="B",
                     help="cost of one bend in mm of trace (default: route's default)")
     ap.add_argument("--route-seed", type=int, default=None, metavar="S",
                     help="route every board with this seed (default: the board's seed)")
     args = ap.parse_args(argv)
+    if args.pads:
+        return real_pads(args)
     sizes = [(n, s, 0.25) for n, s in (SIZES[:3] if args.quick else SIZES)]
     if args.big:
         sizes.append((60, (160.0, 100.0), 0.1))
@@ -91,6 +101,41 @@ def main(argv=None) -> int:
             for net, why in r.failed.items():
                 print(f"      not routed: {net}: {why}")
     return 0 if worst == 0 else 1
+
+
+def real_pads(args) -> int:
+    """Real-looking boards of many pads: nets, pads, cells, routed, violations, vias, seconds, memory."""
+    from router.geometry import placed_pads
+    from router.realgen import real_board
+    print(f"{'pads':>5} {'nets':>5} {'enclosed':>8} {'cells':>8} {'routed':>8} {'viol':>5} {'vias':>5} "
+          f"{'passes':>6} {'seconds':>8} {'rss MB':>7} {'peak MB':>7}")
+    route_board(generate_board(99, nets=5, size=(20.0, 15.0)))     # compile and load the kernel first
+    bad = 0
+    for seed in range(args.seeds):
+        for enclosed in (0, args.enclosed):
+            b = real_board(seed, args.real_nets, pads=args.pads, enclosed=enclosed)
+            from router.grid import RoutingGrid
+            gr = RoutingGrid(b)
+            cells = gr.L * gr.nx * gr.ny
+            del gr
+            if args.trace_memory:
+                tracemalloc.start()
+            t0 = time.perf_counter()
+            r = route_board(b, seed=seed)
+            dt = time.perf_counter() - t0
+            peak = "-"
+            if args.trace_memory:
+                peak = f"{tracemalloc.get_traced_memory()[1] / 2**20:.0f}"
+                tracemalloc.stop()
+            rss = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+            viol = [v for v in check(r.board) if v.rule != "open"]
+            t = r.figures["totals"]
+            bad += len(viol)
+            print(f"{len(placed_pads(b)):>5} {len(b.nets):>5} {enclosed:>8} {cells:>8} {t['routed']:>4}/{t['nets']:<3} "
+                  f"{len(viol):>5} {t['vias']:>5} {r.passes:>6} {dt:>8.2f} {rss:>7.0f} {peak:>7}", flush=True)
+            for net, why in r.failed.items():
+                print(f"      not routed: {net}: {why}")
+    return 0 if bad == 0 else 1
 
 
 if __name__ == "__main__":
