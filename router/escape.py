@@ -363,7 +363,9 @@ def _pad_via_points(grid, net, pad, vd, drill, most):
     inner = (x0 - rad + vd / 2, y0 - rad + vd / 2, x1 + rad - vd / 2, y1 + rad - vd / 2)
     if inner[0] > inner[2] + TOL or inner[1] > inner[3] + TOL:
         return []
-    hs = [(h.x, h.y, h.drill) for h in holes(grid.board)]
+    hs = grid.__dict__.get("_escape_holes")
+    if hs is None:                        # the board's holes, once per grid
+        hs = grid._escape_holes = [(h.x, h.y, h.drill) for h in holes(grid.board)]
     spacing = grid.rules.min_hole_spacing
     cands = []
     for i in range(int(math.ceil(inner[0] / g - 1e-9)), int(math.floor(inner[2] / g + 1e-9)) + 1):

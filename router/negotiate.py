@@ -53,6 +53,9 @@ DEFAULT_BEND = 1.0
 DEFAULT_VIA = 2.0
 DEFAULT_JUMP = 5.0
 DEFAULT_PASSES = 16
+#: Negotiation stops early when the shared cells have not fallen below their best for this many
+#: passes (after at least twice as many passes): our choice, see _attempt.
+STALL = 4
 
 
 @dataclass
@@ -425,6 +428,7 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
     todo = list(order)
     shared: dict = {}
     npass = 0
+    best_left, best_at = math.inf, 0
     for npass in range(1, passes + 1):
         if bar is not None:
             bar.reset(total=len(todo))
@@ -440,6 +444,13 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
         if not shared and not still_failed:
             break
         if npass == passes:
+            break
+        # stalled: the sharing has not fallen below its best for STALL passes (the rest is left to
+        # the walls and rip-up below, which settle what negotiation cannot)
+        left_now = sum(shared.values()) + len(still_failed)
+        if left_now < best_left:
+            best_left, best_at = left_now, npass
+        elif npass - best_at >= STALL and npass >= 2 * STALL:
             break
         for c in cells:
             if len(c):

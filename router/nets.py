@@ -400,27 +400,21 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
     tree: dict = dict(terms[first].cells)              # cell -> stub to add when a path leaves from it
     used_stub: set = set()
     left = [k for k in range(len(terms)) if k != first]
+    near = _Nearest(terms, left, list(tree))
     while left:
-        owner: dict = {}
-        for k in left:
-            for c in terms[k].cells:
-                owner.setdefault(c, k)
-        targets = np.array(sorted(owner), dtype=np.int64)
-        sources = np.array(sorted(tree), dtype=np.int64)
-        path = None
-        for _ in range(32):
-            path = find_path(space, sources, targets, bend=bend, via=via, jump=jump, order=order)
-            if path is None:
+        # the few terminals nearest the tree are the targets (a tight box keeps A* focused on a
+        # net of many pads); only when none of them can be reached, every terminal left
+        tries = [near.closest(left, NEAREST)] if len(left) > NEAREST else []
+        tries.append(left)
+        for aim in tries:
+            owner: dict = {}
+            for k in aim:
+                for c in terms[k].cells:
+                    owner.setdefault(c, k)
+            path = _find(grid, space, np.array(sorted(tree), dtype=np.int64),
+                         np.array(sorted(owner), dtype=np.int64), bend, via, jump, order)
+            if path is not None:
                 break
-            clash = _hole_clash(grid, path.cells)
-            if clash is None:
-                break
-            path = None
-            j, i = clash                     # a hole of this path too near an earlier one: not there
-            if grid.one_layer:
-                space.jump_ok[j, i] = 0
-            else:
-                space.via_ok[j, i] = 0
         if path is None:
             names = ", ".join(terms[k].name for k in left[:3]) + (" ..." if len(left) > 3 else "")
             route.failed = f"no way from {terms[first].name} to {names}"
@@ -453,4 +447,57 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
         for c in route.cells:
             tree[c] = None
         left = [q for q in left if q not in joined]
+        near.grow(new + [c for q in joined for c in terms[q].cells])
     return route
+
+
+#: How many of a net's unjoined terminals, nearest its tree, one search aims at.
+NEAREST = 4
+
+
+def _find(grid, space, sources, targets, bend, via, jump, order=(0, 1, 2, 3)):
+    """find_path, with a hole of the path too near an earlier one of the same path closed and the
+    search run again (up to 32 times)."""
+    path = None
+    for _ in range(32):
+        path = find_path(space, sources, targets, bend=bend, via=via, jump=jump, order=order)
+        if path is None:
+            return None
+        clash = _hole_clash(grid, path.cells)
+        if clash is None:
+            return path
+        path = None
+        j, i = clash                     # a hole of this path too near an earlier one: not there
+        if grid.one_layer:
+            space.jump_ok[j, i] = 0
+        else:
+            space.via_ok[j, i] = 0
+    return path
+
+
+class _Nearest:
+    """Grid (Manhattan) distance from each terminal's access cells to the tree, kept as it grows."""
+
+    def __init__(self, terms, left, tree_cells):
+        self.ks = list(left)
+        cells = [(c[1], c[2], k) for k in left for c in list(terms[k].cells)[:1]]     # one cell stands for its terminal
+        self.ji = np.array([(j, i) for j, i, _ in cells], dtype=np.int64).reshape(-1, 2)
+        self.of = np.array([k for _, _, k in cells], dtype=np.int64)
+        self.best = np.full(len(cells), np.iinfo(np.int64).max // 4, dtype=np.int64)
+        self.grow(tree_cells)
+
+    def grow(self, cells) -> None:
+        if not len(cells) or not len(self.ji):
+            return
+        arr = np.unique(np.array([(c[1], c[2]) for c in cells], dtype=np.int64).reshape(-1, 2), axis=0)
+        for a in range(0, len(arr), 512):
+            chunk = arr[a:a + 512]
+            d = (np.abs(self.ji[:, None, 0] - chunk[None, :, 0]) + np.abs(self.ji[:, None, 1] - chunk[None, :, 1]))
+            self.best = np.minimum(self.best, d.min(axis=1))
+
+    def closest(self, left, n: int) -> list:
+        per = {}
+        for k, d in zip(self.of.tolist(), self.best.tolist()):
+            if d < per.get(k, np.inf):
+                per[k] = d
+        return sorted(left, key=lambda k: (per.get(k, np.inf), k))[:n]

@@ -12,7 +12,10 @@ and, unless ``--no-baseline``, by the router of another checkout (``--baseline D
 9bd7d45, the router before pad escape) in a subprocess whose PYTHONPATH points at it. Both routed
 boards are checked by today's ``check`` (one judge for both). One line per board:
 
-    seed  nets  pads  | routed  violations  vias  seconds | baseline routed  violations  vias  seconds
+    seed  nets  pads  | routed  violations  vias  bound  v1  necks  seconds | baseline routed  violations  vias  seconds
+
+(bound: the vias the nets' pad layers force, ``figures.vias_lower_bound``; v1: today's vias on nets
+whose pads all lie on one layer, which could route with none)
 
 and a totals line. The exit status is 0 when every board routes completely with no violation.
 """
@@ -61,7 +64,8 @@ def figures(board, seconds: float) -> dict:
     t = board_figures(board)["totals"]
     viol = [v for v in check(board) if v.rule != "open"]
     return {"routed": t["routed"], "nets": t["nets"], "violations": len(viol), "vias": t["vias"],
-            "seconds": seconds, "necks": t.get("necks", 0)}
+            "seconds": seconds, "necks": t.get("necks", 0), "vias_bound": t.get("vias_lower_bound", 0),
+            "vias_one_layer": t.get("vias_on_one_layer_nets", 0)}
 
 
 def run_baseline(path: Path, text: str, tmp: Path, seed: int):
@@ -90,7 +94,8 @@ def main(argv=None) -> int:
     args = ap.parse_args(argv)
     if not args.no_baseline:
         ensure_baseline(args.baseline, args.commit)
-    head = (f"{'seed':>4} {'nets':>4} {'pads':>5} | {'routed':>7} {'viol':>4} {'vias':>4} {'necks':>5} {'sec':>6}"
+    head = (f"{'seed':>4} {'nets':>4} {'pads':>5} | {'routed':>7} {'viol':>4} {'vias':>4} {'bound':>5} "
+            f"{'v1':>4} {'necks':>5} {'sec':>6}"
             + ("" if args.no_baseline else f" | {'base routed':>11} {'viol':>4} {'vias':>4} {'sec':>6}"))
     print(head)
     print("-" * len(head))
@@ -111,7 +116,7 @@ def main(argv=None) -> int:
             clean &= ours["routed"] == ours["nets"] and ours["violations"] == 0
             line = (f"{seed:>4} {ours['nets']:>4} {len(placed_pads(board)):>5} | "
                     f"{ours['routed']:>3}/{ours['nets']:<3} {ours['violations']:>4} {ours['vias']:>4} "
-                    f"{ours['necks']:>5} {ours['seconds']:>6.1f}")
+                    f"{ours['vias_bound']:>5} {ours['vias_one_layer']:>4} {ours['necks']:>5} {ours['seconds']:>6.1f}")
             for i, key in enumerate(("routed", "nets", "violations", "vias", "seconds")):
                 tot["ours"][i] += ours[key]
             if not args.no_baseline:
