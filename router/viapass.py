@@ -6,7 +6,8 @@ alone, with every other net's copper as a wall, and with each via priced
 it has fewer vias and its cost without congestion (steps, bends and vias at the ordinary
 penalty, :func:`router.negotiate._pure_cost`) rises by no more than ``VIA_TRADE`` for each
 via it removes: the stated cost of a via taken out. A net that can run on one layer at
-that price does; one that cannot keeps its vias.
+that price does; one that cannot keeps its vias. Nets with a pour keep theirs: a via into
+the net's own plane is the designer's way to reach it.
 
 While nets negotiate, a via also costs more where vias already stand: each via of
 another net within :data:`CROWD_RADIUS` of the place adds :data:`CROWD_SHARE` of the via
@@ -62,10 +63,11 @@ def fewer_vias(neg, order: list[str], trade: int) -> tuple[int, int]:
     (nets changed, vias removed)."""
     from .negotiate import _pure_cost
     changed = removed = 0
+    poured = {p.net for p in neg.board.pours}
     for net in order:
         old = neg.routes.get(net)
-        if old is None or old.failed or not old.vias:
-            continue
+        if old is None or old.failed or not old.vias or net in poured:
+            continue                     # a via into the net's own pour is how a pad reaches the plane
         neg.rip(net)
         new = neg.route(net, strict=True, via=neg.via + trade)
         dv = len(old.vias) - len(new.vias) if not new.failed else 0
