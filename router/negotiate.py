@@ -184,7 +184,7 @@ class _Negotiation:
                                            for ob in items], prof)
         r = route_net(grid, net, space, self.groups[net], bend=self.bend, via=self.via if via is None else via,
                       jump=self.jump, others=others, cache=not strict, order=self.ties.get(net, (0, 1, 2, 3)),
-                      explain=strict)
+                      explain=strict or not grid.one_layer)     # two layers: a failure here is found once
         if r.blind or (r.failed and not strict and not grid.one_layer):
             # no way even with every other net's routed copper passable (two layers: their copper
             # is only a cost here): the fixed copper, the edge or keepouts close it; found once

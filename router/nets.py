@@ -420,6 +420,8 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
             route.failed = f"no way from {terms[first].name} to {names}"
             if explain:                  # the obstacle that closes the way (router.blockage)
                 from .blockage import closed_by
+                sources = np.array(sorted(tree), dtype=np.int64)
+                targets = np.array(sorted(c for k in left for c in terms[k].cells), dtype=np.int64)
                 route.failed += ": " + closed_by(grid, net, space, sources, targets)
             else:
                 route.failed += " past the obstacles around it"
