@@ -12,10 +12,9 @@ is a comma (the delimiter is found with :class:`csv.Sniffer` and confirmed by th
 header row; with a semicolon or tab delimiter, ``12,5`` is read as 12.5).
 
 Every bad row is a :class:`~router.errors.BoardError` naming the file and the line;
-the board is written only when every row is good, through the board file's own
-writer (:func:`router.boardfile.save_board`, an atomic write), after it has been read
-back by the board file's own reader, so the result is exactly what the other commands
-read.
+the board is written only when every row is good, as TOML by tomli-w (:func:`board_toml`,
+an atomic write), after it has been read back by the board file's own reader, so the
+result is exactly what the other commands read.
 
 Board size, when not given: see :func:`estimate_size`.
 """
@@ -28,7 +27,10 @@ import re
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from .boardfile import dumps_board, loads_board, save_board
+import tomli_w
+
+from .boardfile import _to_dict, dumps_board, loads_board
+from .safefile import write_atomic
 from .errors import BoardError
 from .footprints import builtin_footprint
 from .model import Board, Footprint, Net, NetClass, Part, Rules
@@ -528,5 +530,21 @@ def write_csv_board(parts_csv, nets_csv, output, **options) -> NewResult:
         if same:
             raise BoardError(str(out), "-o", "is one of the CSV files; write the board to another file")
     result = read_csv_board(parts_csv, nets_csv, **options)
-    save_board(result.board, out)
+    write_atomic(out, board_toml(result.board, Path(parts_csv).name, Path(nets_csv).name))
     return result
+
+
+def board_toml(board: Board, parts_name: str = "parts.csv", nets_name: str = "nets.csv") -> str:
+    """The new board as TOML text, written by tomli-w.
+
+    The board-file tables come from the project's own writer's dictionary
+    (:func:`router.boardfile._to_dict`, the one order of keys every command writes); tomli-w
+    turns them into TOML. The text is read back before it is returned: a board that would not
+    read back exactly as built is an error here, never a file on disk.
+    """
+    text = (f"# written by elbowroom new from {parts_name} and {nets_name}; every command reads it,\n"
+            "# and rewrites it in the project's own layout when it saves a board\n"
+            + tomli_w.dumps(_to_dict(board)))
+    if dumps_board(loads_board(text, None)) != dumps_board(board):
+        raise AssertionError("the new board does not read back as built")    # a bug, not bad input
+    return text

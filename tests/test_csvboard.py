@@ -12,6 +12,7 @@ from __future__ import annotations
 import csv
 import io
 import math
+from pathlib import Path
 
 import pytest
 
@@ -304,3 +305,19 @@ def test_example_new_place_route_check(tmp_path, capsys, example, nets):
     assert totals["routed"] == totals["nets"] == len(board.nets) == nets
     assert main(["check", str(routed), "--json"]) == 0
     assert json.loads(capsys.readouterr().out)["violations"] == []
+
+
+def test_new_board_is_written_by_tomli_w_and_reads_back_exactly(tmp_path):
+    # tomli-w writes the file; the standard library's tomllib (an independent reader) parses it
+    import tomllib
+    from router.boardfile import dumps_board, load_board
+    from router.csvboard import read_csv_board, write_csv_board
+    here = Path(__file__).resolve().parent.parent / "boards" / "beehive-scale"
+    out = tmp_path / "b.toml"
+    write_csv_board(here / "parts.csv", here / "nets.csv", out)
+    text = out.read_text()
+    assert text.startswith("# written by elbowroom new from parts.csv and nets.csv")
+    data = tomllib.loads(text)
+    assert [p["ref"] for p in data["parts"]] == [p.ref for p in load_board(out).parts]
+    built = read_csv_board(here / "parts.csv", here / "nets.csv").board
+    assert dumps_board(load_board(out)) == dumps_board(built)
