@@ -29,7 +29,7 @@ from pathlib import Path
 
 import tomli_w
 
-from .boardfile import _to_dict, dumps_board, loads_board
+from .boardfile import _angle, _to_dict, dumps_board, loads_board
 from .safefile import write_atomic
 from .errors import BoardError
 from .footprints import builtin_footprint
@@ -53,7 +53,7 @@ NEW_HELP = f"""\
 files:
   parts CSV   a header row, then one part a row. Columns: ref, footprint, value; optional
               x, y (mm, the body centre; leave both empty and `place` places the part),
-              rotation (0, 90, 180, 270), side (top or bottom), fixed (true/false).
+              rotation (degrees, any angle), side (top or bottom), fixed (true/false).
   nets CSV    a header row, then one connection a row: net, pin (REF.PIN, e.g. U1.8);
               optional class. A class not defined yet is made with the default class's
               trace width and clearance; set its own under [classes.NAME] in the board file.
@@ -335,9 +335,7 @@ def _parts(name, delim, rows, layers, notes):
         rot = 0
         if c.get("rotation", ""):
             r = _number(c["rotation"], delim, fail, "rotation")
-            if r != int(r) or int(r) % 90:
-                fail(f"rotation {c['rotation']} is not a multiple of 90; use 0, 90, 180 or 270")
-            rot = int(r) % 360
+            rot = _angle(r)             # any angle in degrees, as the board file takes it
         side = c.get("side", "").lower() or "top"
         if side not in ("top", "bottom"):
             fail(f"side '{c['side']}' must be top or bottom (or empty: top)")

@@ -171,7 +171,7 @@ BAD = [
     ("pin twice in one net", PARTS, NETS + "TH,C1.1,\n", "nets.csv", 11, ["C1.1", "twice"]),
     ("broken x", PARTS.replace("U1,dip-8,555 timer,,", "U1,dip-8,555 timer,12.5mm,4"), NETS,
      "parts.csv", 2, ["12.5mm", "not a number"]),
-    ("broken rotation", PARTS.replace("3,8,90", "3,8,45"), NETS, "parts.csv", 5, ["45", "90"]),
+    ("broken rotation", PARTS.replace("3,8,90", "3,8,ninety"), NETS, "parts.csv", 5, ["ninety", "rotation"]),
     ("nan is not a number", PARTS.replace("3,8,90", "nan,8,90"), NETS, "parts.csv", 5, ["nan"]),
     ("decimal comma in a comma file", 'ref,footprint,value,x,y\nU1,dip-8,x,"12,5",3\n', "net,pin\nA,U1.1\n",
      "parts.csv", 2, ["12,5"]),
@@ -321,3 +321,12 @@ def test_new_board_is_written_by_tomli_w_and_reads_back_exactly(tmp_path):
     assert [p["ref"] for p in data["parts"]] == [p.ref for p in load_board(out).parts]
     built = read_csv_board(here / "parts.csv", here / "nets.csv").board
     assert dumps_board(load_board(out)) == dumps_board(built)
+
+
+def test_a_part_may_sit_at_any_angle(tmp_path):
+    # the board file takes any rotation in degrees; so does the parts file
+    from router.csvboard import read_csv_board
+    (tmp_path / "p.csv").write_text(PARTS.replace("3,8,90", "3,8,37.5"))
+    (tmp_path / "n.csv").write_text(NETS)
+    b = read_csv_board(tmp_path / "p.csv", tmp_path / "n.csv").board
+    assert next(p for p in b.parts if p.ref == "J1").rotation == 37.5
