@@ -101,6 +101,22 @@ def _arms(lines: dict[int, tuple[list[int], list[tuple[int, int]]]], line: int, 
     return 1 if c in (a, b) else 2
 
 
+def _spans(segments: Iterable[Segment]) -> tuple[dict, dict]:
+    """Segments as merged horizontal spans per y and vertical spans per x, in integer TOL keys."""
+    horiz: dict[int, list[tuple[int, int]]] = defaultdict(list)
+    vert: dict[int, list[tuple[int, int]]] = defaultdict(list)
+    for (xa, ya), (xb, yb) in segments:
+        kxa, kya, kxb, kyb = _key(xa), _key(ya), _key(xb), _key(yb)
+        dx, dy = abs(kxb - kxa), abs(kyb - kya)
+        if dx == 0 and dy == 0:
+            continue
+        if dx >= dy:
+            horiz[kya].append((min(kxa, kxb), max(kxa, kxb)))
+        else:
+            vert[kxa].append((min(kya, kyb), max(kya, kyb)))
+    return ({y: _merge(v) for y, v in horiz.items()}, {x: _merge(v) for x, v in vert.items()})
+
+
 def bend_points(segments: Iterable[Segment],
                 covered: Optional[Callable[[float, float], bool]] = None) -> list[Point]:
     """The bends of one net's segments on one layer.
@@ -139,19 +155,7 @@ def bend_points(segments: Iterable[Segment],
     >>> bend_points([((0, 0), (2, 0)), ((2, 0), (2, 3))], covered=lambda x, y: True)
     []
     """
-    horiz: dict[int, list[tuple[int, int]]] = defaultdict(list)
-    vert: dict[int, list[tuple[int, int]]] = defaultdict(list)
-    for (xa, ya), (xb, yb) in segments:
-        kxa, kya, kxb, kyb = _key(xa), _key(ya), _key(xb), _key(yb)
-        dx, dy = abs(kxb - kxa), abs(kyb - kya)
-        if dx == 0 and dy == 0:
-            continue
-        if dx >= dy:
-            horiz[kya].append((min(kxa, kxb), max(kxa, kxb)))
-        else:
-            vert[kxa].append((min(kya, kyb), max(kya, kyb)))
-    hl = {y: _merge(v) for y, v in horiz.items()}
-    vl = {x: _merge(v) for x, v in vert.items()}
+    hl, vl = _spans(segments)
     hidx = {y: ([a for a, _ in s], s) for y, s in hl.items()}
     vidx = {x: ([a for a, _ in s], s) for x, s in vl.items()}
     out = []
@@ -264,19 +268,7 @@ class _LayerLines:
     """One net's segments on one layer as merged horizontal and vertical spans (integer TOL keys)."""
 
     def __init__(self, segments: Iterable[Segment]):
-        horiz: dict[int, list[tuple[int, int]]] = defaultdict(list)
-        vert: dict[int, list[tuple[int, int]]] = defaultdict(list)
-        for (xa, ya), (xb, yb) in segments:
-            kxa, kya, kxb, kyb = _key(xa), _key(ya), _key(xb), _key(yb)
-            dx, dy = abs(kxb - kxa), abs(kyb - kya)
-            if dx == 0 and dy == 0:
-                continue
-            if dx >= dy:
-                horiz[kya].append((min(kxa, kxb), max(kxa, kxb)))
-            else:
-                vert[kxa].append((min(kya, kyb), max(kya, kyb)))
-        self.h = {y: _merge(v) for y, v in horiz.items()}
-        self.v = {x: _merge(v) for x, v in vert.items()}
+        self.h, self.v = _spans(segments)
         self.hidx = {y: ([a for a, _ in s], s) for y, s in self.h.items()}
         self.vidx = {x: ([a for a, _ in s], s) for x, s in self.v.items()}
 
