@@ -591,6 +591,11 @@ def page_html(board: Board, violations: Optional[Sequence] = None, labels: Optio
                           f"<b>{_a(v.rule)}</b> {_a(v.message)}</li>" for i, v in enumerate(violations))
         vlist = (f'<h2>Violations ({len(violations)})</h2><ul id="violations">{items}</ul>'
                  if violations else '<h2>Violations</h2><p id="violations">none</p>')
+        from .check import warnings          # counted beside the violations, as in the PNG/SVG title
+        warns = warnings(board)
+        if warns:
+            witems = "\n".join(f"<li><b>{_a(w.rule)}</b> {_a(w.message)}</li>" for w in warns)
+            vlist += f'<h2>Warnings ({len(warns)})</h2><ul id="warnings">{witems}</ul>'
     t = figures.get("totals", {})
     summary = f"{t.get('routed', 0)} of {t.get('nets', len(board.nets))} nets routed, {board.copper_layers} copper layer{'s' if board.copper_layers != 1 else ''}"
     return f"""<!DOCTYPE html>

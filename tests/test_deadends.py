@@ -143,3 +143,11 @@ def test_picture_title_counts_warnings():
     n = len(warnings(b))
     assert n >= 1
     assert any(f"0 violations, {n} warning" in t for t in titles), titles
+
+
+def test_page_lists_warnings_beside_violations():
+    from router.page import page_html
+    b = make(JOINED + STUB)
+    n = len(warnings(b))
+    html = page_html(b, violations=check(b))
+    assert n >= 1 and f"<h2>Warnings ({n})</h2>" in html and "dangling_end" in html
