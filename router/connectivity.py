@@ -17,7 +17,7 @@ from .copper import CopperItem, copper_items, distance
 from .model import Board
 from .units import TOL
 
-__all__ = ["UnionFind", "item_index", "components", "net_groups", "routed"]
+__all__ = ["UnionFind", "item_index", "touching_pairs", "components", "net_groups", "routed"]
 
 
 class UnionFind:
@@ -58,6 +58,23 @@ def item_index(items: Sequence[CopperItem], grow: float = 0.0) -> rtree_index.In
     return rtree_index.Index(((i, it.bounds(grow), None) for i, it in enumerate(items)))
 
 
+def touching_pairs(items: Sequence[CopperItem], idx: Optional[rtree_index.Index] = None):
+    """Pairs (i, j), i < j, of items of one net on a shared layer whose copper touches (within TOL).
+
+    The one test of "joined copper" that connectivity and the dead-end pass both use.
+    """
+    idx = item_index(items) if idx is None else idx
+    for i, a in enumerate(items):
+        for j in idx.intersection(a.bounds(TOL)):
+            if j <= i:
+                continue
+            b = items[j]
+            if b.net != a.net or not set(a.layers) & set(b.layers):
+                continue
+            if distance(a, b) <= TOL:
+                yield i, j
+
+
 def components(board: Board, items: Optional[Sequence[CopperItem]] = None,
                idx: Optional[rtree_index.Index] = None) -> list[int]:
     """The component label of every copper item (items of one label are joined copper).
@@ -81,17 +98,9 @@ def components(board: Board, items: Optional[Sequence[CopperItem]] = None,
     which the check reports.
     """
     items = copper_items(board) if items is None else items
-    idx = item_index(items) if idx is None else idx
     uf = UnionFind(len(items))
-    for i, a in enumerate(items):
-        for j in idx.intersection(a.bounds(TOL)):
-            if j <= i:
-                continue
-            b = items[j]
-            if b.net != a.net or not set(a.layers) & set(b.layers):
-                continue
-            if distance(a, b) <= TOL:
-                uf.union(i, j)
+    for i, j in touching_pairs(items, idx):
+        uf.union(i, j)
     # a jumper joins its two ends
     ends: dict[int, int] = {}
     for i, a in enumerate(items):

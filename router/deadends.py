@@ -27,7 +27,7 @@ from dataclasses import dataclass, field
 
 from shapely.geometry import Point as SPoint
 
-from .connectivity import UnionFind, item_index
+from .connectivity import UnionFind, touching_pairs
 from .copper import copper_items
 from .model import Board, Trace
 from .units import TOL
@@ -67,18 +67,10 @@ class Removed:
 
 
 def _touching(board: Board, items) -> list[list[int]]:
-    idx = item_index(items)
     out: list[list[int]] = [[] for _ in items]
-    for i, a in enumerate(items):
-        for j in idx.intersection(a.bounds(TOL)):
-            if j <= i:
-                continue
-            b = items[j]
-            if b.net != a.net or not set(a.layers) & set(b.layers):
-                continue
-            if a.core.distance(b.core) - a.radius - b.radius <= TOL:
-                out[i].append(j)
-                out[j].append(i)
+    for i, j in touching_pairs(items):
+        out[i].append(j)
+        out[j].append(i)
     return out
 
 
