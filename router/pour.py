@@ -26,6 +26,7 @@ its clearance from the copper of higher pours of other nets.
 """
 from __future__ import annotations
 
+import contextvars
 import hashlib
 import json
 import math
@@ -413,8 +414,10 @@ def first_pour_items(board: Board) -> list[CopperItem]:
     return [it for it in copper_items(poured) if it.kind == "pour"]
 
 
-#: how many times route_board may route again what a final pour left cut off
-_ROUNDS_LEFT = [2]
+#: how many more times route_board may route again what a final pour left cut off; a context
+#: variable, so that nested calls (route_board -> after_route -> route_board) count down within
+#: one routing and routings in other threads keep their own count
+_ROUNDS_LEFT: contextvars.ContextVar[int] = contextvars.ContextVar("pour_rounds_left", default=2)
 
 
 def after_route(result, **settings):
@@ -439,12 +442,12 @@ def after_route(result, **settings):
     b = poured.board
     joined = routed(b)
     cut = [n.name for n in b.nets if not joined.get(n.name, True) and n.name not in result.failed]
-    if cut and _ROUNDS_LEFT[0] > 0:
-        _ROUNDS_LEFT[0] -= 1
+    if cut and _ROUNDS_LEFT.get() > 0:
+        token = _ROUNDS_LEFT.set(_ROUNDS_LEFT.get() - 1)
         try:
             again = route_board(b, **settings)
         finally:
-            _ROUNDS_LEFT[0] += 1
+            _ROUNDS_LEFT.reset(token)
         again.seconds += result.seconds
         return again
     failed = {n: why for n, why in result.failed.items() if not joined.get(n, False)}
