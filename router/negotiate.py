@@ -44,7 +44,7 @@ from .nets import NetRoute, route_net
 from .search import STEP
 from .tidy import polylines, trim_dangling
 from .units import TOL
-from .viapass import VIA_TRADE, ViaCrowd, fewer_vias as _fewer_vias
+from .viapass import VIA_TRADE, ViaCrowd, fewer_vias as _fewer_vias, move_blockers as _move_blockers
 
 __all__ = ["RouteResult", "route_board", "DEFAULT_BEND", "DEFAULT_VIA", "DEFAULT_JUMP", "DEFAULT_PASSES"]
 
@@ -485,6 +485,7 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
         _polish(neg, order)
     if fewer and grid.L == 2:            # a pass that takes out vias a net can do without (router.viapass)
         _fewer_vias(neg, order, _cost(VIA_TRADE, grid.pitch))
+        _move_blockers(neg, order, _cost(VIA_TRADE, grid.pitch))
     _write(b, grid, neg, order)
     _settle(b, start, lost, order)
     return b, lost, npass, shared_left, set(neg.blind)

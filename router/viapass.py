@@ -21,11 +21,18 @@ import math
 
 import numpy as np
 
-__all__ = ["VIA_TRADE", "CROWD_RADIUS", "CROWD_SHARE", "ViaCrowd", "fewer_vias"]
+__all__ = ["VIA_TRADE", "CROWD_RADIUS", "CROWD_SHARE", "CROSS_PRICE", "MAX_MOVED", "ViaCrowd", "fewer_vias",
+           "move_blockers"]
 
 #: The most a removed via may cost in extra trace, bends included, in mm (our choice: a via
 #: is worth about this much length to a designer, above the ordinary via penalty).
 VIA_TRADE = 3.0
+#: While a net looks for a way with fewer vias through the nets in its way, each grid cell of
+#: theirs it takes costs this much (mm of trace): crossing a trace costs a few mm, less than two
+#: vias at the stated price, running along one costs several times its length (our choice).
+CROSS_PRICE = 1.0
+#: At most this many nets in the way are moved for one net's vias (more is left as it is).
+MAX_MOVED = 6
 #: Vias of other nets closer than this (mm, centre to centre) make a via dearer.
 CROWD_RADIUS = 1.5
 #: Each via near adds this share of the via penalty.
@@ -78,3 +85,90 @@ def fewer_vias(neg, order: list[str], trade: int) -> tuple[int, int]:
         else:
             neg.lay(net, old)
     return changed, removed
+
+
+def move_blockers(neg, order: list[str], trade: int, rounds: int = 3) -> tuple[int, int]:
+    """Vias of a net walled in on its layer by other nets' routes: the net looks for a way with
+    each via dearer by `trade` through the nets in its way (each grid cell of theirs at
+    :data:`CROSS_PRICE` mm), the nets it then shares cells with are ripped up and routed again with
+    walls (vias dearer by `trade` too), and the change is kept only when every one of them routes,
+    no net shares more cells than before, the vias of these nets fall, and their cost without
+    congestion (:func:`router.negotiate._pure_cost`) rises by less than `trade` for each via taken
+    out. Otherwise every route is put back as it was. Up to `rounds` sweeps over the nets with
+    vias (most vias first), while a sweep still changes something. Returns (nets that gave up
+    vias, vias removed)."""
+    from .negotiate import _pure_cost
+    grid = neg.grid
+    poured = {p.net for p in neg.board.pours}
+    price = max(1.0, CROSS_PRICE / grid.pitch)        # neg.present counts grid steps per shared cell
+    changed = removed = 0
+    before = None
+    for _ in range(rounds):
+        progress = False
+        cands = [n for n in order if n in neg.routes and not neg.routes[n].failed and neg.routes[n].vias
+                 and n not in poured]
+        cands.sort(key=lambda n: -len(neg.routes[n].vias))        # stable: the net order breaks ties
+        for net in cands:
+            old = neg.routes.get(net)
+            if old is None or old.failed or not old.vias:
+                continue
+            if before is None:           # sharing the legal routing already has (pads closer than the class asks)
+                before, _ = neg.conflicts()
+            dv = _try_move(neg, net, trade, price, poured, before, _pure_cost)
+            if dv:
+                changed += 1
+                removed += dv
+                progress = True
+                before = None
+        if not progress:
+            break
+    return changed, removed
+
+
+def _try_move(neg, net: str, trade: int, price: float, poured: set, before: dict, pure_cost) -> int:
+    """One net's try (see :func:`move_blockers`); returns the vias removed (0: nothing changed)."""
+    old = {net: neg.routes[net]}
+    saved = neg.present, neg.hist, neg.blind.get(net)
+    neg.rip(net)
+    neg.present, neg.hist = price, np.zeros_like(neg.hist)
+    try:
+        new = neg.route(net, via=neg.via + trade)
+    finally:
+        neg.present, neg.hist = saved[0], saved[1]
+        if saved[2] is None:             # a failure at this price says nothing about the fixed copper
+            neg.blind.pop(net, None)
+    if new.failed or len(new.vias) >= len(old[net].vias):
+        neg.lay(net, old[net])
+        return 0
+    neg.lay(net, new)
+    shared, _ = neg.conflicts()
+    victims = [n for n in sorted(shared) if n != net and shared[n] > before.get(n, 0)]
+    if len(victims) > MAX_MOVED or any(v in poured for v in victims):
+        return _undo(neg, old)
+    for v in victims:
+        old[v] = neg.routes[v]
+        neg.rip(v)
+    for v in victims:
+        rv = neg.route(v, strict=True, via=neg.via + trade)
+        if rv.failed:
+            return _undo(neg, old)
+        neg.lay(v, rv)
+    shared, _ = neg.conflicts()
+    worse = [n for n, k in shared.items() if k > before.get(n, 0)]
+    moved = [net] + victims
+    v_old = sum(len(old[n].vias) for n in moved)
+    v_new = sum(len(neg.routes[n].vias) for n in moved)
+    c_old = sum(pure_cost(neg, old[n]) for n in moved)
+    c_new = sum(pure_cost(neg, neg.routes[n]) for n in moved)
+    if worse or v_new >= v_old or c_new - c_old >= trade * (v_old - v_new):
+        return _undo(neg, old)
+    return v_old - v_new
+
+
+def _undo(neg, old: dict) -> int:
+    """Put back the routes in `old` (the net and the nets moved for it); returns 0."""
+    for n in old:
+        neg.rip(n)
+    for n in sorted(old, key=neg.nets.index):
+        neg.lay(n, old[n])
+    return 0
