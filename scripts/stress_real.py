@@ -8,14 +8,18 @@ Usage::
 Each seed in ``A .. B-1`` makes one board with ``real_board(seed, nets)`` (the nets cycle through
 ``--nets``, default 30 60 100 150 200). The board is routed in this process with today's code,
 and, unless ``--no-baseline``, by the router of another checkout (``--baseline DIR``, default
-``/tmp/elbowroom-baseline``, made with ``git worktree add DIR REV`` when missing; REV defaults to
-9bd7d45, the router before pad escape) in a subprocess whose PYTHONPATH points at it. Both routed
+``/tmp/elbowroom-baseline`` for REV 9bd7d45, the router before pad escape, else
+``/tmp/elbowroom-REV``; made with ``git worktree add DIR REV`` when missing, and refused when it holds
+another commit; ``--commit 913f18d`` is the router before the via pass that moves other nets) in a
+subprocess whose PYTHONPATH points at it. Both routed
 boards are checked by today's ``check`` (one judge for both). One line per board:
 
-    seed  nets  pads  | routed  violations  vias  bound  v1  necks  seconds | baseline routed  violations  vias  seconds
+    seed  nets  pads  | routed  violations  vias  bound  v1  necks  seconds | baseline routed  violations  vias  seconds | both  vias  base
 
 (bound: the vias the nets' pad layers force, ``figures.vias_lower_bound``; v1: today's vias on nets
-whose pads all lie on one layer, which could route with none)
+whose pads all lie on one layer, which could route with none; both: the nets both routers routed,
+with today's and the baseline's vias on just those nets, as a router that leaves hard nets unrouted
+also leaves their vias out)
 
 and a totals line. The exit status is 0 when every board routes completely with no violation.
 """
@@ -54,18 +58,28 @@ print(json.dumps({"seconds": dt}))
 
 
 def ensure_baseline(path: Path, rev: str) -> None:
-    if (path / "router" / "negotiate.py").exists():
-        return
-    subprocess.run(["git", "-C", str(ROOT), "worktree", "add", "--detach", str(path), rev], check=True,
-                   stdout=subprocess.DEVNULL)
+    if not (path / "router" / "negotiate.py").exists():
+        subprocess.run(["git", "-C", str(ROOT), "worktree", "add", "--detach", str(path), rev], check=True,
+                       stdout=subprocess.DEVNULL)
+    head = subprocess.run(["git", "-C", str(path), "rev-parse", "HEAD"], capture_output=True, text=True).stdout.strip()
+    want = subprocess.run(["git", "-C", str(ROOT), "rev-parse", rev + "^{commit}"], capture_output=True,
+                          text=True).stdout.strip()
+    if not head or head != want:
+        sys.exit(f"stress_real.py: {path} holds {head[:7] or 'no checkout'}, not {rev}: "
+                 f"give --baseline another folder or remove that worktree")
 
 
 def figures(board, seconds: float) -> dict:
     from router.figures import board_figures
     t = board_figures(board)["totals"]
     viol = [v for v in check(board) if v.rule != "open"]
+    from router.connectivity import routed
+    per_net: dict = {}
+    for v in board.vias:
+        per_net[v.net] = per_net.get(v.net, 0) + 1
     return {"routed": t["routed"], "nets": t["nets"], "violations": len(viol), "vias": t["vias"],
-            "seconds": seconds, "necks": t.get("necks", 0), "vias_bound": t.get("vias_lower_bound", 0),
+            "seconds": seconds, "joined": {n for n, ok in routed(board).items() if ok}, "net_vias": per_net,
+            "bends": t["bends"], "length": t["length"], "necks": t.get("necks", 0), "vias_bound": t.get("vias_lower_bound", 0),
             "vias_one_layer": t.get("vias_on_one_layer_nets", 0)}
 
 
@@ -92,7 +106,8 @@ def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--seeds", nargs=2, type=int, default=[0, 5], metavar=("A", "B"))
     ap.add_argument("--nets", nargs="+", type=int, default=[30, 60, 100, 150, 200])
-    ap.add_argument("--baseline", type=Path, default=Path("/tmp/elbowroom-baseline"))
+    ap.add_argument("--baseline", type=Path, default=None,
+                    help="the reference checkout (default /tmp/elbowroom-baseline for 9bd7d45, else /tmp/elbowroom-REV)")
     ap.add_argument("--commit", default="9bd7d45")
     ap.add_argument("--no-baseline", action="store_true")
     ap.add_argument("--save", type=Path)
@@ -100,14 +115,18 @@ def main(argv=None) -> int:
                     help="boards with arc outlines and parts at 45 degrees (real_board(angled=True)); "
                          "a baseline from before turned pads cannot read them")
     args = ap.parse_args(argv)
+    if args.baseline is None:
+        args.baseline = Path("/tmp/elbowroom-baseline" if args.commit == "9bd7d45" else f"/tmp/elbowroom-{args.commit}")
     if not args.no_baseline:
         ensure_baseline(args.baseline, args.commit)
     head = (f"{'seed':>4} {'nets':>4} {'pads':>5} | {'routed':>7} {'viol':>4} {'vias':>4} {'bound':>5} "
             f"{'v1':>4} {'necks':>5} {'sec':>6}"
-            + ("" if args.no_baseline else f" | {'base routed':>11} {'viol':>4} {'vias':>4} {'sec':>6}"))
+            + ("" if args.no_baseline else f" | {'base routed':>11} {'viol':>4} {'vias':>4} {'sec':>6} "
+                                            f"| {'both':>4} {'vias':>4} {'base':>4}"))
     print(head)
     print("-" * len(head))
-    tot = {"ours": [0, 0, 0, 0, 0.0], "base": [0, 0, 0, 0, 0.0]}
+    tot = {"ours": [0, 0, 0, 0, 0.0, 0, 0.0], "base": [0, 0, 0, 0, 0.0, 0, 0.0]}
+    both = [0, 0, 0]                     # nets both routed, today's vias on them, the baseline's
     clean = True
     with tempfile.TemporaryDirectory() as td:
         tmp = Path(td)
@@ -125,26 +144,35 @@ def main(argv=None) -> int:
             line = (f"{seed:>4} {ours['nets']:>4} {len(placed_pads(board)):>5} | "
                     f"{ours['routed']:>3}/{ours['nets']:<3} {ours['violations']:>4} {ours['vias']:>4} "
                     f"{ours['vias_bound']:>5} {ours['vias_one_layer']:>4} {ours['necks']:>5} {ours['seconds']:>6.1f}")
-            for i, key in enumerate(("routed", "nets", "violations", "vias", "seconds")):
+            for i, key in enumerate(("routed", "nets", "violations", "vias", "seconds", "bends", "length")):
                 tot["ours"][i] += ours[key]
             if not args.no_baseline:
                 base = run_baseline(args.baseline, text, tmp, seed)
                 if "error" in base:
                     line += f" | error: {base['error'][:60]}"
                 else:
+                    common = ours["joined"] & base["joined"]
+                    vo = sum(ours["net_vias"].get(n, 0) for n in common)
+                    vb = sum(base["net_vias"].get(n, 0) for n in common)
                     line += (f" | {base['routed']:>5}/{base['nets']:<5} {base['violations']:>4} {base['vias']:>4} "
-                             f"{base['seconds']:>6.1f}")
-                    for i, key in enumerate(("routed", "nets", "violations", "vias", "seconds")):
+                             f"{base['seconds']:>6.1f} | {len(common):>4} {vo:>4} {vb:>4}")
+                    for i, key in enumerate(("routed", "nets", "violations", "vias", "seconds", "bends", "length")):
                         tot["base"][i] += base[key]
+                    for i, x in enumerate((len(common), vo, vb)):
+                        both[i] += x
             print(line, flush=True)
     o, b = tot["ours"], tot["base"]
     print("-" * len(head))
-    print(f"today:    {o[0]}/{o[1]} nets routed, {o[2]} violations, {o[3]} vias, {o[4]:.1f} s")
+    print(f"today:    {o[0]}/{o[1]} nets routed, {o[2]} violations, {o[3]} vias, {o[5]} bends, "
+          f"{o[6]:.1f} mm, {o[4]:.1f} s")
     if not args.no_baseline:
-        print(f"baseline: {b[0]}/{b[1]} nets routed, {b[2]} violations, {b[3]} vias, {b[4]:.1f} s "
-              f"(checkout {args.commit} at {args.baseline})")
+        print(f"baseline: {b[0]}/{b[1]} nets routed, {b[2]} violations, {b[3]} vias, {b[5]} bends, "
+              f"{b[6]:.1f} mm, {b[4]:.1f} s (checkout {args.commit} at {args.baseline})")
         if b[3]:
             print(f"vias today / baseline: {o[3] / b[3]:.2f}")
+        if both[2]:
+            print(f"on the {both[0]} nets both routed: vias today {both[1]}, baseline {both[2]}, "
+                  f"ratio {both[1] / both[2]:.2f}")
     print("every board complete and clean" if clean else "NOT every board complete and clean")
     return 0 if clean else 1
 
