@@ -38,6 +38,10 @@ __all__ = ["NECK_LENGTH", "Neck", "neck_of", "own_gaps", "OwnPadRule", "escape_a
 #: Default ``neck_length``: how far from the pad's edge a neck may run, in mm. Common practice:
 #: a neck ends as soon as the trace is clear of the fine-pitch row, within about a millimetre.
 NECK_LENGTH = 1.0
+#: How many of the shortest exits each way out of a pad offers the search (each to its own grid
+#: point; a neck adds its straightest long one). Our choice: four, so that two neighbours in a
+#: fine-pitch row each keep an exit when the other takes one.
+EXITS = 4
 
 
 class Neck(tuple):
@@ -261,7 +265,7 @@ def escape_access(grid, space, net: str, pad: PlacedPad, others=None, most: int 
                     pts = [(round(px, 6), round(py, 6)) for px, py in pts]
                     cands.append((run + abs(w_ - s_across), abs(w_ - s_across), pts))
             cands.sort(key=lambda c: (c[0], c[1]))
-            # the two shortest exits; for a neck also the straightest long one, which carries the
+            # the EXITS shortest exits; for a neck also the straightest long one, which carries the
             # net past its neighbours' exits before the class width begins
             orders = [cands]
             if width < cw - TOL:
@@ -288,7 +292,7 @@ def escape_access(grid, space, net: str, pad: PlacedPad, others=None, most: int 
                             found[(l, j, i)] = path
                             n_dir += 1
                             got += 1
-                    if got >= (2 if order is cands else 1):
+                    if got >= (EXITS if order is cands else 1):
                         break
             if n_dir:
                 break                       # the class width fits this way: no neck needed
@@ -406,3 +410,160 @@ def _via_inside(pad, core, rad: float, q, vd: float) -> bool:
         full = turned_box(pad.x, pad.y, pad.w, pad.h, pad.angle)
         return full.contains(q) and full.exterior.distance(q) >= vd / 2 - TOL
     return core.distance(q) <= rad - vd / 2 + TOL
+
+
+#: How many access cells a pad may have and still count as *scarce*: its exits are reserved in
+#: negotiation (:class:`ExitReserve`). Our choice: a pad reached only by escape exits (necks or
+#: exits of the class width out of a fine-pitch row) or by at most this many grid points.
+SCARCE = 3
+#: The extra cost, per grid point, of another net's copper on a scarce pad's exit, in search
+#: units (:data:`router.search.STEP` per grid step): our choice, two grid steps, so a neighbour
+#: takes another exit when that costs it less than a short detour.
+RESERVE_STEPS = 2
+
+
+class ExitReserve:
+    """Exits of pads that have few ways out, reserved while nets negotiate.
+
+    A pad in a fine-pitch row reaches the grid through one to a few exits, and the exits of
+    its neighbours pass the same grid points. Unreserved, the first net routed takes the
+    point it likes best, which may be the only way out of its neighbour's pad. Here every
+    grid point where another net's trace (of the board's narrowest class) or via would come
+    too close to an exit of a scarce pad costs that other net :data:`RESERVE_STEPS` grid
+    steps more, so neighbours' exits are soft obstacles that move aside where they have
+    another way, and stay where they have none. The reservation is a price only: the
+    routes' legality is judged as before (conflicts, walls, the exact check).
+    """
+
+    def __init__(self, grid):
+        self.grid = grid
+        self.cost = np.zeros((grid.L, grid.ny, grid.nx), np.int64)
+        self.via_cost = np.zeros((grid.ny, grid.nx), np.int64)
+        self.own: dict[str, tuple] = {}          # net -> (cells (l, j, i), via places (j, i))
+        self.unit = RESERVE_STEPS * _step()
+        self.thin = min(p.half for p in grid.profiles.values())
+
+    def add(self, net: str, pads) -> None:
+        """Reserve the exits of `net`'s scarce pads, once, from the grid's access cache
+        (:func:`router.nets.terminals` with ``cache``)."""
+        if net in self.own:
+            return
+        grid = self.grid
+        store = grid.__dict__.get("_access_cache", {})
+        paths = []
+        for p in pads:
+            acc = store.get((net, p.ref, p.index))
+            if acc is None:
+                return                    # not searched yet: reserved after the net's first search
+            if not acc or not (len(acc) <= SCARCE or any(isinstance(v, Neck) for v in acc.values())):
+                continue
+            for c, path in acc.items():
+                pts = list(path) if path else [grid.point(c[1], c[2])]
+                pts.append(grid.point(c[1], c[2]))
+                paths.append((c[0], pts, getattr(path, "width", grid.profile_of(net).width)))
+        cells = np.zeros((grid.L, grid.ny, grid.nx), np.int32)
+        vias = np.zeros((grid.ny, grid.nx), np.int32)
+        clear = max(grid.profile_of(net).clearance_to.values())
+        for layer, pts, width in paths:
+            for a, b in zip(pts, pts[1:] or pts):
+                box = (min(a[0], b[0]), min(a[1], b[1]), max(a[0], b[0]), max(a[1], b[1]))
+                grid._stamp_points(box, width / 2 + clear + self.thin, 1, cells[layer])
+                grid._stamp_points(box, width / 2 + clear + grid.via_d / 2, 1, vias)
+        mine = (np.argwhere(cells > 0), np.argwhere(vias > 0))
+        self.own[net] = mine
+        self.cost[mine[0][:, 0], mine[0][:, 1], mine[0][:, 2]] += self.unit
+        self.via_cost[mine[1][:, 0], mine[1][:, 1]] += self.unit
+
+    def extra_for(self, net: str):
+        """(per grid point, per via place) reservation cost `net` pays (other nets' exits
+        only), or None when nothing is reserved."""
+        if not self.own or not any(len(c) for c, _ in self.own.values()):
+            return None
+        cells, vias = self.cost.copy(), self.via_cost.copy()
+        mine = self.own.get(net)
+        if mine is not None:
+            cells[mine[0][:, 0], mine[0][:, 1], mine[0][:, 2]] -= self.unit
+            vias[mine[1][:, 0], mine[1][:, 1]] -= self.unit
+        return cells, vias
+
+
+def _step() -> int:
+    from .search import STEP
+    return STEP
+
+
+def exit_conflicts(grid, routes: dict, soft: dict) -> tuple[dict, list]:
+    """Exits (stubs and necks, off the grid) that come too close to other nets' routed copper,
+    measured exactly: net -> how many of its exit segments do, and the grid points near them.
+
+    Negotiation judges grid copper at grid points; an exit leaves the grid, so it is judged
+    here by its true distance (axis-parallel segment to box plus radius) to every other net's
+    soft item (:meth:`RoutingGrid.soft_items`), with the pair's class clearance. Counting the
+    grid points beside an exit as the net's cells instead would see two exits of neighbouring
+    pads in a 0.5 mm row as sharing though their copper keeps the clearance.
+    """
+    segs = []                             # (net, layer, a, b, width)
+    for net in sorted(routes):
+        r = routes[net]
+        w = grid.profile_of(net).width
+        for a, b, l in r.stubs:
+            segs.append((net, l, a, b, w))
+        for pts, l, nw in r.necks:
+            for a, b in zip(pts, pts[1:]):
+                segs.append((net, l, a, b, nw))
+    items = [(n, ob) for n in sorted(soft) for ob in soft[n]]
+    if not segs or not items:
+        return {}, []
+    nets = sorted(set(routes) | set(soft))
+    nid = {n: k for k, n in enumerate(nets)}
+    classes = sorted({ob.cls for _, ob in items} | {grid.net_class.get(s[0], "default") for s in segs})
+    cid = {c: k for k, c in enumerate(classes)}
+    boxes = np.array([ob.box for _, ob in items], dtype=np.float64)
+    rads = np.array([ob.radius for _, ob in items])
+    lmask = np.array([sum(1 << l for l in ob.layers) for _, ob in items], dtype=np.int64)
+    inet = np.array([nid[n] for n, _ in items])
+    icls = np.array([cid[ob.cls] for _, ob in items])
+    # required clearance between each pair of classes
+    clear = np.zeros((len(classes), len(classes)))
+    for a in classes:
+        prof = grid.profiles[a] if a in grid.profiles else grid.profiles["default"]
+        for b in classes:
+            clear[cid[a], cid[b]] = prof.clearance_to.get(b, prof.clearance_to["default"])
+    shared: dict[str, int] = {}
+    cells = []
+    for s0 in range(0, len(segs), 256):
+        chunk = segs[s0:s0 + 256]
+        sb = np.array([(min(a[0], b[0]), min(a[1], b[1]), max(a[0], b[0]), max(a[1], b[1])) for _, _, a, b, _ in chunk])
+        sl = np.array([l for _, l, _, _, _ in chunk], dtype=np.int64)
+        sw = np.array([w for *_, w in chunk])
+        sn = np.array([nid[s[0]] for s in chunk])
+        sc = np.array([cid[grid.net_class.get(s[0], "default")] for s in chunk])
+        gx = np.maximum(np.maximum(boxes[None, :, 0] - sb[:, None, 2], 0.0), sb[:, None, 0] - boxes[None, :, 2])
+        gy = np.maximum(np.maximum(boxes[None, :, 1] - sb[:, None, 3], 0.0), sb[:, None, 1] - boxes[None, :, 3])
+        need = sw[:, None] / 2 + rads[None, :] + clear[sc[:, None], icls[None, :]]
+        bad = ((np.hypot(gx, gy) < need - TOL) & ((lmask[None, :] >> sl[:, None]) & 1).astype(bool)
+               & (inet[None, :] != sn[:, None]))
+        for q in np.nonzero(bad.any(axis=1))[0]:
+            net, l, a, b, _ = chunk[q]
+            shared[net] = shared.get(net, 0) + 1
+            near = _near_points(grid, a, b, l)
+            if near:
+                cells.append(np.array(near, dtype=np.int64))
+    return shared, cells
+
+
+def _near_points(grid, a, b, layer: int) -> list:
+    """Grid points (layer, j, i) within half a pitch of the segment a-b."""
+    g = grid.pitch
+    x0, x1 = sorted((a[0], b[0]))
+    y0, y1 = sorted((a[1], b[1]))
+    ia, ib, ja, jb = grid._window((x0, y0, x1, y1), g / 2)
+    out = []
+    for j in range(ja, jb):
+        for i in range(ia, ib):
+            x, y = grid.x(i), grid.y(j)
+            gx = max(x0 - x, 0.0, x - x1)
+            gy = max(y0 - y, 0.0, y - y1)
+            if gx * gx + gy * gy <= (g / 2) ** 2 + TOL:
+                out.append((layer, j, i))
+    return out

@@ -44,6 +44,7 @@ from .nets import NetRoute, route_net
 from .search import STEP
 from .tidy import polylines, trim_dangling
 from .units import TOL
+from .escape import ExitReserve, exit_conflicts
 from .viapass import VIA_TRADE, ViaCrowd, fewer_vias as _fewer_vias, move_blockers as _move_blockers
 
 __all__ = ["RouteResult", "route_board", "DEFAULT_BEND", "DEFAULT_VIA", "DEFAULT_JUMP", "DEFAULT_PASSES"]
@@ -99,6 +100,7 @@ class _Negotiation:
         self.ties: dict[str, tuple] = {}           # net -> the order its searches try headings in (the seed's ties)
         self.own_at: dict[str, tuple] = {}         # net -> its own soft counts at its cells and holes (conflicts)
         self.crowd = ViaCrowd(grid) if grid.L == 2 and crowd else None
+        self.reserve = ExitReserve(grid)          # scarce pads' exits cost other nets more (router.escape)
 
     def width(self, net: str) -> float:
         return self.grid.profile_of(net).width
@@ -154,6 +156,9 @@ class _Negotiation:
         else:
             e = self.present * STEP * grid.soft_cell[k].astype(np.float64) + self.hist
             extra = np.minimum(e, 2**24).astype(np.int32)
+        res = self.reserve.extra_for(net)       # other nets' scarce pad exits (router.escape)
+        if res is not None:
+            extra = np.minimum(extra.astype(np.int64) + res[0], 2**24).astype(np.int32)
         space = grid.space_for(net, extra, soft_block=strict, own=self.own[net])
         if not strict:
             # a via or jumper end near other nets' copper is priced like a shared cell
@@ -162,6 +167,9 @@ class _Negotiation:
         if self.crowd is not None:       # a via among other nets' vias costs more (router.viapass)
             space.hole_extra = np.ascontiguousarray(np.minimum(
                 space.hole_extra.astype(np.int64) + self.crowd.price(self.via), 2**24).astype(np.int32))
+        if res is not None:
+            space.hole_extra = np.ascontiguousarray(np.minimum(
+                space.hole_extra.astype(np.int64) + res[1], 2**24).astype(np.int32))
         if strict:
             blocked = grid.soft_cell[k] > 0
             space.open_cell = np.ascontiguousarray(space.open_cell & ~blocked).astype(np.uint8)
@@ -185,6 +193,8 @@ class _Negotiation:
         r = route_net(grid, net, space, self.groups[net], bend=self.bend, via=self.via if via is None else via,
                       jump=self.jump, others=others, cache=not strict, order=self.ties.get(net, (0, 1, 2, 3)),
                       explain=strict or not grid.one_layer)     # two layers: a failure here is found once
+        if not strict:
+            self.reserve.add(net, [p for g in self.groups[net] for p in g])
         if r.blind or (r.failed and not strict and not grid.one_layer):
             # no way even with every other net's routed copper passable (two layers: their copper
             # is only a cost here): the fixed copper, the edge or keepouts close it; found once
@@ -192,7 +202,8 @@ class _Negotiation:
         return r
 
     def conflicts(self) -> tuple[dict, list]:
-        """Nets sharing cells with other nets: net -> number of shared cells, and the cells.
+        """Nets sharing cells with other nets: net -> number of shared cells (and of exits too
+        close to other nets' copper, :func:`router.escape.exit_conflicts`), and the cells.
 
         Other nets' copper at a net's cells is the soft count there less the net's own
         (counted once when the net was laid, :func:`_own_counts`)."""
@@ -220,6 +231,11 @@ class _Negotiation:
                         cells_all.append(np.array([[0, j, i]], dtype=np.int64))
             if n:
                 shared[net] = n
+        # exits off the grid, measured exactly against the other nets' copper (router.escape)
+        ex, ex_cells = exit_conflicts(grid, self.routes, self.soft)
+        for net, n in ex.items():
+            shared[net] = shared.get(net, 0) + n
+        cells_all.extend(ex_cells)
         return shared, cells_all
 
 
@@ -245,7 +261,7 @@ def _own_counts(grid: RoutingGrid, net: str, r: NetRoute, items) -> tuple:
     its hole places, computed with the same arithmetic as :meth:`RoutingGrid.stamp`, so that the
     soft count there less this is exactly what the other nets' copper adds."""
     prof = grid.profile_of(net)
-    cells = np.array(sorted(r.cells | r.near), dtype=np.int64).reshape(-1, 3)
+    cells = np.array(sorted(r.cells), dtype=np.int64).reshape(-1, 3)     # exits: escape.exit_conflicts
     holes = _hole_cells(grid, r)
     own_c = np.zeros(len(cells), np.int64)
     own_h = np.zeros(len(holes), np.int64)

@@ -397,7 +397,7 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
     cx = np.mean([p.x for t in terms for p in t.pads])
     cy = np.mean([p.y for t in terms for p in t.pads])
     first = min(range(len(terms)), key=lambda k: (math.hypot(terms[k].pads[0].x - cx, terms[k].pads[0].y - cy), k))
-    tree: dict = dict(terms[first].cells)              # cell -> stub to add when a path leaves from it
+    tree: dict = _price_exits(grid, space, terms, first)  # cell -> stub to add when a path leaves from it
     used_stub: set = set()
     left = [k for k in range(len(terms)) if k != first]
     near = _Nearest(terms, left, list(tree))
@@ -455,6 +455,43 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
 
 #: How many of a net's unjoined terminals, nearest its tree, one search aims at.
 NEAREST = 4
+
+
+def _price_exits(grid: RoutingGrid, space: SearchSpace, terms: list, first: int) -> dict:
+    """Exits off the grid (stubs, necks) priced by the grid points beside them: the search
+    pays a cell's extra cost (congestion, history, reserved exits) only on entering it, so an
+    exit would cross other nets' claims for free. Each exit's access cell is charged the
+    extra cost of the grid points within half a pitch of the exit (a target pays it on
+    entering); the first terminal, where searches start at no cost, keeps only the exits
+    priced within one grid step of its cheapest. Returns the first terminal's cells."""
+    from .escape import _near_points
+    from .search import STEP
+    extra = space.extra
+    copied = False
+    keep = dict(terms[first].cells)
+    for k, t in enumerate(terms):
+        price = {}
+        for c, stub in t.cells.items():
+            if not stub:
+                continue
+            pts = set()
+            for a, b in zip(stub, stub[1:]):
+                pts.update(_near_points(grid, a, b, c[0]))
+            pts.discard(c)
+            price[c] = int(sum(int(extra[q]) for q in pts))
+        if not price or not any(price.values()):
+            continue
+        if k == first:
+            base = {c: int(extra[c]) + price.get(c, 0) for c in t.cells}
+            low = min(base.values())
+            keep = {c: s for c, s in t.cells.items() if base[c] <= low + STEP}
+            continue
+        if not copied:
+            extra = space.extra = extra.copy()
+            copied = True
+        for c, v in price.items():
+            extra[c] = min(int(extra[c]) + v, 2**24)
+    return keep
 
 
 def _find(grid, space, sources, targets, bend, via, jump, order=(0, 1, 2, 3)):
