@@ -146,7 +146,7 @@ class _Negotiation:
         for a, b in r.jumpers:
             self.grid.add_wire(a, b, -1)
 
-    def route(self, net: str, strict: bool = False, via: Optional[int] = None) -> NetRoute:
+    def route(self, net: str, strict: bool = False, via: Optional[int] = None, explain: bool = True) -> NetRoute:
         grid = self.grid
         if net in self.blind:            # a pad with no way to the grid is found once, not every pass
             return NetRoute(net, failed=self.blind[net], blind=True)
@@ -192,7 +192,7 @@ class _Negotiation:
                                            for ob in items], prof)
         r = route_net(grid, net, space, self.groups[net], bend=self.bend, via=self.via if via is None else via,
                       jump=self.jump, others=others, cache=not strict, order=self.ties.get(net, (0, 1, 2, 3)),
-                      explain=strict or not grid.one_layer)     # two layers: a failure here is found once
+                      explain=explain and (strict or not grid.one_layer))     # two layers: found once
         if not strict:
             self.reserve.add(net, [p for g in self.groups[net] for p in g])
         if r.blind or (r.failed and not strict and not grid.one_layer):

@@ -132,7 +132,7 @@ def _try_move(neg, net: str, trade: int, price: float, poured: set, before: dict
     neg.rip(net)
     neg.present, neg.hist = price, np.zeros_like(neg.hist)
     try:
-        new = neg.route(net, via=neg.via + trade)
+        new = neg.route(net, via=neg.via + trade, explain=False)     # a failure here needs no reason
     finally:
         neg.present, neg.hist = saved[0], saved[1]
         if saved[2] is None:             # a failure at this price says nothing about the fixed copper
@@ -149,7 +149,7 @@ def _try_move(neg, net: str, trade: int, price: float, poured: set, before: dict
         old[v] = neg.routes[v]
         neg.rip(v)
     for v in victims:
-        rv = neg.route(v, strict=True, via=neg.via + trade)
+        rv = neg.route(v, strict=True, via=neg.via + trade, explain=False)
         if rv.failed:
             return _undo(neg, old)
         neg.lay(v, rv)
