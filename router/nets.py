@@ -380,8 +380,9 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
     if len(terms) <= 1:
         return route
     blind = [t for t in terms if not t.cells]
-    if blind and others is not None and terminals(grid, space, net, [blind[0].pads])[0].cells:
-        # walls of other nets' routed copper, not the fixed copper, take every exit
+    if blind and others is not None and terminals(grid, grid.space_for(net), net, [blind[0].pads])[0].cells:
+        # walls of other nets' routed copper, not the fixed copper, take every exit (asked of the
+        # fixed copper's own space: the walled space has the routed copper's cells closed too)
         route.failed = (f"pad {blind[0].name}: every exit to the grid is taken by other nets' routed copper "
                         f"(for a {grid.profile_of(net).width:g} mm trace)")
         return route

@@ -122,3 +122,18 @@ def test_reserved_exits_cost_other_nets_only():
             if abs(d - (0.125 + 0.2 + 0.3)) > 1e-3:
                 assert (vias[j, i] == unit) == (d < 0.125 + 0.2 + 0.3), (x, y, d)
             assert cells[1, j, i] == 0         # the exit is on the top layer only
+
+
+def test_exits_taken_by_routed_copper_are_named_so():
+    """When other nets' routed copper (walls) takes every exit of a pad that the fixed copper
+    leaves open, the reason says so, rather than blaming the pads or the file's copper."""
+    from router.negotiate import _Negotiation, _pad_groups
+    b = crowded_row()
+    grid = RoutingGrid(b)
+    groups = _pad_groups(b, grid)
+    neg = _Negotiation(b, grid, [n.name for n in b.nets], groups, bend=400, via=800, jump=2000)
+    # S6's copper laid across the front of the row, under U1.7's exits (0.25 mm traces)
+    wall = NetRoute("S6", stubs=[((18.5, y), (20.5, y), 0) for y in (13.0, 12.75, 12.5, 12.25, 12.0, 11.75)])
+    neg.lay("S6", wall)
+    r = neg.route("VCC", strict=True)
+    assert r.failed and "taken by other nets' routed copper" in r.failed, r.failed
