@@ -263,7 +263,9 @@ class RoutingGrid:
                 need = max(need, drill + self.rules.min_hole_spacing + 2 * self.jump_slack)
             self._stamp_points(ob.box, need, sign, vm, core=ob.core)
 
-    def _stamp_points(self, box: Box, need: float, sign: int, arr2d: np.ndarray, core=None) -> None:
+    def _stamp_points(self, box: Box, need: float, sign: int, arr2d: np.ndarray, core=None, at=None) -> None:
+        """Add `sign` at the grid points within `need` of `box`; `at` = (i, j) of arr2d's first
+        element when it holds only a window of the grid."""
         ia, ib, ja, jb = self._window(box, need)
         if ia >= ib or ja >= jb:
             return
@@ -277,6 +279,8 @@ class RoutingGrid:
             dx = _gap(X, X, box[0], box[2])
             dy = _gap(Y, Y, box[1], box[3])
             m = (dy[:, None] ** 2 + dx[None, :] ** 2) < lim * lim
+        if at is not None:
+            ia, ib, ja, jb = ia - at[0], ib - at[0], ja - at[1], jb - at[1]
         arr2d[ja:jb, ia:ib] += sign * m
 
     @staticmethod

@@ -42,6 +42,7 @@ from .grid import RoutingGrid, box_of_core
 from .model import Board, Jumper, Trace, Via
 from .nets import NetRoute, route_net
 from .search import STEP
+from .spaces import NetSpaces
 from .tidy import polylines, trim_dangling
 from .units import TOL
 from .escape import ExitReserve, exit_conflicts
@@ -101,6 +102,14 @@ class _Negotiation:
         self.own_at: dict[str, tuple] = {}         # net -> its own soft counts at its cells and holes (conflicts)
         self.crowd = ViaCrowd(grid) if grid.L == 2 and crowd else None
         self.reserve = ExitReserve(grid)          # scarce pads' exits cost other nets more (router.escape)
+        self.spaces = NetSpaces(grid)              # search spaces from parts made once (router.spaces)
+        self.hist_top = None                       # the larger history of the layers, made once per pass
+
+    def hist_top_now(self) -> np.ndarray:
+        """hist.max over the layers; set ``hist_top`` to None whenever ``hist`` changes."""
+        if self.hist_top is None:
+            self.hist_top = self.hist.max(axis=0)
+        return self.hist_top
 
     def width(self, net: str) -> float:
         return self.grid.profile_of(net).width
@@ -133,13 +142,15 @@ class _Negotiation:
             self.crowd.add(r.vias, +1)
         g = grid.pitch
         self.off_grid[net] = [ob for ob in items if not all(abs(v / g - round(v / g)) < 1e-6 for v in ob.box)]
+        self.spaces.lay(net, items, self.off_grid[net], +1)
 
     def rip(self, net: str) -> None:
         r = self.routes.pop(net, None)
         if r is None:
             return
-        self.grid.add_soft(self.soft.pop(net), -1)
-        self.off_grid.pop(net, None)
+        items = self.soft.pop(net)
+        self.grid.add_soft(items, -1)
+        self.spaces.lay(net, items, self.off_grid.pop(net, None) or [], -1)
         self.own_at.pop(net, None)
         if self.crowd is not None:
             self.crowd.add(r.vias, -1)
@@ -150,46 +161,7 @@ class _Negotiation:
         grid = self.grid
         if net in self.blind:            # a pad with no way to the grid is found once, not every pass
             return NetRoute(net, failed=self.blind[net], blind=True)
-        k = grid.profile_of(net).index
-        if strict:
-            extra = np.zeros((grid.L, grid.ny, grid.nx), np.int32)
-        else:
-            e = self.present * STEP * grid.soft_cell[k].astype(np.float64) + self.hist
-            extra = np.minimum(e, 2**24).astype(np.int32)
-        res = self.reserve.extra_for(net)       # other nets' scarce pad exits (router.escape)
-        if res is not None:
-            extra = np.minimum(extra.astype(np.int64) + res[0], 2**24).astype(np.int32)
-        space = grid.space_for(net, extra, soft_block=strict, own=self.own[net])
-        if not strict:
-            # a via or jumper end near other nets' copper is priced like a shared cell
-            he = self.present * STEP * grid.soft_via[k].astype(np.float64) + self.hist.max(axis=0)
-            space.hole_extra = np.ascontiguousarray(np.minimum(he, 2**24).astype(np.int32))
-        if self.crowd is not None:       # a via among other nets' vias costs more (router.viapass)
-            space.hole_extra = np.ascontiguousarray(np.minimum(
-                space.hole_extra.astype(np.int64) + self.crowd.price(self.via), 2**24).astype(np.int32))
-        if res is not None:
-            space.hole_extra = np.ascontiguousarray(np.minimum(
-                space.hole_extra.astype(np.int64) + res[1], 2**24).astype(np.int32))
-        if strict:
-            blocked = grid.soft_cell[k] > 0
-            space.open_cell = np.ascontiguousarray(space.open_cell & ~blocked).astype(np.uint8)
-            # copper off the grid (stubs, jumpers' far ends) can sit between two open points: block those steps too
-            prof = grid.profile_of(net)
-            off = [ob for n, items in sorted(self.off_grid.items()) if n != net for ob in items]
-            if off:
-                c = np.zeros((grid.L, grid.ny, grid.nx), np.int32)
-                h = np.zeros_like(c)
-                v = np.zeros_like(c)
-                for ob in off:
-                    grid._stamp_maps(ob, grid._need(ob, prof, prof.half), 1, c, h, v)
-                space.open_cell = np.ascontiguousarray((space.open_cell.astype(bool) & (c == 0)).astype(np.uint8))
-                space.open_h = np.ascontiguousarray((space.open_h.astype(bool) & (h == 0)).astype(np.uint8))
-                space.open_v = np.ascontiguousarray((space.open_v.astype(bool) & (v == 0)).astype(np.uint8))
-        others = None
-        if strict:
-            prof = grid.profile_of(net)
-            others = grid.obstacle_arrays([ob for n, items in sorted(self.soft.items()) if n != net
-                                           for ob in items], prof)
+        space, others = self.spaces.space(self, net, strict, self.reserve.extra_for(net))
         r = route_net(grid, net, space, self.groups[net], bend=self.bend, via=self.via if via is None else via,
                       jump=self.jump, others=others, cache=not strict, order=self.ties.get(net, (0, 1, 2, 3)),
                       explain=explain and (strict or not grid.one_layer))     # two layers: found once
@@ -471,6 +443,7 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
         for c in cells:
             if len(c):
                 neg.hist[c[:, 0], c[:, 1], c[:, 2]] += STEP
+        neg.hist_top = None
         neg.present *= 1.8
         todo = [n for n in order if n not in neg.blind and (every_net or n in shared or neg.routes[n].failed)]
         todo = shuffle(todo)             # the rip-up order of this pass (the seed's; 0: the first pass's)

@@ -232,12 +232,17 @@ def _block_hole(grid: RoutingGrid, space: SearchSpace, at, drill: float) -> None
     """No other via or jumper end of this net within hole spacing of a new hole at `at`."""
     own = grid.jump_drill if grid.one_layer else grid.via_drill
     need = drill / 2 + own / 2 + grid.rules.min_hole_spacing + grid.jump_slack
-    arr = np.zeros((grid.ny, grid.nx), np.int32)
-    grid._stamp_points((at[0], at[1], at[0], at[1]), need, 1, arr)
+    box = (at[0], at[1], at[0], at[1])
+    ia, ib, ja, jb = grid._window(box, need)       # only the window near the hole changes
+    if ia >= ib or ja >= jb:
+        return
+    arr = np.zeros((jb - ja, ib - ia), np.int32)
+    grid._stamp_points(box, need, 1, arr, at=(ia, ja))
     if grid.one_layer:
-        space.jump_ok = (space.jump_ok.astype(bool) & (arr == 0)).astype(np.uint8)
+        space.jump_ok = np.ascontiguousarray(space.jump_ok, dtype=np.uint8)
+        space.jump_ok[ja:jb, ia:ib] &= (arr == 0)
     else:
-        space.via_ok = np.ascontiguousarray((space.via_ok.astype(bool) & (arr == 0)).astype(np.uint8))
+        space.via_ok[ja:jb, ia:ib] &= (arr == 0)
 
 
 def _path_holes(grid: RoutingGrid, cells: np.ndarray) -> list:

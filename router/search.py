@@ -40,7 +40,7 @@ from typing import Optional
 import numpy as np
 from numba import njit
 
-__all__ = ["STEP", "SearchSpace", "Path", "find_path", "reference_graph", "path_cost"]
+__all__ = ["STEP", "LazyCosts", "SearchSpace", "Path", "find_path", "reference_graph", "path_cost"]
 
 #: Cost of one grid step; penalties are in the same unit (a bend of B mm is round(STEP * B / pitch)).
 STEP = 100
@@ -57,6 +57,67 @@ NDIR_JUMP = 9       # with jumpers
 def _heading(d: int) -> int:
     """The heading of a state's direction code (a landing from a jumper keeps the wire's)."""
     return d - 5 if d >= 5 else d
+
+
+@dataclass
+class LazyCosts:
+    """Congestion costs computed by the search where it looks, instead of a full-grid ``extra``
+    and ``hole_extra`` made for every net (on a big grid those arrays cost more than the search).
+
+    With ``strict`` False, entering cell (l, j, i) costs ``min(int(pf * soft[l, j, i] + hist[l, j, i]), cap)``
+    and a hole at (j, i) costs ``min(int(pf * soft_via[j, i] + hist_top[j, i]), cap)``; with
+    ``strict``, cells cost nothing and holes start from 0. Where ``crowd`` is given, a hole
+    costs ``crowd[j, i] * crowd_price`` more (capped at ``cap``). The arithmetic is that of
+    numpy on the full arrays (float64, truncation to integer), so the costs are the same.
+    """
+    soft: np.ndarray                     # int32 [L, ny, nx]
+    hist: np.ndarray                     # int64 [L, ny, nx]
+    soft_via: np.ndarray                 # int32 [ny, nx]
+    hist_top: np.ndarray                 # int64 [ny, nx]: the larger history of the layers
+    pf: float
+    strict: bool = False
+    crowd: Optional[np.ndarray] = None   # int32 [ny, nx]
+    crowd_price: int = 0
+    cap: int = 2**24
+    bounds: Optional[tuple] = None       # (largest cell cost, largest hole cost) or None: measured
+    add_cell: Optional[np.ndarray] = None    # int64 [L, ny, nx]: added last to a cell's cost (capped)
+    add_hole: Optional[np.ndarray] = None    # int64 [ny, nx]: added last to a hole's cost (capped)
+
+    def cell_cost(self, l: int, j: int, i: int) -> int:
+        e = 0
+        if not self.strict:
+            e = int(min(self.pf * float(self.soft[l, j, i]) + float(self.hist[l, j, i]), float(self.cap)))
+        if self.add_cell is not None:
+            e = min(e + int(self.add_cell[l, j, i]), self.cap)
+        return e
+
+    def hole_cost(self, j: int, i: int) -> int:
+        h = 0
+        if not self.strict:
+            h = int(min(self.pf * float(self.soft_via[j, i]) + float(self.hist_top[j, i]), float(self.cap)))
+        if self.crowd is not None:
+            h = min(h + int(self.crowd[j, i]) * int(self.crowd_price), self.cap)
+        if self.add_hole is not None:
+            h = min(h + int(self.add_hole[j, i]), self.cap)
+        return h
+
+    def maxima(self) -> tuple[int, int]:
+        """Upper bounds of the cell and hole costs (for the bucket queue's span)."""
+        if self.bounds is None:
+            if self.strict:
+                e = h = 0
+            else:
+                e = int(min(self.pf * float(self.soft.max(initial=0)) + float(self.hist.max(initial=0)), self.cap))
+                h = int(min(self.pf * float(self.soft_via.max(initial=0)) + float(self.hist_top.max(initial=0)),
+                            self.cap))
+            if self.crowd is not None:
+                h = min(h + int(self.crowd.max(initial=0)) * int(self.crowd_price), self.cap)
+            if self.add_cell is not None:
+                e = min(e + int(self.add_cell.max(initial=0)), self.cap)
+            if self.add_hole is not None:
+                h = min(h + int(self.add_hole.max(initial=0)), self.cap)
+            self.bounds = (e, h)
+        return self.bounds
 
 
 @dataclass
@@ -78,6 +139,9 @@ class SearchSpace:
     hole_extra : int32 array [ny, nx] or None
         Non-negative cost of drilling a hole at a cell: added for a via there, and for
         each end of a jumper (the negotiated-congestion price of a via or jumper end).
+    lazy : LazyCosts, optional
+        When given, ``extra`` and ``hole_extra`` are ignored (pass None) and the costs are
+        computed from it where the search looks.
     """
     open_cell: np.ndarray
     open_h: np.ndarray
@@ -90,9 +154,26 @@ class SearchSpace:
     hole_extra: Optional[np.ndarray] = None
     _wire_rows: Optional[np.ndarray] = field(default=None, repr=False, compare=False)
     _wire_cols: Optional[np.ndarray] = field(default=None, repr=False, compare=False)
+    lazy: Optional[LazyCosts] = None
+    _maxes: dict = field(default_factory=dict, repr=False, compare=False)
 
     def __post_init__(self):
         L, ny, nx = self.open_cell.shape
+        if self.lazy is not None:        # costs come from `lazy`: small stand-ins for the arrays
+            self.extra = np.zeros((L, 1, 1), np.int32) if self.extra is None else self.extra
+            self.hole_extra = np.zeros((1, 1), np.int32) if self.hole_extra is None else self.hole_extra
+            for name in ("open_h", "open_v"):
+                if getattr(self, name).shape != (L, ny, nx):
+                    raise ValueError(f"{name} has shape {getattr(self, name).shape}, expected {(L, ny, nx)}")
+            if self.via_ok.shape != (ny, nx):
+                raise ValueError(f"via_ok has shape {self.via_ok.shape}, expected {(ny, nx)}")
+            self.open_cell = np.ascontiguousarray(self.open_cell, dtype=np.uint8)
+            self.open_h = np.ascontiguousarray(self.open_h, dtype=np.uint8)
+            self.open_v = np.ascontiguousarray(self.open_v, dtype=np.uint8)
+            self.via_ok = np.ascontiguousarray(self.via_ok, dtype=np.uint8)
+            self.extra = np.ascontiguousarray(self.extra, dtype=np.int32)
+            self.hole_extra = np.ascontiguousarray(self.hole_extra, dtype=np.int32)
+            return
         for name in ("open_h", "open_v", "extra"):
             if getattr(self, name).shape != (L, ny, nx):
                 raise ValueError(f"{name} has shape {getattr(self, name).shape}, expected {(L, ny, nx)}")
@@ -116,6 +197,34 @@ class SearchSpace:
     @property
     def shape(self) -> tuple[int, int, int]:
         return self.open_cell.shape
+
+    def extra_max(self) -> int:
+        """The largest entry of ``extra`` (a bound of the lazy costs), kept while the same array
+        stays (costs are replaced, never changed in place, by their users)."""
+        if self.lazy is not None:
+            return self.lazy.maxima()[0]
+        return self._max_of("extra")
+
+    def hole_extra_max(self) -> int:
+        if self.lazy is not None:
+            return self.lazy.maxima()[1]
+        return self._max_of("hole_extra")
+
+    def cell_cost(self, l: int, j: int, i: int) -> int:
+        """The extra cost of entering cell (l, j, i)."""
+        return self.lazy.cell_cost(l, j, i) if self.lazy is not None else int(self.extra[l, j, i])
+
+    def hole_cost(self, j: int, i: int) -> int:
+        """The extra cost of a hole (via, jumper end) at (j, i)."""
+        return self.lazy.hole_cost(j, i) if self.lazy is not None else int(self.hole_extra[j, i])
+
+    def _max_of(self, name: str) -> int:
+        arr = getattr(self, name)
+        got = self._maxes.get(name)
+        if got is None or got[0] is not arr:
+            got = (arr, int(arr.max(initial=0)))
+            self._maxes[name] = got
+        return got[1]
 
     @property
     def has_jumpers(self) -> bool:
@@ -158,6 +267,7 @@ class _Workspace:
         self.g = np.zeros(n_states, dtype=np.int64)
         self.parent = np.zeros(n_states, dtype=np.int32)
         self.stamp = 0
+        self.tmask = None
         self.head = np.zeros(1 << 12, dtype=np.int32)
         self.grow_pool(max(1 << 16, n_states))
 
@@ -174,6 +284,13 @@ class _Workspace:
         if nb != self.head.shape[0]:
             self.head = np.zeros(nb, dtype=np.int32)
         return self.head
+
+    def target_mask(self, shape) -> np.ndarray:
+        """A zeroed uint8 array of `shape` for the targets of one search; the caller clears
+        what it set (a fresh full-grid array per search cost more than the search on big grids)."""
+        if self.tmask is None or self.tmask.shape != shape:
+            self.tmask = np.zeros(shape, dtype=np.uint8)
+        return self.tmask
 
     def next_stamp(self) -> int:
         self.stamp += 1
@@ -233,14 +350,57 @@ def _heuristic(l, j, i, d, tx0, ty0, tx1, ty1, tlayer, step, turn, via_need_cost
     return h + turn * turns
 
 
+@njit(cache=True, inline="always")
+def _cell_extra(l, j, i, extra, lz, soft, hist, pf, cap, add_cell, has_add):
+    """Cost of entering a cell: the array's (lz 0), from soft counts and history (1), none (2);
+    then (lz 1, 2) plus add_cell when has_add, capped."""
+    if lz == 0:
+        return np.int64(extra[l, j, i])
+    e = np.int64(0)
+    if lz == 1:
+        f = pf * np.float64(soft[l, j, i]) + np.float64(hist[l, j, i])
+        if f > cap:
+            f = np.float64(cap)
+        e = np.int64(f)
+    if has_add:
+        e += add_cell[l, j, i]
+        if e > cap:
+            e = np.int64(cap)
+    return e
+
+
+@njit(cache=True, inline="always")
+def _hole_extra(j, i, hole_extra, lz, soft_via, hist_top, pf, crowd, cprice, cap, add_hole, has_add):
+    """Cost of a hole at (j, i): the array's (lz 0), or computed as LazyCosts says."""
+    if lz == 0:
+        return np.int64(hole_extra[j, i])
+    h = np.int64(0)
+    if lz == 1:
+        e = pf * np.float64(soft_via[j, i]) + np.float64(hist_top[j, i])
+        if e > cap:
+            e = np.float64(cap)
+        h = np.int64(e)
+    if cprice > 0:
+        h += np.int64(crowd[j, i]) * cprice
+        if h > cap:
+            h = np.int64(cap)
+    if has_add:
+        h += add_hole[j, i]
+        if h > cap:
+            h = np.int64(cap)
+    return h
+
+
 @njit(cache=True)
 def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_rows, wire_cols, jump_cells,
            sources, tmask, tx0, ty0, tx1, ty1, tlayer, step, bend, via, jump, order, nds,
-           stamp_of, gbest, parent, stamp, head, ent_state, ent_g, ent_next):
+           stamp_of, gbest, parent, stamp, head, ent_state, ent_g, ent_next,
+           lz, soft, hist, soft_via, hist_top, pf, crowd, cprice, cap, add_cell, add_hole, has_add):
     """Dial's bucket queue over integer f = g + h; returns (end state or -1 or -2 when the pool is full, expanded).
 
     `order` is the order in which the four step headings are tried (ties among equal paths);
-    `nds` the states per cell and layer (5, or 9 with jumpers)."""
+    `nds` the states per cell and layer (5, or 9 with jumpers); `lz` how cell and hole costs
+    are had (0: the arrays extra and hole_extra; 1: LazyCosts; 2: LazyCosts, strict)."""
     L, ny, nx = open_cell.shape
     turn = bend
     via_need = via if L == 2 else 0
@@ -317,7 +477,7 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_r
                 if nd == 3 and open_v[l, nj, i] == 0:
                     continue
                 nl = l
-                ng = g + step + extra[l, nj, ni]
+                ng = g + step + _cell_extra(l, nj, ni, extra, lz, soft, hist, pf, cap, add_cell, has_add)
                 if hd != 4 and nd != hd:
                     ng += bend
                 ndir = nd
@@ -330,7 +490,8 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_r
                 nj = j
                 if open_cell[nl, j, i] == 0:
                     continue
-                ng = g + via + extra[nl, j, i] + hole_extra[j, i]
+                ng = (g + via + _cell_extra(nl, j, i, extra, lz, soft, hist, pf, cap, add_cell, has_add)
+                      + _hole_extra(j, i, hole_extra, lz, soft_via, hist_top, pf, crowd, cprice, cap, add_hole, has_add))
                 ndir = d            # the heading goes through the via: a turn after it is a bend
                 nk = 1
             else:
@@ -362,7 +523,9 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_r
                         hi = nj if j < nj else j
                         if wire_cols[hi + 1, i] - wire_cols[lo, i] != 0:
                             continue
-                    ng = g + jump + step * k + extra[l, nj, ni] + hole_extra[j, i] + hole_extra[nj, ni]
+                    ng = (g + jump + step * k + _cell_extra(l, nj, ni, extra, lz, soft, hist, pf, cap, add_cell, has_add)
+                          + _hole_extra(j, i, hole_extra, lz, soft_via, hist_top, pf, crowd, cprice, cap, add_hole, has_add)
+                          + _hole_extra(nj, ni, hole_extra, lz, soft_via, hist_top, pf, crowd, cprice, cap, add_hole, has_add))
                     if hd != 4 and nd != hd:
                         ng += bend          # the wire leaves across the path: a bend at its first end
                     ndir = 5 + nd
@@ -385,6 +548,27 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_r
                     used += 1
                     pending += 1
     return -1, expanded
+
+
+_NO_I32_3 = np.zeros((1, 1, 1), np.int32)
+_NO_I64_3 = np.zeros((1, 1, 1), np.int64)
+_NO_I32_2 = np.zeros((1, 1), np.int32)
+_NO_I64_2 = np.zeros((1, 1), np.int64)
+
+
+def _lazy_args(space: SearchSpace, L: int) -> tuple:
+    """The kernel's last arguments: lz, soft, hist, soft_via, hist_top, pf, crowd, crowd price, cap,
+    the added cell and hole costs and whether they are given."""
+    lz = space.lazy
+    if lz is None:
+        return (0, _NO_I32_3, _NO_I64_3, _NO_I32_2, _NO_I64_2, 0.0, _NO_I32_2, 0, 2**24, _NO_I64_3, _NO_I64_2, False)
+    crowd = _NO_I32_2 if lz.crowd is None else lz.crowd
+    cprice = 0 if lz.crowd is None else int(lz.crowd_price)
+    has_add = lz.add_cell is not None
+    add_cell = np.ascontiguousarray(lz.add_cell, dtype=np.int64) if has_add else _NO_I64_3
+    add_hole = np.ascontiguousarray(lz.add_hole, dtype=np.int64) if has_add else _NO_I64_2
+    return (2 if lz.strict else 1, lz.soft, lz.hist, lz.soft_via, lz.hist_top, float(lz.pf), crowd, cprice,
+            int(lz.cap), add_cell, add_hole, has_add)
 
 
 def _as_cells(rows, L, ny, nx, what) -> np.ndarray:
@@ -441,7 +625,9 @@ def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump
     tgt = _as_cells(targets, L, ny, nx, "targets")
     if len(src) == 0 or len(tgt) == 0:
         return None
-    tmask = np.zeros((L, ny, nx), dtype=np.uint8)
+    nds = NDIR_JUMP if space.has_jumpers else NDIR
+    ws = _workspace(L * ny * nx * nds)
+    tmask = ws.target_mask((L, ny, nx))       # kept clear between searches: set here, cleared below
     tmask[tgt[:, 0], tgt[:, 1], tgt[:, 2]] = 1
     tlayer = np.zeros(L, dtype=np.uint8)
     tlayer[np.unique(tgt[:, 0])] = 1
@@ -451,24 +637,27 @@ def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump
     if sorted(order.tolist()) != [0, 1, 2, 3]:
         raise ValueError(f"order must hold each heading 0..3 once, not {order.tolist()}")
     jump_ok, wire_rows, wire_cols, jump_cells = space.jumper_arrays()
-    nds = NDIR_JUMP if len(jump_cells) else NDIR
-    ws = _workspace(L * ny * nx * nds)
     # the largest rise of f = g + h in one move bounds the live keys to one window of buckets
     kmax = int(jump_cells.max()) if len(jump_cells) else 1
-    max_extra = int(space.extra.max(initial=0)) + 2 * int(space.hole_extra.max(initial=0))
+    max_extra = space.extra_max() + 2 * space.hole_extra_max()
     span = (max(step + bend, via, jump + step * kmax) + max_extra) + step * kmax + 2 * max(bend, via, jump) + via
     span += step * (nx + ny) + 2 * max(bend, via, jump)     # spread of the sources' keys
     head = ws.buckets(span)
-    while True:
-        stamp = ws.next_stamp()
-        end, expanded = _astar(space.open_cell, space.open_h, space.open_v, space.via_ok, space.extra,
-                               space.hole_extra,
-                               jump_ok, wire_rows, wire_cols, jump_cells, src, tmask, tx0, ty0, tx1, ty1,
-                               tlayer, int(step), int(bend), int(via), int(jump), order, nds,
-                               ws.stamp_of, ws.g, ws.parent, stamp, head, ws.ent_state, ws.ent_g, ws.ent_next)
-        if end != -2:
-            break
-        ws.grow_pool(2 * ws.ent_state.shape[0])
+    lazy_args = _lazy_args(space, L)
+    try:
+        while True:
+            stamp = ws.next_stamp()
+            end, expanded = _astar(space.open_cell, space.open_h, space.open_v, space.via_ok, space.extra,
+                                   space.hole_extra,
+                                   jump_ok, wire_rows, wire_cols, jump_cells, src, tmask, tx0, ty0, tx1, ty1,
+                                   tlayer, int(step), int(bend), int(via), int(jump), order, nds,
+                                   ws.stamp_of, ws.g, ws.parent, stamp, head, ws.ent_state, ws.ent_g, ws.ent_next,
+                                   *lazy_args)
+            if end != -2:
+                break
+            ws.grow_pool(2 * ws.ent_state.shape[0])
+    finally:
+        tmask[tgt[:, 0], tgt[:, 1], tgt[:, 2]] = 0
     if end < 0:
         return None
     states = []
@@ -519,12 +708,12 @@ def path_cost(space: SearchSpace, cells, *, bend: int, via: int, jump: int = 0, 
     heading = NONE
     for k, (kind, d, dist) in enumerate(_moves(cells), start=1):
         (l0, j0, i0), (l1, j1, i1) = cells[k - 1], cells[k]
-        cost += int(space.extra[l1, j1, i1])
+        cost += space.cell_cost(int(l1), int(j1), int(i1))
         if kind == "via":
-            cost += via + int(space.hole_extra[j1, i1])
+            cost += via + space.hole_cost(int(j1), int(i1))
             continue
         if kind == "jumper":
-            cost += jump + step * dist + int(space.hole_extra[j0, i0]) + int(space.hole_extra[j1, i1])
+            cost += jump + step * dist + space.hole_cost(int(j0), int(i0)) + space.hole_cost(int(j1), int(i1))
         else:
             cost += step
         if heading != NONE and d != heading:
@@ -569,8 +758,8 @@ def reference_graph(space: SearchSpace, sources, targets, *, bend: int, via: int
                     span = wire[j, min(i, ni):max(i, ni) + 1] if nd in (0, 2) else wire[min(j, nj):max(j, nj) + 1, i]
                     if span.any():
                         continue
-                G.add_edge(u, (l, nj, ni, 5 + nd), weight=jump + step * k + int(space.extra[l, nj, ni])
-                           + int(space.hole_extra[j, i]) + int(space.hole_extra[nj, ni])
+                G.add_edge(u, (l, nj, ni, 5 + nd), weight=jump + step * k + space.cell_cost(l, nj, ni)
+                           + space.hole_cost(j, i) + space.hole_cost(nj, ni)
                            + (bend if hd != NONE and nd != hd else 0))
 
     for l in range(L):
@@ -593,11 +782,11 @@ def reference_graph(space: SearchSpace, sources, targets, *, bend: int, via: int
                             continue
                         if nd == 3 and not space.open_v[l, nj, i]:
                             continue
-                        w = step + int(space.extra[l, nj, ni]) + (bend if hd != NONE and nd != hd else 0)
+                        w = step + space.cell_cost(l, nj, ni) + (bend if hd != NONE and nd != hd else 0)
                         G.add_edge(u, (l, nj, ni, nd), weight=w)
                     if L == 2 and space.via_ok[j, i] and cell_open(1 - l, j, i):
                         G.add_edge(u, (1 - l, j, i, d),
-                                   weight=via + int(space.extra[1 - l, j, i]) + int(space.hole_extra[j, i]))
+                                   weight=via + space.cell_cost(1 - l, j, i) + space.hole_cost(j, i))
                     if d < 5:
                         add_jumpers(u, l, j, i, hd)
     for (l, j, i) in np.asarray(sources).reshape(-1, 3):

@@ -1,0 +1,155 @@
+"""Search spaces for negotiation without full-grid work per net.
+
+:meth:`router.grid.RoutingGrid.space_for` makes a net's search space from scratch: copies of
+the class's hard counts, the net's own copper subtracted, comparisons, conversions. The
+negotiation asks for a space for every net in every pass, and on a big grid (millions of
+cells) that work and the full-grid congestion arrays cost more than the searches. Here the
+same spaces come from parts made once:
+
+- per net class, the cells, steps and via places the fixed copper leaves open (made once);
+- per net, the places its own copper opens again (found once, kept as index lists);
+- congestion costs computed by the search where it looks (:class:`router.search.LazyCosts`);
+- for the strict routes (other nets' copper as walls), the off-grid pieces of every laid net
+  (stubs, necks, jumpers' far ends) counted per class as they are laid and taken up, instead of
+  stamped again for every net; and their obstacle arrays kept per net.
+
+The open cells, steps and via places, and every cost, are those of ``space_for`` and of the
+arrays the negotiation made before (tests/test_spaces.py compares them).
+"""
+from __future__ import annotations
+
+from typing import Optional
+
+import numpy as np
+
+from .search import STEP, LazyCosts, SearchSpace
+
+__all__ = ["NetSpaces"]
+
+
+class NetSpaces:
+    """Makes the negotiation's search spaces of one grid (see the module docstring)."""
+
+    def __init__(self, grid):
+        self.grid = grid
+        self._cls: dict[int, tuple] = {}            # class index -> open cell, h, v, via (uint8)
+        self._own: dict[str, tuple] = {}            # net -> flat indices its own copper opens
+        self._off: dict[int, list] = {}             # class index -> [cell, h, v] counts of off-grid pieces
+        self._arrays: dict[str, tuple] = {}         # net -> boxes, layer bits of its laid copper
+        self._need: dict[tuple, np.ndarray] = {}    # (net, class) -> centre distances of its laid copper
+
+    # ------------------------------------------------------------------ fixed copper
+    def _class_open(self, k: int) -> tuple:
+        got = self._cls.get(k)
+        if got is None:
+            g = self.grid
+            got = (((g.hard_cell[k] == 0) & g.base_cell[k]).astype(np.uint8),
+                   ((g.hard_h[k] == 0) & g.base_h[k]).astype(np.uint8),
+                   ((g.hard_v[k] == 0) & g.base_v[k]).astype(np.uint8),
+                   ((g.hard_via[k] == 0) & g.base_via).astype(np.uint8))
+            self._cls[k] = got
+        return got
+
+    def _own_open(self, net: str, own: list) -> tuple:
+        """Flat indices of the cells, steps and via places that `net`'s own copper opens."""
+        got = self._own.get(net)
+        if got is None:
+            g = self.grid
+            k = g.profile_of(net).index
+            sp = g.space_for(net, None, soft_block=False, own=own)
+            base = self._class_open(k)
+            holes = sp.jump_ok if g.one_layer else sp.via_ok      # one layer: jumper ends stand for vias
+            got = tuple(np.flatnonzero(new.ravel() != old.ravel())
+                        for new, old in zip((sp.open_cell, sp.open_h, sp.open_v, holes), base))
+            self._own[net] = got
+        return got
+
+    # ------------------------------------------------------------------ laid copper
+    def _off_maps(self, k: int) -> list:
+        maps = self._off.get(k)
+        if maps is None:
+            g = self.grid
+            shape = (g.L, g.ny, g.nx)
+            maps = self._off[k] = [np.zeros(shape, np.int32), np.zeros(shape, np.int32), np.zeros(shape, np.int32)]
+        return maps
+
+    def lay(self, net: str, items: list, off_grid: list, sign: int) -> None:
+        """Count a net's laid copper in (`sign` +1) or out (-1)."""
+        g = self.grid
+        if sign > 0:
+            if items:
+                self._arrays[net] = (np.array([ob.box for ob in items], dtype=np.float64).reshape(-1, 4),
+                                     np.array([sum(1 << l for l in ob.layers) for ob in items], dtype=np.int64))
+            else:
+                self._arrays.pop(net, None)
+        else:
+            self._arrays.pop(net, None)
+        for key in [key for key in self._need if key[0] == net]:
+            del self._need[key]
+        for prof in g.profiles.values():
+            if not off_grid:
+                break
+            c, h, v = self._off_maps(prof.index)
+            for ob in off_grid:
+                g._stamp_maps(ob, g._need(ob, prof, prof.half), sign, c, h, v)
+
+    def _others(self, net: str, prof, soft: dict):
+        """:meth:`RoutingGrid.obstacle_arrays` of every other net's laid copper."""
+        g = self.grid
+        boxes, masks, needs = [], [], []
+        for n in sorted(soft):
+            if n == net or not soft[n]:
+                continue
+            arr = self._arrays.get(n)
+            if arr is None:
+                continue
+            need = self._need.get((n, prof.index))
+            if need is None:
+                need = self._need[(n, prof.index)] = np.array([g._need(ob, prof, 0.0) for ob in soft[n]],
+                                                              dtype=np.float64)
+            boxes.append(arr[0])
+            masks.append(arr[1])
+            needs.append(need)
+        if not boxes:
+            return None
+        return np.concatenate(boxes), np.concatenate(masks), np.concatenate(needs)
+
+    # ------------------------------------------------------------------ one net's space
+    def space(self, neg, net: str, strict: bool, reserve=None) -> tuple[SearchSpace, Optional[tuple]]:
+        """The search space of `net` in negotiation `neg` (its soft maps, history, present
+        factor, via crowd), and with `strict` the other nets' copper as arrays for stubs.
+        `reserve`: (per cell, per via place) costs added on top (other nets' scarce pad exits,
+        :class:`router.escape.ExitReserve`), or None."""
+        g = self.grid
+        prof = g.profile_of(net)
+        k = prof.index
+        cell, hm, vm, via = (a.copy() for a in self._class_open(k))
+        for arr, idx in zip((cell, hm, vm, via), self._own_open(net, neg.own[net])):
+            arr.ravel()[idx] = 1
+        others = None
+        if strict:
+            cell &= (g.soft_cell[k] == 0)
+            via &= (g.soft_via[k] == 0)
+            maps = self._off.get(k)
+            if maps is not None:
+                c, h, v = maps
+                mine = neg.off_grid.get(net)
+                if mine:                 # the net's own pieces are laid: not walls to itself
+                    c, h, v = c.copy(), h.copy(), v.copy()
+                    for ob in mine:
+                        g._stamp_maps(ob, g._need(ob, prof, prof.half), -1, c, h, v)
+                cell &= (c == 0)
+                hm &= (h == 0)
+                vm &= (v == 0)
+            others = self._others(net, prof, neg.soft)
+        crowd = neg.crowd.price(neg.via) if neg.crowd is not None else None
+        lazy = LazyCosts(g.soft_cell[k], neg.hist, g.soft_via[k], neg.hist_top_now(), neg.present * STEP,
+                         strict=strict, crowd=crowd, crowd_price=1,
+                         add_cell=None if reserve is None else reserve[0],
+                         add_hole=None if reserve is None else reserve[1])
+        if g.one_layer:
+            sp = SearchSpace(cell, hm, vm, np.zeros((g.ny, g.nx), np.uint8), None, jump_ok=via,
+                             wire_block=(g.wire > 0).astype(np.uint8), jump_cells=g.jump_cells, lazy=lazy)
+        else:
+            sp = SearchSpace(cell, hm, vm, via, None, lazy=lazy)
+        return sp, others

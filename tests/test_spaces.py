@@ -1,0 +1,154 @@
+"""Search spaces made from parts (router.spaces) and costs computed where the search looks
+(router.search.LazyCosts): the same spaces and costs as the full arrays they replace.
+
+Outside reference: networkx's Dijkstra on the state graph of :func:`router.search.reference_graph`
+gives the optimal cost with the lazy costs; the arrays built here with numpy, as the negotiation
+built them before, give the same path.
+"""
+import networkx as nx
+import numpy as np
+import pytest
+
+from router.boardgen import generate_board
+from router.grid import RoutingGrid
+from router.negotiate import _Negotiation, _pad_groups
+from router.nets import route_net
+from router.realgen import real_board
+from router.search import STEP, LazyCosts, SearchSpace, find_path, path_cost, reference_graph
+
+
+def _lazy_case(rng, L, ny, nx_, strict, crowd):
+    soft = np.where(rng.random((L, ny, nx_)) > 0.7, rng.integers(0, 4, (L, ny, nx_)), 0).astype(np.int32)
+    hist = np.where(rng.random((L, ny, nx_)) > 0.8, rng.integers(0, 5, (L, ny, nx_)) * STEP, 0).astype(np.int64)
+    soft_via = np.where(rng.random((ny, nx_)) > 0.7, rng.integers(0, 3, (ny, nx_)), 0).astype(np.int32)
+    cr = rng.integers(0, 3, (ny, nx_)).astype(np.int32) * 25 if crowd else None
+    pf = 0.5 * 1.8 ** int(rng.integers(0, 6)) * STEP
+    lz = LazyCosts(soft, hist, soft_via, hist.max(axis=0), pf, strict=strict, crowd=cr, crowd_price=1)
+    # the arrays as the negotiation made them with numpy (router.negotiate before router.spaces)
+    if strict:
+        extra = np.zeros((L, ny, nx_), np.int32)
+        hole = np.zeros((ny, nx_), np.int32)
+    else:
+        extra = np.minimum(pf * soft.astype(np.float64) + hist, 2**24).astype(np.int32)
+        hole = np.minimum(pf * soft_via.astype(np.float64) + hist.max(axis=0), 2**24).astype(np.int32)
+    if cr is not None:
+        hole = np.minimum(hole.astype(np.int64) + cr, 2**24).astype(np.int32)
+    return lz, extra, hole
+
+
+@pytest.mark.parametrize("seed", range(24))
+def test_lazy_costs_equal_the_arrays_and_networkx(seed):
+    rng = np.random.default_rng(900 + seed)
+    L = 1 + seed % 2
+    ny, nx_ = int(rng.integers(4, 11)), int(rng.integers(4, 11))
+    cell = (rng.random((L, ny, nx_)) > 0.2).astype(np.uint8)
+    oh = (rng.random((L, ny, nx_)) > 0.1).astype(np.uint8)
+    ov = (rng.random((L, ny, nx_)) > 0.1).astype(np.uint8)
+    via_ok = (rng.random((ny, nx_)) > 0.4).astype(np.uint8) if L == 2 else np.zeros((ny, nx_), np.uint8)
+    kw = {}
+    if L == 1 and seed % 4 == 1:
+        kw = dict(jump_ok=(rng.random((ny, nx_)) > 0.3).astype(np.uint8),
+                  wire_block=(rng.random((ny, nx_)) > 0.85).astype(np.uint8), jump_cells=np.array([3], np.int64))
+    lz, extra, hole = _lazy_case(rng, L, ny, nx_, strict=seed % 3 == 0, crowd=seed % 5 != 0)
+    lazy_sp = SearchSpace(cell, oh, ov, via_ok, None, lazy=lz, **kw)
+    full_sp = SearchSpace(cell, oh, ov, via_ok, extra, hole_extra=hole, **kw)
+    src = np.stack([rng.integers(0, L, 2), rng.integers(0, ny, 2), rng.integers(0, nx_, 2)], axis=1)
+    tgt = np.stack([rng.integers(0, L, 2), rng.integers(0, ny, 2), rng.integers(0, nx_, 2)], axis=1)
+    bend, via, jump = int(rng.integers(0, 500)), int(rng.integers(0, 900)), int(rng.integers(0, 900))
+    p = find_path(lazy_sp, src, tgt, bend=bend, via=via, jump=jump)
+    q = find_path(full_sp, src, tgt, bend=bend, via=via, jump=jump)
+    G = reference_graph(lazy_sp, src, tgt, bend=bend, via=via, jump=jump)
+    try:
+        ref = nx.dijkstra_path_length(G, "S", "T")
+    except (nx.NetworkXNoPath, nx.NodeNotFound):
+        ref = None
+    assert (p is None) == (ref is None) == (q is None)
+    if p is not None:
+        assert p.cost == ref == q.cost
+        assert p.cells.tolist() == q.cells.tolist()          # the same path, not just the same cost
+        assert path_cost(lazy_sp, p.cells, bend=bend, via=via, jump=jump) == ref
+        assert path_cost(full_sp, p.cells, bend=bend, via=via, jump=jump) == ref
+
+
+def _old_space(neg, net, strict):
+    """The search space as _Negotiation.route made it before router.spaces (full arrays per net)."""
+    grid = neg.grid
+    k = grid.profile_of(net).index
+    if strict:
+        extra = np.zeros((grid.L, grid.ny, grid.nx), np.int32)
+    else:
+        e = neg.present * STEP * grid.soft_cell[k].astype(np.float64) + neg.hist
+        extra = np.minimum(e, 2**24).astype(np.int32)
+    res = neg.reserve.extra_for(net)
+    if res is not None:
+        extra = np.minimum(extra.astype(np.int64) + res[0], 2**24).astype(np.int32)
+    space = grid.space_for(net, extra, soft_block=strict, own=neg.own[net])
+    if not strict:
+        he = neg.present * STEP * grid.soft_via[k].astype(np.float64) + neg.hist.max(axis=0)
+        space.hole_extra = np.minimum(he, 2**24).astype(np.int32)
+    if neg.crowd is not None:
+        space.hole_extra = np.minimum(space.hole_extra.astype(np.int64) + neg.crowd.price(neg.via),
+                                      2**24).astype(np.int32)
+    if res is not None:
+        space.hole_extra = np.minimum(space.hole_extra.astype(np.int64) + res[1], 2**24).astype(np.int32)
+    if strict:
+        space.open_cell = space.open_cell & ~(grid.soft_cell[k] > 0)
+        prof = grid.profile_of(net)
+        off = [ob for n, items in sorted(neg.off_grid.items()) if n != net for ob in items]
+        c = np.zeros((grid.L, grid.ny, grid.nx), np.int32)
+        h = np.zeros_like(c)
+        v = np.zeros_like(c)
+        for ob in off:
+            grid._stamp_maps(ob, grid._need(ob, prof, prof.half), 1, c, h, v)
+        space.open_cell = (space.open_cell.astype(bool) & (c == 0)).astype(np.uint8)
+        space.open_h = (space.open_h.astype(bool) & (h == 0)).astype(np.uint8)
+        space.open_v = (space.open_v.astype(bool) & (v == 0)).astype(np.uint8)
+    return space
+
+
+@pytest.mark.parametrize("layers", [2, 1])
+def test_net_spaces_equal_the_full_arrays(layers):
+    if layers == 2:                                   # fine-pitch pads: stubs and necks off the grid
+        b = real_board(2, 30)
+    else:
+        b = generate_board(4, nets=12, size=(30.0, 25.0), layers=1, max_pins=4, offgrid=True, grid=0.5)
+    grid = RoutingGrid(b)
+    groups = _pad_groups(b, grid)
+    nets = [n for n in groups if len(groups[n]) > 1]
+    neg = _Negotiation(b, grid, nets, groups, bend=STEP, via=2 * STEP, jump=5 * STEP)
+    for net in nets[: len(nets) // 2 + 1]:          # some nets laid, with history and a higher price
+        neg.lay(net, neg.route(net))
+    neg.hist[:, ::3, ::4] += STEP
+    neg.hist_top = None
+    neg.present *= 1.8
+    if layers == 2:
+        assert any(neg.off_grid.values()), "the board should lay some copper off the grid"
+    for net in nets[::2] + [n for n in nets if neg.off_grid.get(n)]:
+        laid = net in neg.routes
+        for strict in (False, True):
+            if strict and laid:
+                neg.rip(net)                          # strict routes are made for nets taken up
+            new, others = neg.spaces.space(neg, net, strict, neg.reserve.extra_for(net))
+            old = _old_space(neg, net, strict)
+            for name in ("open_cell", "open_h", "open_v", "via_ok"):
+                assert np.array_equal(getattr(new, name).astype(bool), getattr(old, name).astype(bool)), name
+            if layers == 1:
+                assert np.array_equal(new.jump_ok.astype(bool), old.jump_ok.astype(bool))
+                assert np.array_equal(new.wire_block.astype(bool), old.wire_block.astype(bool))
+            L, ny, nx_ = grid.L, grid.ny, grid.nx
+            cells = [(l, j, i) for l in range(L) for j in range(0, ny, 2) for i in range(0, nx_, 3)]
+            assert all(new.cell_cost(*c) == int(old.extra[c]) for c in cells)
+            assert all(new.hole_cost(j, i) == int(old.hole_extra[j, i]) for _, j, i in cells)
+            ref = grid.obstacle_arrays([ob for n, items in sorted(neg.soft.items()) if n != net for ob in items],
+                                       grid.profile_of(net)) if strict else None
+            assert (others is None) == (ref is None)
+            if others is not None:
+                for a, r in zip(others, ref):
+                    assert np.array_equal(a, r)
+            # and the net routes the same way in both
+            kw = dict(bend=neg.bend, via=neg.via, jump=neg.jump, cache=False)
+            r_new = route_net(grid, net, new, groups[net], others=others, **kw)
+            r_old = route_net(grid, net, old, groups[net], others=ref, **kw)
+            assert r_new.edges == r_old.edges and r_new.vias == r_old.vias and r_new.failed == r_old.failed
+            if strict and laid:
+                neg.lay(net, r_old if not r_old.failed else neg.route(net))
