@@ -338,13 +338,11 @@ class RoutingGrid:
         """Edge, polygon keepouts and hole spacing: the same for every net of a class."""
         P, L, ny, nx = self.hard_cell.shape
         g = self.pitch
-        X, Y = np.meshgrid(self.xs, self.ys)
-        pts = shapely.points(X.ravel(), Y.ravel())
         outline = self.outline
         shapely.prepare(outline)
-        inside = shapely.contains_xy(outline, X.ravel(), Y.ravel()) | shapely.intersects_xy(outline, X.ravel(), Y.ravel())
-        dist = edge_distance_xy(self.board, X.ravel(), Y.ravel())     # exact, arcs included
         ec = self.rules.edge_clearance
+        half_most = max([p.half for p in self.profiles.values()] + [self.via_d / 2, self.jump_d / 2 + self.jump_slack])
+        inside, dist = self._edge_band(outline, ec + half_most + 2 * g)
         self.base_cell = np.zeros((P, L, ny, nx), bool)
         self.base_h = np.zeros((P, L, ny, nx), bool)
         self.base_v = np.zeros((P, L, ny, nx), bool)
@@ -414,6 +412,36 @@ class RoutingGrid:
             for jm in self.board.jumpers:
                 self.add_wire(jm.start, jm.end, +1)
         self.base_via = okv & (blockv == 0)
+
+    def _edge_band(self, outline, limit: float, block: int = 8):
+        """Inside-or-on the outline, and the exact edge distance, of every grid point (raveled);
+        a distance of `limit` or more may be given as a lower bound that is itself at least
+        `limit`. The grid is taken in blocks of `block` x `block` points: a block whose centre
+        lies farther from the edge than the block's half diagonal is wholly on one side, and
+        its points lie no nearer than the centre's distance less the half diagonal (a distance
+        changes by at most the move), so only blocks near the edge are measured point by point."""
+        ny, nx, g = self.ny, self.nx, self.pitch
+        nbj, nbi = -(-ny // block), -(-nx // block)
+        cx = self.xs[0] + (np.arange(nbi) * block + (block - 1) / 2) * g
+        cy = self.ys[0] + (np.arange(nbj) * block + (block - 1) / 2) * g
+        CX, CY = np.meshgrid(cx, cy)
+        dc = edge_distance_xy(self.board, CX.ravel(), CY.ravel()).reshape(nbj, nbi)
+        ic = (shapely.contains_xy(outline, CX.ravel(), CY.ravel())).reshape(nbj, nbi)
+        r = (block - 1) / 2 * g * math.sqrt(2) + 1e-6
+        clear = dc - r > 0                         # no edge within the block
+        far = clear & (dc - r >= limit)
+        rep = lambda a: np.repeat(np.repeat(a, block, axis=0), block, axis=1)[:ny, :nx]
+        dist = rep(np.where(far, dc - r, 0.0))
+        inside = rep(ic & clear)
+        near = ~rep(far)
+        close = ~rep(clear)
+        jj, ii = np.nonzero(near)
+        X, Y = self.xs[ii], self.ys[jj]
+        dist[jj, ii] = edge_distance_xy(self.board, X, Y)     # exact, arcs included
+        jj, ii = np.nonzero(close)
+        X, Y = self.xs[ii], self.ys[jj]
+        inside[jj, ii] = shapely.contains_xy(outline, X, Y) | shapely.intersects_xy(outline, X, Y)
+        return inside.ravel(), dist.ravel()
 
     def _refine_steps(self, h, v, near, boundary, need, inside_poly) -> None:
         g = self.pitch

@@ -152,3 +152,32 @@ def test_net_spaces_equal_the_full_arrays(layers):
             assert r_new.edges == r_old.edges and r_new.vias == r_old.vias and r_new.failed == r_old.failed
             if strict and laid:
                 neg.lay(net, r_old if not r_old.failed else neg.route(net))
+
+
+@pytest.mark.parametrize("kind", ["arcs", "concave"])
+def test_edge_band_equals_every_point_measured(kind):
+    # the grid's edge distances are measured only near the edge (blocks far from it get a lower
+    # bound): against shapely's distance to the outline at every point (edge_distance_xy, arcs exact)
+    from shapely.geometry import Polygon
+    from router.outline import edge_distance_xy
+    if kind == "arcs":
+        b = real_board(3, 30, angled=True)
+    else:
+        b = generate_board(6, nets=4, size=(40.0, 30.0))
+        b.outline = [(0.0, 0.0), (40.0, 0.0), (40.0, 12.3), (17.1, 12.3), (17.1, 30.0), (0.0, 30.0)]
+    grid = RoutingGrid(b)
+    limit = 1.3
+    inside, dist = grid._edge_band(grid.outline, limit, block=5)
+    X, Y = np.meshgrid(grid.xs, grid.ys)
+    exact = edge_distance_xy(b, X.ravel(), Y.ravel())
+    poly = Polygon(b.outline)
+    assert np.array_equal(inside, shapely_covers(poly, X.ravel(), Y.ravel()))
+    close = exact < limit
+    assert np.array_equal(dist[close], exact[close])
+    assert (dist[~close] >= limit).all() and (dist <= exact + 1e-9).all()
+    assert close.sum() < len(exact) / 2             # most of the board was not measured point by point
+
+
+def shapely_covers(poly, x, y):
+    import shapely
+    return shapely.contains_xy(poly, x, y) | shapely.intersects_xy(poly, x, y)
