@@ -8,13 +8,16 @@ bends (turns at vias and jumper ends included) against the per-net path bound (a
 net whose pads share no x or y range must bend at least once), vias and jumpers, length
 against the length lower bound, seconds, and
 seconds per million (nets x cells) as a ratio to the smallest board of the same run:
-near 1 everywhere means time grows linearly in nets x cells. The last columns give the
-process's peak resident memory so far (resource.getrusage, MB) and, with ``--trace-memory``,
-the peak of Python and numpy allocations while routing that board (tracemalloc, MB).
+near 1 everywhere means time grows linearly in nets x cells. Each board is routed in a
+process of its own, so the memory columns are that board's: the resident memory after the
+board was made and the peak while routing it (resource.getrusage, MB), and the peak above
+the base per million grid cells; with ``--trace-memory``, also the peak of Python and numpy allocations while
+routing (tracemalloc, MB).
 ``--big`` routes one 160 x 100 mm two-layer board at a 0.1 mm grid (3.2 million cells) too.
 ``--pads N`` routes real-looking boards (:mod:`router.realgen`) of about N pads and ``--real-nets``
 nets instead, once as generated and once with ``--enclosed`` pads walled in by keepouts (no
-route can reach them: found once and reported).
+route can reach them: found once and reported), after a real-looking board of 30 nets as the
+reference of the seconds per (nets x cells) ratio.
 """
 from __future__ import annotations
 
@@ -66,75 +69,91 @@ def main(argv=None) -> int:
         sizes.append((60, (160.0, 100.0), 0.1))
     print(f"{'nets':>5} {'size mm':>11} {'cells':>9} {'routed':>8} {'viol':>5} {'bends':>6} {'b.bound':>7} "
           f"{'vias':>5} {'jumps':>5} "
-          f"{'len/bound':>9} {'passes':>6} {'seconds':>8} {'s/(n*c) ratio':>13} {'rss MB':>7} {'peak MB':>7}")
-    route_board(generate_board(99, nets=5, size=(20.0, 15.0), layers=args.layers))   # compile and load the kernel first
+          f"{'len/bound':>9} {'passes':>6} {'seconds':>8} {'s/(n*c) ratio':>13} {'base MB':>7} {'peak MB':>7} "
+          f"{'MB/Mcell':>8} {'traced':>6}")
     ref = None
     worst = 0
     for nets, size, grid in sizes:
         for seed in range(args.seeds):
-            b = generate_board(seed, nets=nets, size=size, layers=args.layers, offgrid=args.offgrid,
-                               max_pins=4, grid=grid)
-            g = b.rules.grid
-            cells = args.layers * (int(size[0] / g) + 1) * (int(size[1] / g) + 1)
-            if args.trace_memory:
-                tracemalloc.start()
-            t0 = time.perf_counter()
-            r = route_board(b, seed=seed if args.route_seed is None else args.route_seed,
-                            bend_penalty=args.bend_penalty)
-            dt = time.perf_counter() - t0
-            peak = "-"
-            if args.trace_memory:
-                peak = f"{tracemalloc.get_traced_memory()[1] / 2**20:.0f}"
-                tracemalloc.stop()
-            rss = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024      # kB on Linux
-            viol = [v for v in check(r.board) if v.rule not in ("open",)]
-            t = r.figures["totals"]
-            bound = sum(n.get("bends_lower_bound_path") or 0 for n in r.figures["nets"])
-            per = dt / (len(b.nets) * cells) * 1e6
+            spec = dict(kind="gen", seed=seed, nets=nets, size=size, layers=args.layers, offgrid=args.offgrid,
+                        grid=grid, route_seed=seed if args.route_seed is None else args.route_seed,
+                        bend=args.bend_penalty, trace=args.trace_memory)
+            m = _in_own_process(spec)
+            per = m["seconds"] / (m["nets"] * m["cells"]) * 1e6
             ref = per if ref is None else ref
-            worst += len(viol) + (t["nets"] - t["routed"])
+            worst += m["viol"] + (m["nets"] - m["routed"])
+            t = m["totals"]
             lr = t["length"] / t["length_lower_bound"] if t["length_lower_bound"] else float("nan")
-            print(f"{len(b.nets):>5} {size[0]:>5.0f}x{size[1]:<5.0f} {cells:>9} {t['routed']:>4}/{t['nets']:<3} "
-                  f"{len(viol):>5} {t['bends']:>6} {bound:>7} {t['vias']:>5} {t['jumpers']:>5} {lr:>9.3f} {r.passes:>6} {dt:>8.2f} {per / ref:>13.2f} "
-                  f"{rss:>7.0f} {peak:>7}",
+            print(f"{m['nets']:>5} {size[0]:>5.0f}x{size[1]:<5.0f} {m['cells']:>9} {m['routed']:>4}/{m['nets']:<3} "
+                  f"{m['viol']:>5} {t['bends']:>6} {m['bound']:>7} {t['vias']:>5} {t['jumpers']:>5} {lr:>9.3f} "
+                  f"{m['passes']:>6} {m['seconds']:>8.2f} {per / ref:>13.2f} {m['base_mb']:>7.0f} {m['peak_mb']:>7.0f} "
+                  f"{(m['peak_mb'] - m['base_mb']) / m['cells'] * 1e6:>8.0f} {m['traced']:>6}",
                   flush=True)
-            for net, why in r.failed.items():
+            for net, why in m["failed"].items():
                 print(f"      not routed: {net}: {why}")
     return 0 if worst == 0 else 1
 
 
+def _in_own_process(spec: dict) -> dict:
+    """Route one board in a fresh process (its peak memory is that board's alone)."""
+    import multiprocessing
+    with multiprocessing.get_context("spawn").Pool(1) as pool:
+        return pool.apply(_route_one, (spec,))
+
+
+def _route_one(spec: dict) -> dict:
+    """Make, route and check one board; seconds, figures, cells and memory (in the calling process)."""
+    from router.grid import RoutingGrid
+    route_board(generate_board(99, nets=5, size=(20.0, 15.0), layers=spec.get("layers", 2)))   # load the kernel first
+    if spec["kind"] == "gen":
+        b = generate_board(spec["seed"], nets=spec["nets"], size=spec["size"], layers=spec["layers"],
+                           offgrid=spec["offgrid"], max_pins=4, grid=spec["grid"])
+    else:
+        from router.realgen import real_board
+        b = real_board(spec["seed"], spec["nets"], pads=spec.get("pads"), enclosed=spec.get("enclosed", 0))
+    base = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024      # kB on Linux
+    gr = RoutingGrid(b)
+    cells = gr.L * gr.nx * gr.ny
+    del gr
+    if spec.get("trace"):
+        tracemalloc.start()
+    t0 = time.perf_counter()
+    r = route_board(b, seed=spec.get("route_seed", spec["seed"]), bend_penalty=spec.get("bend"))
+    dt = time.perf_counter() - t0
+    traced = "-"
+    if spec.get("trace"):
+        traced = f"{tracemalloc.get_traced_memory()[1] / 2**20:.0f}"
+        tracemalloc.stop()
+    peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+    from router.geometry import placed_pads
+    t = r.figures["totals"]
+    return dict(seconds=dt, cells=cells, nets=len(b.nets), pads=len(placed_pads(b)), routed=t["routed"],
+                viol=len([v for v in check(r.board) if v.rule != "open"]), totals=t, passes=r.passes,
+                bound=sum(n.get("bends_lower_bound_path") or 0 for n in r.figures["nets"]),
+                base_mb=base, peak_mb=peak, traced=traced, failed=dict(r.failed))
+
+
 def real_pads(args) -> int:
     """Real-looking boards of many pads: nets, pads, cells, routed, violations, vias, seconds, memory."""
-    from router.geometry import placed_pads
-    from router.realgen import real_board
     print(f"{'pads':>5} {'nets':>5} {'enclosed':>8} {'cells':>8} {'routed':>8} {'viol':>5} {'vias':>5} "
-          f"{'passes':>6} {'seconds':>8} {'rss MB':>7} {'peak MB':>7}")
-    route_board(generate_board(99, nets=5, size=(20.0, 15.0)))     # compile and load the kernel first
+          f"{'passes':>6} {'seconds':>8} {'s/(n*c) ratio':>13} {'base MB':>7} {'peak MB':>7} {'MB/Mcell':>8} "
+          f"{'traced':>6}")
     bad = 0
-    for seed in range(args.seeds):
-        for enclosed in (0, args.enclosed):
-            b = real_board(seed, args.real_nets, pads=args.pads, enclosed=enclosed)
-            from router.grid import RoutingGrid
-            gr = RoutingGrid(b)
-            cells = gr.L * gr.nx * gr.ny
-            del gr
-            if args.trace_memory:
-                tracemalloc.start()
-            t0 = time.perf_counter()
-            r = route_board(b, seed=seed)
-            dt = time.perf_counter() - t0
-            peak = "-"
-            if args.trace_memory:
-                peak = f"{tracemalloc.get_traced_memory()[1] / 2**20:.0f}"
-                tracemalloc.stop()
-            rss = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
-            viol = [v for v in check(r.board) if v.rule != "open"]
-            t = r.figures["totals"]
-            bad += len(viol)
-            print(f"{len(placed_pads(b)):>5} {len(b.nets):>5} {enclosed:>8} {cells:>8} {t['routed']:>4}/{t['nets']:<3} "
-                  f"{len(viol):>5} {t['vias']:>5} {r.passes:>6} {dt:>8.2f} {rss:>7.0f} {peak:>7}", flush=True)
-            for net, why in r.failed.items():
-                print(f"      not routed: {net}: {why}")
+    ref = None
+    runs = [(0, 30, None, 0)]                        # the reference: a real-looking board of 30 nets
+    runs += [(seed, args.real_nets, args.pads, enclosed) for seed in range(args.seeds) for enclosed in (0, args.enclosed)]
+    for seed, nets, pads, enclosed in runs:
+        m = _in_own_process(dict(kind="real", seed=seed, nets=nets, pads=pads, enclosed=enclosed,
+                                 trace=args.trace_memory))
+        per = m["seconds"] / (m["nets"] * m["cells"]) * 1e6
+        ref = per if ref is None else ref
+        bad += m["viol"]
+        print(f"{m['pads']:>5} {m['nets']:>5} {enclosed:>8} {m['cells']:>8} {m['routed']:>4}/{m['nets']:<3} "
+              f"{m['viol']:>5} {m['totals']['vias']:>5} {m['passes']:>6} {m['seconds']:>8.2f} {per / ref:>13.2f} "
+              f"{m['base_mb']:>7.0f} {m['peak_mb']:>7.0f} {m['peak_mb'] / m['cells'] * 1e6:>8.0f} {m['traced']:>6}",
+              flush=True)
+        for net, why in m["failed"].items():
+            print(f"      not routed: {net}: {why}")
     return 0 if bad == 0 else 1
 
 
