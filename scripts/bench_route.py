@@ -150,7 +150,7 @@ def real_pads(args) -> int:
         bad += m["viol"]
         print(f"{m['pads']:>5} {m['nets']:>5} {enclosed:>8} {m['cells']:>8} {m['routed']:>4}/{m['nets']:<3} "
               f"{m['viol']:>5} {m['totals']['vias']:>5} {m['passes']:>6} {m['seconds']:>8.2f} {per / ref:>13.2f} "
-              f"{m['base_mb']:>7.0f} {m['peak_mb']:>7.0f} {m['peak_mb'] / m['cells'] * 1e6:>8.0f} {m['traced']:>6}",
+              f"{m['base_mb']:>7.0f} {m['peak_mb']:>7.0f} {(m['peak_mb'] - m['base_mb']) / m['cells'] * 1e6:>8.0f} {m['traced']:>6}",
               flush=True)
         for net, why in m["failed"].items():
             print(f"      not routed: {net}: {why}")
