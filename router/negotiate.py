@@ -117,12 +117,13 @@ class _Negotiation:
     def merged_segments(self, r: NetRoute):
         grid = self.grid
         per_layer = defaultdict(list)
-        for (l, j, i), (_, j2, i2) in r.edges:
-            per_layer[l].append((grid.point(j, i), grid.point(j2, i2)))
+        for (l, j, i), (_, j2, i2) in r.edges:        # in whole cells (i, j): ordered as (x, y) are
+            per_layer[l].append(((i, j), (i2, j2)))
         out = []
         for l in sorted(per_layer):
             for line in polylines(per_layer[l]):
-                out.extend((a, b, l, self.width(r.net)) for a, b in zip(line, line[1:]))
+                pts = [grid.point(int(j), int(i)) for i, j in line]
+                out.extend((a, b, l, self.width(r.net)) for a, b in zip(pts, pts[1:]))
         for a, b, l in r.stubs:
             out.append((a, b, l, self.width(r.net)))
         for pts, l, w in r.necks:            # pad exits narrower than the class (router.escape)

@@ -181,3 +181,20 @@ def test_edge_band_equals_every_point_measured(kind):
 def shapely_covers(poly, x, y):
     import shapely
     return shapely.contains_xy(poly, x, y) | shapely.intersects_xy(poly, x, y)
+
+
+def test_path_counts_equal_move_by_move():
+    from router.search import _count, _count_moves
+    rng = np.random.default_rng(3)
+    for _ in range(200):
+        cells = [(0, 5, 5)]
+        for _ in range(int(rng.integers(0, 12))):
+            l, j, i = cells[-1]
+            m = int(rng.integers(0, 6))
+            if m == 4:
+                cells.append((1 - l, j, i))
+            else:
+                k = 3 if m == 5 else 1
+                dj, di = [(0, 1), (1, 0), (0, -1), (-1, 0)][int(rng.integers(0, 4))]
+                cells.append((l, j + k * dj, i + k * di))
+        assert _count(np.array(cells)) == _count_moves(np.array(cells))
