@@ -269,7 +269,9 @@ class _Workspace:
         self.stamp = 0
         self.tmask = None
         self.head = np.zeros(1 << 12, dtype=np.int32)
-        self.grow_pool(max(1 << 16, n_states))
+        # the queue's entries: a search that fills them is run again with twice as many (the same
+        # result), so they start small and grow to what the board's searches need, not to the grid
+        self.grow_pool(max(1 << 16, min(n_states, 1 << 20)))
 
     def grow_pool(self, size: int):
         self.ent_state = np.empty(size, dtype=np.int32)
