@@ -407,6 +407,7 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
     used_stub: set = set()
     left = [k for k in range(len(terms)) if k != first]
     near = _Nearest(terms, left, list(tree))
+    tree_cells = _SortedCells(grid, tree)
     while left:
         # the few terminals nearest the tree are the targets (a tight box keeps A* focused on a
         # net of many pads); only when none of them can be reached, every terminal left
@@ -417,7 +418,7 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
             for k in aim:
                 for c in terms[k].cells:
                     owner.setdefault(c, k)
-            path = _find(grid, space, np.array(sorted(tree), dtype=np.int64),
+            path = _find(grid, space, tree_cells.array(),
                          np.array(sorted(owner), dtype=np.int64), bend, via, jump, order)
             if path is not None:
                 break
@@ -426,7 +427,7 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
             route.failed = f"no way from {terms[first].name} to {names}"
             if explain:                  # the obstacle that closes the way (router.blockage)
                 from .blockage import closed_by
-                sources = np.array(sorted(tree), dtype=np.int64)
+                sources = tree_cells.array()
                 targets = np.array(sorted(c for k in left for c in terms[k].cells), dtype=np.int64)
                 route.failed += ": " + closed_by(grid, net, space, sources, targets)
             else:
@@ -450,13 +451,42 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
             for c, s in terms[q].cells.items():
                 if c not in tree:
                     tree[c] = s
-        for c in new:
-            tree[c] = None
-        for c in route.cells:
+                    tree_cells.add(c)
+        for c in new:                    # the route's cells so far: these and those of earlier paths
+            if c not in tree:
+                tree_cells.add(c)
             tree[c] = None
         left = [q for q in left if q not in joined]
         near.grow(new + [c for q in joined for c in terms[q].cells])
     return route
+
+
+class _SortedCells:
+    """A tree's cells as a sorted (l, j, i) array, kept as the tree grows (sorting the whole
+    tree again for every search cost more than the searches on nets of many pads)."""
+
+    def __init__(self, grid, cells):
+        self.ny, self.nx = grid.ny, grid.nx
+        self.keys = np.unique(np.array([self._key(c) for c in cells], dtype=np.int64))
+        self.new: list = []
+        self._rows = None
+
+    def _key(self, c) -> int:
+        return (c[0] * self.ny + c[1]) * self.nx + c[2]     # ordered as the cells (l, j, i) are
+
+    def add(self, c) -> None:
+        self.new.append(self._key(c))
+
+    def array(self) -> np.ndarray:
+        if self.new:
+            self.keys = np.union1d(self.keys, np.array(self.new, dtype=np.int64))
+            self.new = []
+            self._rows = None
+        if self._rows is None:
+            k = self.keys
+            plane = self.ny * self.nx
+            self._rows = np.stack([k // plane, (k // self.nx) % self.ny, k % self.nx], axis=1).astype(np.int64)
+        return self._rows
 
 
 #: How many of a net's unjoined terminals, nearest its tree, one search aims at.
