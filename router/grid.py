@@ -36,6 +36,7 @@ from typing import Optional
 
 import numpy as np
 import shapely
+from numba import njit
 from shapely.geometry import Polygon
 
 from .geometry import (PlacedPad, body_polygon, body_rect, outline_polygon, pad_core, part_footprint,
@@ -95,6 +96,35 @@ class ClassProfile:
 def _gap(lo_a, hi_a, lo, hi):
     """Per-element axis gap between intervals [lo_a, hi_a] (arrays) and [lo, hi]."""
     return np.maximum(np.maximum(lo - hi_a, 0.0), lo_a - hi)
+
+
+@njit(cache=True)
+def _stamp_boxes(arr, boxes, needs, lmask, g, i0, j0, xs, ys, sign, tol):
+    """Add `sign` on the layers in `lmask` at every grid point nearer than ``needs - tol`` to each
+    box: the window and the test of :meth:`RoutingGrid._stamp_maps` (cells) in one compiled loop."""
+    L, ny, nx = arr.shape
+    for n in range(boxes.shape[0]):
+        need = needs[n]
+        lim = need - tol
+        if lim <= 0:
+            continue
+        x0, y0, x1, y1 = boxes[n, 0], boxes[n, 1], boxes[n, 2], boxes[n, 3]
+        ia = max(0, int(math.floor((x0 - need) / g)) - i0 - 1)
+        ib = min(nx, int(math.ceil((x1 + need) / g)) - i0 + 2)
+        ja = max(0, int(math.floor((y0 - need) / g)) - j0 - 1)
+        jb = min(ny, int(math.ceil((y1 + need) / g)) - j0 + 2)
+        lim2 = lim * lim
+        for j in range(ja, jb):
+            y = ys[j]
+            dy = max(max(y0 - y, 0.0), y - y1)
+            dy2 = dy * dy
+            for i in range(ia, ib):
+                x = xs[i]
+                dx = max(max(x0 - x, 0.0), x - x1)
+                if dy2 + dx * dx < lim2:
+                    for l in range(L):
+                        if (lmask[n] >> l) & 1:
+                            arr[l, j, i] += sign
 
 
 class RoutingGrid:
@@ -513,8 +543,32 @@ class RoutingGrid:
         return out
 
     def add_soft(self, items, sign: int = +1) -> None:
-        for ob in items:
-            self.stamp(ob, sign, soft=True)
+        """Count routed copper in (`sign` +1) or out (-1) of the soft maps of every class: what
+        :meth:`stamp` with ``soft=True`` does item by item, done for all items at once by a
+        compiled loop with the same arithmetic (:func:`_stamp_boxes`)."""
+        if not items:
+            return
+        if any(ob.core is not None for ob in items):
+            for ob in items:
+                self.stamp(ob, sign, soft=True)
+            return
+        boxes = np.array([ob.box for ob in items], dtype=np.float64).reshape(-1, 4)
+        lmask = np.array([sum(1 << l for l in ob.layers) for ob in items], dtype=np.int64)
+        every = np.ones(len(items), dtype=np.int64)
+        half = (self.jump_d / 2 + self.jump_slack) if self.one_layer else self.via_d / 2
+        drill = self.jump_drill if self.one_layer else self.via_drill
+        hole_need = drill + self.rules.min_hole_spacing + 2 * self.jump_slack
+        holes = [ob.kind == "copper" and ob.radius > 0 and ob.box[0] == ob.box[2] and ob.box[1] == ob.box[3]
+                 for ob in items]
+        for prof in self.profiles.values():
+            k = prof.index
+            need_c = np.array([self._need(ob, prof, prof.half) for ob in items], dtype=np.float64)
+            need_v = np.array([max(self._need(ob, prof, half), hole_need) if hole else self._need(ob, prof, half)
+                               for ob, hole in zip(items, holes)], dtype=np.float64)
+            _stamp_boxes(self.soft_cell[k], boxes, need_c, lmask, self.pitch, self.i0, self.j0, self.xs, self.ys,
+                         int(sign), TOL)
+            _stamp_boxes(self.soft_via[k][None], boxes, need_v, every, self.pitch, self.i0, self.j0, self.xs,
+                         self.ys, int(sign), TOL)
 
     # ----------------------------------------------------------------- one net's search space
     def own_obstacles(self, net: str) -> list[Obstacle]:

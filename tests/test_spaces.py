@@ -198,3 +198,35 @@ def test_path_counts_equal_move_by_move():
                 dj, di = [(0, 1), (1, 0), (0, -1), (-1, 0)][int(rng.integers(0, 4))]
                 cells.append((l, j + k * dj, i + k * di))
         assert _count(np.array(cells)) == _count_moves(np.array(cells))
+
+
+@pytest.mark.parametrize("layers", [2, 1])
+def test_soft_stamping_at_once_equals_item_by_item(layers):
+    # the compiled stamping of routed copper against RoutingGrid.stamp, one item after another
+    from router.grid import Obstacle
+    b = generate_board(7, nets=6, size=(25.0, 20.0), layers=layers, max_pins=3)
+    grid = RoutingGrid(b)
+    rng = np.random.default_rng(11)
+    items = []
+    for _ in range(40):
+        x, y = rng.uniform(-1.0, 26.0), rng.uniform(-1.0, 21.0)
+        kind = int(rng.integers(0, 3))
+        if kind == 0:          # a via or jumper end: a point with a radius
+            box = (x, y, x, y)
+        elif kind == 1:        # a trace segment along x, off the grid
+            box = (x, y, x + rng.uniform(0.1, 4.0), y)
+        else:
+            box = (x, y, x, y + rng.uniform(0.1, 4.0))
+        cls = str(rng.choice(list(grid.profiles)))
+        lay = tuple(range(grid.L)) if kind == 0 else (int(rng.integers(0, grid.L)),)
+        items.append(Obstacle("copper", box, float(rng.uniform(0.1, 0.4)), lay, "X", cls))
+    ref_cell, ref_via = grid.soft_cell.copy(), grid.soft_via.copy()
+    for ob in items:
+        grid.stamp(ob, +1, soft=True)
+    want_cell, want_via = grid.soft_cell.copy(), grid.soft_via.copy()
+    grid.soft_cell[:], grid.soft_via[:] = ref_cell, ref_via
+    grid.add_soft(items, +1)
+    assert np.array_equal(grid.soft_cell, want_cell) and np.array_equal(grid.soft_via, want_via)
+    assert want_cell.any() and want_via.any()
+    grid.add_soft(items, -1)
+    assert np.array_equal(grid.soft_cell, ref_cell) and np.array_equal(grid.soft_via, ref_via)
