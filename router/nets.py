@@ -249,7 +249,10 @@ def _path_holes(grid: RoutingGrid, cells: np.ndarray) -> list:
     """The holes a path would drill, in order: ((j, i) of the grid point, (x, y) of the hole)."""
     out = []
     g = grid.pitch
-    for k in range(1, len(cells)):
+    arr = np.asarray(cells, dtype=np.int64).reshape(-1, 3)
+    d = np.abs(np.diff(arr, axis=0))
+    moves = np.flatnonzero((d[:, 0] != 0) | (d[:, 1] + d[:, 2] > 1)) + 1     # vias and jumpers only
+    for k in moves.tolist():
         p, c = cells[k - 1], cells[k]
         if p[0] != c[0]:
             out.append(((int(c[1]), int(c[2])), grid.point(int(c[1]), int(c[2]))))
@@ -308,13 +311,14 @@ def _lay_path(grid: RoutingGrid, space: SearchSpace, route: NetRoute, cells: np.
     new = []
     g = grid.pitch
     k_to_m = _k_to_m(g)
-    for k in range(len(cells)):
-        c = tuple(int(v) for v in cells[k])
+    rows = [tuple(r) for r in np.asarray(cells, dtype=np.int64).tolist()]     # plain ints, once
+    for k in range(len(rows)):
+        c = rows[k]
         new.append(c)
         route.cells.add(c)
         if k == 0:
             continue
-        p = tuple(int(v) for v in cells[k - 1])
+        p = rows[k - 1]
         if p[0] != c[0]:
             route.vias.append((c[1], c[2]))
             route.cells.add(p)
