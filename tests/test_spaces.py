@@ -230,3 +230,19 @@ def test_soft_stamping_at_once_equals_item_by_item(layers):
     assert want_cell.any() and want_via.any()
     grid.add_soft(items, -1)
     assert np.array_equal(grid.soft_cell, ref_cell) and np.array_equal(grid.soft_via, ref_via)
+
+
+def test_sorted_tree_cells_equal_a_fresh_sort():
+    from types import SimpleNamespace
+    from router.nets import _SortedCells
+    rng = np.random.default_rng(8)
+    grid = SimpleNamespace(ny=17, nx=23)
+    cells = {(int(rng.integers(0, 2)), int(rng.integers(0, 17)), int(rng.integers(0, 23))) for _ in range(5)}
+    tree = _SortedCells(grid, cells)
+    for _ in range(30):
+        for _ in range(int(rng.integers(0, 9))):
+            c = (int(rng.integers(0, 2)), int(rng.integers(0, 17)), int(rng.integers(0, 23)))
+            if c not in cells:
+                cells.add(c)
+                tree.add(c)
+        assert tree.array().tolist() == [list(c) for c in sorted(cells)]
