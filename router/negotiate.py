@@ -106,10 +106,11 @@ class _Negotiation:
         self.hist_top = None                       # the larger history of the layers, made once per pass
 
     def hist_top_now(self) -> np.ndarray:
-        """hist.max over the layers; set ``hist_top`` to None whenever ``hist`` changes."""
-        if self.hist_top is None:
-            self.hist_top = self.hist.max(axis=0)
-        return self.hist_top
+        """hist.max over the layers, made again when ``hist`` is another array; set ``hist_top`` to
+        None whenever ``hist`` changes in place."""
+        if self.hist_top is None or self.hist_top[0] is not self.hist:
+            self.hist_top = (self.hist, self.hist.max(axis=0))
+        return self.hist_top[1]
 
     def width(self, net: str) -> float:
         return self.grid.profile_of(net).width
