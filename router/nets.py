@@ -483,7 +483,11 @@ class _SortedCells:
 
     def array(self) -> np.ndarray:
         if self.new:
-            self.keys = np.union1d(self.keys, np.array(self.new, dtype=np.int64))
+            add = np.unique(np.array(self.new, dtype=np.int64))
+            at = np.searchsorted(self.keys, add)
+            fresh = (at >= len(self.keys)) | (self.keys[np.minimum(at, len(self.keys) - 1)] != add) \
+                if len(self.keys) else np.ones(len(add), bool)
+            self.keys = np.insert(self.keys, at[fresh], add[fresh])      # a merge, not a sort of the tree
             self.new = []
             self._rows = None
         if self._rows is None:
