@@ -572,7 +572,7 @@ class _Nearest:
     def grow(self, cells) -> None:
         if not len(cells) or not len(self.ji):
             return
-        arr = np.unique(np.array([(c[1], c[2]) for c in cells], dtype=np.int64).reshape(-1, 2), axis=0)
+        arr = np.array([(c[1], c[2]) for c in cells], dtype=np.int64).reshape(-1, 2)   # repeats leave the minimum as it is
         for a in range(0, len(arr), 512):
             chunk = arr[a:a + 512]
             d = (np.abs(self.ji[:, None, 0] - chunk[None, :, 0]) + np.abs(self.ji[:, None, 1] - chunk[None, :, 1]))
