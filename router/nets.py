@@ -510,8 +510,6 @@ def _price_exits(grid: RoutingGrid, space: SearchSpace, terms: list, first: int)
     priced within one grid step of its cheapest. Returns the first terminal's cells."""
     from .escape import _near_points
     from .search import STEP
-    extra = space.extra
-    copied = False
     keep = dict(terms[first].cells)
     for k, t in enumerate(terms):
         price = {}
@@ -522,19 +520,16 @@ def _price_exits(grid: RoutingGrid, space: SearchSpace, terms: list, first: int)
             for a, b in zip(stub, stub[1:]):
                 pts.update(_near_points(grid, a, b, c[0]))
             pts.discard(c)
-            price[c] = int(sum(int(extra[q]) for q in pts))
+            price[c] = int(sum(space.cell_cost(*q) for q in pts))
         if not price or not any(price.values()):
             continue
         if k == first:
-            base = {c: int(extra[c]) + price.get(c, 0) for c in t.cells}
+            base = {c: space.cell_cost(*c) + price.get(c, 0) for c in t.cells}
             low = min(base.values())
             keep = {c: s for c, s in t.cells.items() if base[c] <= low + STEP}
             continue
-        if not copied:
-            extra = space.extra = extra.copy()
-            copied = True
         for c, v in price.items():
-            extra[c] = min(int(extra[c]) + v, 2**24)
+            space.raise_cell(c, v)
     return keep
 
 

@@ -82,6 +82,7 @@ class LazyCosts:
     bounds: Optional[tuple] = None       # (largest cell cost, largest hole cost) or None: measured
     add_cell: Optional[np.ndarray] = None    # int64 [L, ny, nx]: added last to a cell's cost (capped)
     add_hole: Optional[np.ndarray] = None    # int64 [ny, nx]: added last to a hole's cost (capped)
+    _own_add: bool = False                   # add_cell and add_hole are this object's own copies
 
     def cell_cost(self, l: int, j: int, i: int) -> int:
         e = 0
@@ -156,6 +157,7 @@ class SearchSpace:
     _wire_cols: Optional[np.ndarray] = field(default=None, repr=False, compare=False)
     lazy: Optional[LazyCosts] = None
     _maxes: dict = field(default_factory=dict, repr=False, compare=False)
+    _own_extra: bool = field(default=False, repr=False, compare=False)
 
     def __post_init__(self):
         L, ny, nx = self.open_cell.shape
@@ -209,6 +211,27 @@ class SearchSpace:
         if self.lazy is not None:
             return self.lazy.maxima()[1]
         return self._max_of("hole_extra")
+
+    def raise_cell(self, c, v: int) -> None:
+        """Entering cell `c` = (l, j, i) costs `v` more (capped at 2**24 as the costs are); the
+        arrays are copied before the first change, so other spaces sharing them keep theirs."""
+        if self.lazy is not None:
+            lz = self.lazy
+            if not lz._own_add:
+                L, ny, nx = self.shape
+                lz.add_cell = (np.zeros((L, ny, nx), np.int64) if lz.add_cell is None
+                               else np.array(lz.add_cell, dtype=np.int64))
+                lz.add_hole = (np.zeros((ny, nx), np.int64) if lz.add_hole is None
+                               else np.array(lz.add_hole, dtype=np.int64))
+                lz._own_add = True
+            lz.add_cell[c] += int(v)          # min(min(e + a, cap) + v, cap) = min(e + a + v, cap)
+            lz.bounds = None
+            return
+        if not self._own_extra:
+            self.extra = self.extra.copy()
+            self._own_extra = True
+        self.extra[c] = min(int(self.extra[c]) + int(v), 2**24)
+        self._maxes.pop("extra", None)
 
     def cell_cost(self, l: int, j: int, i: int) -> int:
         """The extra cost of entering cell (l, j, i)."""
