@@ -246,3 +246,29 @@ def test_sorted_tree_cells_equal_a_fresh_sort():
                 cells.add(c)
                 tree.add(c)
         assert tree.array().tolist() == [list(c) for c in sorted(cells)]
+
+
+@pytest.mark.parametrize("seed", range(6))
+def test_raised_cells_lazy_equal_the_arrays(seed):
+    # exits priced by the cells beside them (router.nets._price_exits) raise a few cells' costs:
+    # the same path and cost with lazy costs as with the arrays, and networkx agrees
+    rng = np.random.default_rng(1300 + seed)
+    L, ny, nx_ = 2, 9, 10
+    cell = (rng.random((L, ny, nx_)) > 0.15).astype(np.uint8)
+    ones = np.ones((L, ny, nx_), np.uint8)
+    via_ok = (rng.random((ny, nx_)) > 0.4).astype(np.uint8)
+    lz, extra, hole = _lazy_case(rng, L, ny, nx_, strict=seed % 2 == 0, crowd=True)
+    lazy_sp = SearchSpace(cell, ones, ones, via_ok, None, lazy=lz)
+    full_sp = SearchSpace(cell, ones, ones, via_ok, extra, hole_extra=hole)
+    for _ in range(8):
+        c = (int(rng.integers(0, L)), int(rng.integers(0, ny)), int(rng.integers(0, nx_)))
+        v = int(rng.integers(0, 3000))
+        lazy_sp.raise_cell(c, v)
+        full_sp.raise_cell(c, v)
+    src, tgt = [(0, 0, 0), (1, 0, 1)], [(1, ny - 1, nx_ - 1)]
+    p = find_path(lazy_sp, src, tgt, bend=120, via=300)
+    q = find_path(full_sp, src, tgt, bend=120, via=300)
+    assert (p is None) == (q is None)
+    if p is not None:
+        ref = nx.dijkstra_path_length(reference_graph(lazy_sp, src, tgt, bend=120, via=300), "S", "T")
+        assert p.cost == q.cost == ref and p.cells.tolist() == q.cells.tolist()
