@@ -97,12 +97,15 @@ class HoleItem:
         return (self.x, self.y)
 
 
-def copper_items(board: Board) -> list[CopperItem]:
+def copper_items(board: Board, pads: Optional[list[PlacedPad]] = None) -> list[CopperItem]:
     """Every copper item of `board`, in a stable order: pads, trace segments, vias, jumper ends.
 
     Parameters
     ----------
     board : Board
+    pads : list of PlacedPad, optional
+        The board's placed pads when they are at hand (:mod:`router.layout`); default
+        :func:`router.geometry.placed_pads` of `board`.
 
     Returns
     -------
@@ -113,7 +116,7 @@ def copper_items(board: Board) -> list[CopperItem]:
         each piece of each pour's `filled` copper (last, so pads keep their positions).
     """
     items: list[CopperItem] = []
-    for i, pad in enumerate(placed_pads(board)):
+    for i, pad in enumerate(placed_pads(board) if pads is None else pads):
         core, r = pad_core(pad)
         items.append(CopperItem("pad", pad.net, tuple(pad.layers), f"pad {pad.name}", core, r,
                                 pad=pad, index=(i,)))
@@ -145,10 +148,11 @@ def copper_items(board: Board) -> list[CopperItem]:
     return items
 
 
-def holes(board: Board) -> list[HoleItem]:
-    """Every hole of `board`: plated pads, vias, jumper ends, and non-plated footprint holes."""
+def holes(board: Board, pads: Optional[list[PlacedPad]] = None, npth: Optional[list] = None) -> list[HoleItem]:
+    """Every hole of `board`: plated pads, vias, jumper ends, and non-plated footprint holes
+    (`pads` and `npth`: the placed pads and non-plated holes when they are at hand)."""
     out: list[HoleItem] = []
-    for pad in placed_pads(board):
+    for pad in (placed_pads(board) if pads is None else pads):
         if pad.drill is not None:
             out.append(HoleItem(pad.x, pad.y, pad.drill, True, f"pad {pad.name}", pad.net, "pad",
                                 min(pad.w, pad.h)))
@@ -160,7 +164,7 @@ def holes(board: Board) -> list[HoleItem]:
             out.append(HoleItem(at[0], at[1], j.drill, True,
                                 f"jumper {ji + 1} of {j.net}, {'from' if end == 0 else 'to'} end",
                                 j.net, "jumper_end", j.diameter))
-    for h in placed_holes(board):
+    for h in (placed_holes(board) if npth is None else npth):
         out.append(HoleItem(h.x, h.y, h.drill, False, f"hole of {h.ref}", None, "hole", None))
     return out
 
