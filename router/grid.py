@@ -39,8 +39,8 @@ import shapely
 from numba import njit
 from shapely.geometry import Polygon
 
-from .geometry import (PlacedPad, body_polygon, body_rect, outline_polygon, pad_core, part_footprint,
-                       placed_holes, placed_pads)
+from .geometry import PlacedPad
+from .layout import resolve
 from .outline import edge_distance, edge_distance_xy, has_arcs
 from .model import Board
 from .rules import required_clearance
@@ -137,14 +137,16 @@ class RoutingGrid:
         jumpers) is taken as obstacles for the other nets.
     """
 
-    def __init__(self, board: Board):
+    def __init__(self, board: Board, layout=None):
         self.board = board
+        # the board resolved once (router.layout): pads, holes, bodies and outline as placed shapes
+        self.layout = lay = resolve(board) if layout is None else layout
         r = board.rules
         self.rules = r
         self.pitch = g = float(r.grid)
         self.layers = tuple(board.layers)
         self.L = len(self.layers)
-        self.outline = outline_polygon(board)
+        self.outline = lay.outline
         x0, y0, x1, y1 = self.outline.bounds
         self.i0 = int(math.ceil(x0 / g - 1e-9))
         self.j0 = int(math.ceil(y0 / g - 1e-9))
@@ -169,7 +171,7 @@ class RoutingGrid:
                     slack = max(slack, abs(m * JUMP_PITCH - k * g))
             self.jump_cells = np.array(ks, dtype=np.int64)
             self.jump_slack = slack
-        self.pads: list[PlacedPad] = placed_pads(board)
+        self.pads: list[PlacedPad] = list(lay.pads)
         net_class = {n.name: n.net_class for n in board.nets}
         self.net_class = net_class
         self.profiles: dict[str, ClassProfile] = {}
@@ -222,8 +224,8 @@ class RoutingGrid:
     def _collect(self) -> None:
         board = self.board
         allL = tuple(range(self.L))
-        for pad in self.pads:
-            core, rad = pad_core(pad)
+        for k, pad in enumerate(self.pads):
+            core, rad = self.layout.pad_core(k)
             layers = tuple(self.layers.index(l) for l in pad.layers if l in self.layers)
             self.obstacles.append(Obstacle("copper", box_of_core(core), rad, layers, pad.net,
                                            self.net_class.get(pad.net, "default"),
@@ -245,7 +247,7 @@ class RoutingGrid:
             for at in (jm.start, jm.end):
                 self.obstacles.append(Obstacle("copper", (at[0], at[1], at[0], at[1]), jm.diameter / 2,
                                                allL, jm.net, self.net_class.get(jm.net, "default")))
-        for h in placed_holes(board):
+        for h in self.layout.npth:
             self.obstacles.append(Obstacle("npth", (h.x, h.y, h.x, h.y), h.drill / 2, allL))
         for ko in board.keepouts:
             if not ko.is_rect:
@@ -254,17 +256,11 @@ class RoutingGrid:
             ys = [p[1] for p in ko.polygon]
             layers = tuple(self.layers.index(l) for l in ko.layers_on(self.layers) if l in self.layers)
             self.obstacles.append(Obstacle("keepout", (min(xs), min(ys), max(xs), max(ys)), 0.0, layers))
-        pad_nets: dict[str, set] = {}
-        for p in self.pads:
-            pad_nets.setdefault(p.ref, set()).add(p.net)
-        for part in board.parts:
-            if part.at is None or not part_footprint(board, part).keepout_body:
+        for body in self.layout.bodies:
+            if not body.keepout:
                 continue
-            poly = body_polygon(board, part)
-            turned = float(part.rotation) % 90 != 0
-            self.obstacles.append(Obstacle("body", tuple(body_rect(board, part)), 0.0, allL,
-                                           owners=frozenset(pad_nets.get(part.ref, ())),
-                                           core=poly if turned else None))
+            self.obstacles.append(Obstacle("body", body.rect, 0.0, allL, owners=body.owners,
+                                           core=body.polygon if body.turned else None))
 
     def _need(self, ob: Obstacle, prof: ClassProfile, half: float) -> float:
         """Centre distance copper of half-size `half` of class `prof` must keep from `ob`'s core."""
@@ -418,12 +414,12 @@ class RoutingGrid:
             okv &= ~bad
         blockv = np.zeros((ny, nx), np.int32)
         spacing = self.rules.min_hole_spacing + self.jump_slack     # a jumper's far end sits up to the slack off its grid point
-        for pad in self.pads:
-            core, rad = pad_core(pad)
+        for k, pad in enumerate(self.pads):
+            core, rad = self.layout.pad_core(k)
             self._stamp_points(box_of_core(core), rad + half, 1, blockv, core=core if pad.angle else None)
             if pad.drill is not None:
                 self._stamp_points((pad.x, pad.y, pad.x, pad.y), pad.drill / 2 + drill / 2 + spacing, 1, blockv)
-        for h in placed_holes(self.board):
+        for h in self.layout.npth:
             self._stamp_points((h.x, h.y, h.x, h.y), h.drill / 2 + drill / 2 + spacing, 1, blockv)
         for v in self.board.vias:
             self._stamp_points((v.at[0], v.at[1]) * 2, v.drill / 2 + drill / 2 + spacing, 1, blockv)
@@ -432,13 +428,10 @@ class RoutingGrid:
                 self._stamp_points((at[0], at[1]) * 2, jm.drill / 2 + drill / 2 + spacing, 1, blockv)
         if self.one_layer:
             # a jumper's wire lies on the part side: not across a part body, nor another wire
-            for part in self.board.parts:
-                if part.at is None:
-                    continue
-                bx = body_rect(self.board, part)
-                poly = body_polygon(self.board, part) if float(part.rotation) % 90 else None
-                self._stamp_points(tuple(bx), half, 1, blockv, core=poly)
-                self._stamp_points(tuple(bx), TOL * 2, 1, self.wire, core=poly)
+            for body in self.layout.bodies:
+                poly = body.polygon if body.turned else None
+                self._stamp_points(body.rect, half, 1, blockv, core=poly)
+                self._stamp_points(body.rect, TOL * 2, 1, self.wire, core=poly)
             for jm in self.board.jumpers:
                 self.add_wire(jm.start, jm.end, +1)
         self.base_via = okv & (blockv == 0)
