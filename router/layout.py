@@ -114,7 +114,8 @@ class Layout:
     net_class: dict
     index: rtree_index.Index = field(repr=False)
     entries: tuple = field(repr=False)
-    _layer_mask: np.ndarray = field(repr=False)        # per index id: bit k set when on layer k (all bits: every layer)
+    _layer_mask: np.ndarray = field(repr=False)
+    _pad_pos: dict = field(repr=False)        # per index id: bit k set when on layer k (all bits: every layer)
 
     # ---------------------------------------------------------------- shapes
     def shape(self, kind: str, pos: int):
@@ -129,6 +130,15 @@ class Layout:
     def pad_core(self, i: int) -> tuple[BaseGeometry, float]:
         """The exact core and radius of ``pads[i]`` (as :func:`router.geometry.pad_core`)."""
         it = self.items[i]
+        return it.core, it.radius
+
+    def core_of(self, pad: PlacedPad) -> tuple[BaseGeometry, float]:
+        """The exact core and radius of a placed pad of this layout (any other pad: made anew)."""
+        k = self._pad_pos.get(pad)
+        if k is None:
+            from .geometry import pad_core
+            return pad_core(pad)
+        it = self.items[k]
         return it.core, it.radius
 
     # ---------------------------------------------------------------- queries
@@ -280,7 +290,8 @@ def _build(board: Board, key: tuple, placed: _Placed) -> Layout:
            if boxes else rtree_index.Index())
     net_class = {n.name: n.net_class for n in board.nets}
     return Layout(key, layers, outline_polygon(board), placed.pads, tuple(items), tuple(hs), placed.npth,
-                  placed.bodies, kos, net_class, idx, tuple(entries), np.array(masks, dtype=np.int64))
+                  placed.bodies, kos, net_class, idx, tuple(entries), np.array(masks, dtype=np.int64),
+                  {p: k for k, p in enumerate(placed.pads)})
 
 
 def _remember(cache: OrderedDict, key, value):

@@ -270,7 +270,7 @@ def _own_counts(grid: RoutingGrid, net: str, r: NetRoute, items) -> tuple:
 
 
 def _pad_groups(board: Board, grid: RoutingGrid):
-    items = copper_items(board)
+    items = list(grid.layout.items)          # the board resolved once (router.layout)
     if board.pours:                  # pads a first pour joins count as joined (router.pour)
         from .pour import first_pour_items
         items = items + first_pour_items(board)
@@ -575,7 +575,7 @@ def _repair(neg: _Negotiation, lost: dict, rounds: int, order: Optional[list] = 
 
 def _anchor_test(grid: RoutingGrid, net: str, r: NetRoute):
     pads = [p for p in grid.pads if p.net == net]
-    cores = [(box_of_core(c), rad, c if p.angle else None) for p, (c, rad) in ((p, pad_core(p)) for p in pads)]
+    cores = [(box_of_core(c), rad, c if p.angle else None) for p, (c, rad) in ((p, grid.layout.core_of(p)) for p in pads)]
     points = {(round(x, 6), round(y, 6)) for x, y in r.via_points(grid)}
     for a, b in r.jumpers:
         points.add((round(a[0], 6), round(a[1], 6)))

@@ -79,7 +79,7 @@ class NetRoute:
 def _access(grid: RoutingGrid, space: SearchSpace, net: str, pad, others=None) -> dict:
     """Access cells of one pad: inside its copper, or one straight stub away, or (a pad no grid
     line crosses) an L-shaped stub from its centre."""
-    core, rad = pad_core(pad)
+    core, rad = grid.layout.core_of(pad)       # the pad's exact copper, resolved once (router.layout)
     bx = box_of_core(core)
     g = grid.pitch
     out: dict = {}
