@@ -26,6 +26,7 @@ from shapely.ops import nearest_points
 from .connectivity import components, item_index
 from .copper import CopperItem, copper_items, holes
 from .geometry import body_polygon, body_rect, outline_polygon, part_footprint, placed_pads
+from .layout import resolve
 from .outline import edge_distance
 from .model import Board
 from .cautions import peak_note
@@ -144,10 +145,11 @@ def candidate_pairs(bounds_a: np.ndarray, idx, exclude_self: bool = True):
 class _Ctx:
     """What several rules share: the copper, its index and its joined components."""
 
-    def __init__(self, board: Board):
+    def __init__(self, board: Board, layout=None):
         self.board = board
-        self.items = copper_items(board)
-        self.idx = item_index(self.items)
+        self.layout = lay = resolve(board) if layout is None else layout    # the board resolved once
+        self.items = list(lay.items)
+        self.idx = lay.copper_index
         self.labels = components(board, self.items, self.idx)
         self.cores = np.array([it.core for it in self.items], dtype=object)
         self.radii = np.array([it.radius for it in self.items], dtype=float)
@@ -178,7 +180,8 @@ def _clearance_and_short(ctx: _Ctx) -> list[Violation]:
     item_cls = np.array([cls_id[classes[net_id[n]].name] for n in ctx.nets], dtype=np.int64)
     item_net = np.array([net_id[n] for n in ctx.nets], dtype=np.int64)
 
-    I, J = candidate_pairs(_grow(ctx.bounds, max_req + TOL), ctx.idx)
+    I, J = ctx.layout.copper_pairs(_grow(ctx.bounds, max_req + TOL))
+    I, J = I[I < J], J[I < J]
     keep = (item_net[I] != item_net[J]) & ((ctx.masks[I] & ctx.masks[J]) != 0)
     I, J = I[keep], J[keep]
     if len(I) == 0:
@@ -276,7 +279,7 @@ def _edge(ctx: _Ctx) -> list[Violation]:
     if not items:
         return []
     ec = board.rules.edge_clearance
-    outline = outline_polygon(board)
+    outline = ctx.layout.outline
     boundary = outline.exterior
     shapely.prepare(outline)
     inside = shapely.covers(outline, ctx.cores)
@@ -306,7 +309,7 @@ def _edge(ctx: _Ctx) -> list[Violation]:
             p = nearest_points(it.core, boundary)[0]        # where (arcs: the chords' nearest point)
             note((ctx.labels[i], _one_layer(it), "outline"), float(d[i]), i, (p.x, p.y),
                  "the board edge", ec)
-    npth = [h for h in holes(board) if not h.plated]
+    npth = [h for h in ctx.layout.holes if not h.plated]
     for hk, h in enumerate(npth):
         hp = SPoint(h.x, h.y)
         g = ec + h.drill / 2 + TOL
@@ -374,12 +377,11 @@ def _keepout(ctx: _Ctx) -> list[Violation]:
             at = _xy(at)
             msg = f"{_net_label(it.net)} {_on(layer)}: {it.source} inside keepout {k + 1} at {_fmt_at(at)}"
             out.append(Violation("keepout", [it.net], layer, at, None, None, msg))
-    pads = placed_pads(board)
-    for part in board.parts:
-        if part.at is None or not part_footprint(board, part).keepout_body:
+    for body in ctx.layout.bodies:
+        if not body.keepout:
             continue
-        own = {p.net for p in pads if p.ref == part.ref}
-        poly = body_polygon(board, part)
+        own = body.owners
+        poly = body.polygon
         shrunk = _shrink(poly)
         seen = set()
         for i in sorted(ctx.idx.intersection(poly.bounds)):
@@ -392,7 +394,7 @@ def _keepout(ctx: _Ctx) -> list[Violation]:
             seen.add(ctx.labels[i])
             layer = _one_layer(it)
             at = _xy(at)
-            msg = (f"{_net_label(it.net)} {_on(layer)}: {it.source} inside the body of {part.ref} at "
+            msg = (f"{_net_label(it.net)} {_on(layer)}: {it.source} inside the body of {body.ref} at "
                    f"{_fmt_at(at)}, where only its own nets may run")
             out.append(Violation("keepout", [it.net], layer, at, None, None, msg))
     return out
@@ -498,9 +500,10 @@ def _voltage(board: Board) -> list[Violation]:
     return out
 
 
-def _holes(board: Board) -> list[Violation]:
+def _holes(board: Board, layout=None) -> list[Violation]:
     rules = board.rules
-    hs = holes(board)
+    layout = resolve(board) if layout is None else layout
+    hs = list(layout.holes)
     out = []
     for h in hs:
         nets = [h.net] if h.net else []
@@ -516,13 +519,10 @@ def _holes(board: Board) -> list[Violation]:
                                      _r(rules.min_annular_ring), msg))
     if len(hs) < 2:
         return out
-    from rtree import index as rtree_index
     sp = rules.min_hole_spacing
-    idx = rtree_index.Index(((k, (h.x - h.drill / 2, h.y - h.drill / 2, h.x + h.drill / 2,
-                                  h.y + h.drill / 2), None) for k, h in enumerate(hs)))
     for a_i, a in enumerate(hs):
         g = a.drill / 2 + sp + TOL
-        for b_i in idx.intersection((a.x - g, a.y - g, a.x + g, a.y + g)):
+        for _, b_i in layout.query((a.x - g, a.y - g, a.x + g, a.y + g), kinds=("hole",)):
             if b_i <= a_i:
                 continue
             b = hs[b_i]
@@ -544,13 +544,14 @@ def _holes(board: Board) -> list[Violation]:
     return out
 
 
-def _placement(board: Board) -> list[Violation]:
+def _placement(board: Board, layout=None) -> list[Violation]:
     out = []
-    outline = outline_polygon(board)
+    layout = resolve(board) if layout is None else layout
+    outline = layout.outline
     grown = outline.buffer(TOL, join_style="mitre")
     placed = [p for p in board.parts if p.at is not None]
-    rects = [body_rect(board, p) for p in placed]
-    polys = [body_polygon(board, p) for p in placed]
+    rects = [bd.rect for bd in layout.bodies]              # one body per placed part, in file order
+    polys = [bd.polygon for bd in layout.bodies]
     for p, r, poly in zip(placed, rects, polys):
         if not grown.covers(poly):
             c = _xy(p.at)
@@ -611,7 +612,7 @@ def _placement(board: Board) -> list[Violation]:
 
 # ----------------------------------------------------------------------------- public
 
-def check(board: Board, strict: bool = False) -> list[Violation]:
+def check(board: Board, strict: bool = False, layout=None) -> list[Violation]:
     """Every violation of `board`'s rules.
 
     Parameters
@@ -622,6 +623,9 @@ def check(board: Board, strict: bool = False) -> list[Violation]:
         Pads of one part keep the class clearance like any other copper (``check --strict``);
         by default a footprint's own pad spacing is a violation only below ``min_clearance``
         (:mod:`router.escape`).
+    layout : Layout, optional
+        `board` resolved (:func:`router.layout.resolve`); default: resolved here (once per
+        board state).
 
     Returns
     -------
@@ -639,10 +643,11 @@ def check(board: Board, strict: bool = False) -> list[Violation]:
     ----------
     .. [1] IPC-2221, "Generic Standard on Printed Board Design", Table 6-1 and section 6.2.
     """
-    ctx = _Ctx(board)
+    ctx = _Ctx(board, layout)
     ctx.strict = strict
     found = (_clearance_and_short(ctx) + _open(ctx) + _edge(ctx) + _keepout(ctx) +
-             _width_and_current(board) + _holes(board) + _voltage(board) + _placement(board))
+             _width_and_current(board) + _holes(board, ctx.layout) + _voltage(board) +
+             _placement(board, ctx.layout))
     if board.pours:                  # poured copper narrower than the board house makes (router.pour)
         from .pour import neck_violations
         found += neck_violations(board)
@@ -650,7 +655,7 @@ def check(board: Board, strict: bool = False) -> list[Violation]:
     return sorted(found, key=lambda v: order.get(v.rule, len(RULES)))
 
 
-def warnings(board: Board) -> list[Violation]:
+def warnings(board: Board, layout=None) -> list[Violation]:
     """Dangling trace ends: a trace end that touches no other copper of its net on its layer.
 
     Returns
@@ -658,8 +663,8 @@ def warnings(board: Board) -> list[Violation]:
     list of Violation
         Rule ``"dangling_end"``, one per loose end; not counted as violations.
     """
-    items = copper_items(board)
-    idx = item_index(items)
+    lay = resolve(board) if layout is None else layout      # the board resolved once (router.layout)
+    items, idx = list(lay.items), lay.copper_index
     out = []
     for ti, t in enumerate(board.traces):
         if not t.points:

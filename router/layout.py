@@ -35,7 +35,7 @@ from .footprints import resolve_footprint
 from .geometry import PlacedHole, PlacedPad
 from .model import Board
 
-__all__ = ["Body", "KeepoutArea", "Layout", "resolve", "state_key", "KINDS"]
+__all__ = ["Body", "CopperView", "KeepoutArea", "Layout", "resolve", "state_key", "KINDS"]
 
 #: What the index holds, in id order: copper items first (ids are their positions in
 #: :attr:`Layout.items`), then holes, bodies and keepouts.
@@ -171,6 +171,12 @@ class Layout:
         """Positions in :attr:`items` of the copper whose box meets `box` (on `layer`), ascending."""
         return [p for _, p in self.query(box, layer, ("copper",))]
 
+    @property
+    def copper_index(self) -> "CopperView":
+        """The index seen as an rtree of the copper alone (ids: positions in :attr:`items`),
+        for functions that take an item index (:func:`router.connectivity.components`)."""
+        return CopperView(self)
+
     def copper_within(self, geom: BaseGeometry, dist: float, layer: Optional[str] = None) -> list[int]:
         """Positions in :attr:`items` of the copper within `dist` mm of `geom` (exact: core
         distance less the radius, compared through :func:`router.units.meets`), ascending."""
@@ -194,6 +200,16 @@ class Layout:
         I, J = I[keep], J[keep]
         order = np.lexsort((J, I))
         return I[order], J[order]
+
+
+class CopperView:
+    """A layout's index answering ``intersection(box)`` with copper positions only, ascending."""
+
+    def __init__(self, layout: Layout):
+        self.layout = layout
+
+    def intersection(self, box) -> list[int]:
+        return self.layout.copper_near(box)
 
 
 # ----------------------------------------------------------------------------- state keys

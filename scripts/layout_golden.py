@@ -7,7 +7,12 @@
 The routed boards in ``tests/data/layout/`` and their digests were written by the code on main
 at 913f18d, before the consumers moved onto ``router.layout`` (the board file is the router's
 result then; the digests are of the check, the figures, the pictures and the fabrication files
-made from it). ``tests/test_layout.py`` compares today's outputs with them byte for byte. A
+made from it). One change since, on purpose: the check's candidate pairs now come in file
+order from the layout's index instead of the order of a copper-only rtree, so where two pieces
+of one trace lie at exactly the same distance from another net's copper (a corner's shared
+point) the message names the first of them: that changed the six "+shifted" check, SVG and
+page digests (the same violations, distances and places; one piece name in each).
+``tests/test_layout.py`` compares today's outputs with them byte for byte. A
 change that is meant to alter one of these outputs (a new Gerber attribute, say) rewrites the
 digests with ``--write`` and says so in its commit.
 """
