@@ -45,9 +45,10 @@ from typing import Callable, Iterable, Optional, Sequence
 from rtree import index as rtree_index
 from shapely.geometry import Point as SPoint
 
-from .connectivity import routed as routed_nets
+from .connectivity import components, routed as routed_nets
 from .copper import pad_core
 from .geometry import placed_pads
+from .layout import resolve
 from .model import Board, Point
 from .units import TOL, snap
 
@@ -727,12 +728,15 @@ def _ratio(num: float, den: float) -> Optional[float]:
     return round(num / den, 4) if den > TOL else None
 
 
-def board_figures(board: Board) -> dict:
+def board_figures(board: Board, layout=None) -> dict:
     """Bends, length, vias, jumpers and lower bounds per net and in total.
 
     Parameters
     ----------
     board : Board
+    layout : Layout, optional
+        `board` resolved (:func:`router.layout.resolve`); default: resolved here (once per
+        board state).
 
     Returns
     -------
@@ -788,8 +792,10 @@ def board_figures(board: Board) -> dict:
     >>> f["routed"], f["bends"], f["length"], f["length_lower_bound"]
     (True, 0, 10.16, 8.36)
     """
-    is_routed = routed_nets(board)
-    pads = placed_pads(board)
+    lay = resolve(board) if layout is None else layout      # the board resolved once (router.layout)
+    items = list(lay.items)
+    is_routed = routed_nets(board, items, components(board, items, lay.copper_index))
+    pads = list(lay.pads)
     covers = _Covers(board, pads)
     placed = {p.ref for p in board.parts if p.at is not None}
     rects_of: dict[str, list[Rect]] = defaultdict(list)
