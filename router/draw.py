@@ -115,13 +115,13 @@ def ratsnest(board: Board, groups: Optional[dict] = None) -> list[tuple[str, tup
     >>> ratsnest(b)
     [('A', (4.92, 5.0), (15.08, 5.0))]
     """
-    from .connectivity import net_groups
-    from .geometry import placed_pads
+    from .layout import resolve
 
+    lay = resolve(board)                     # the board resolved once (router.layout)
     if groups is None:
-        groups = net_groups(board)
+        groups = lay.groups(board)
     pads_of = defaultdict(list)
-    for p in placed_pads(board):
+    for p in lay.pads:
         pads_of[(p.net, p.name)].append(p)
     lines = []
     for net in board.nets:
@@ -227,7 +227,7 @@ _LIST_LINE_IN = 0.13
 
 
 def board_figure(board: Board, violations: Optional[Sequence] = None, dpi: float = 150,
-                 labels: Optional[str] = None):
+                 labels: Optional[str] = None, layout=None):
     """The board drawn on a new matplotlib Figure (Agg canvas); draws nothing to disk.
 
     Parameters
@@ -240,6 +240,8 @@ def board_figure(board: Board, violations: Optional[Sequence] = None, dpi: float
     dpi : float
     labels : None or "nets"
         "nets": net names along long trace segments too.
+    layout : Layout, optional
+        `board` resolved (:func:`router.layout.resolve`); default: resolved here.
 
     Notes
     -----
@@ -258,9 +260,10 @@ def board_figure(board: Board, violations: Optional[Sequence] = None, dpi: float
     from matplotlib.lines import Line2D
     from matplotlib.patches import Circle, Patch, Polygon as MPolygon, Rectangle
 
-    from .connectivity import net_groups
-    from .geometry import (body_polygon, outline_polygon, pad_shape, placed_holes, placed_pads,
-                           ring_shape, trace_shape)
+    from .geometry import pad_shape, ring_shape, trace_shape
+    from .layout import resolve
+
+    lay = resolve(board) if layout is None else layout      # the board resolved once (router.layout)
 
     placed_v = [v for v in (violations or []) if getattr(v, "at", None) is not None]
     listed = min(len(placed_v), _LIST_MAX) + (1 if len(placed_v) > _LIST_MAX else 0)
@@ -276,7 +279,7 @@ def board_figure(board: Board, violations: Optional[Sequence] = None, dpi: float
     pt_per_mm = scale * 72.0
 
     # the board and its outline
-    outline = outline_polygon(board)
+    outline = lay.outline
     ax.add_patch(MPolygon(list(outline.exterior.coords), closed=True, facecolor=STYLE["board"],
                           edgecolor=STYLE["outline"], linewidth=1.2, zorder=0, gid="outline"))
 
@@ -286,12 +289,10 @@ def board_figure(board: Board, violations: Optional[Sequence] = None, dpi: float
                               hatch="////", linewidth=0.8, zorder=1, gid=f"keepout-{k + 1}"))
 
     # part bodies and refs
-    for part in board.parts:
-        if part.at is None:
-            continue
-        ax.add_patch(MPolygon(list(body_polygon(board, part).exterior.coords), closed=True, facecolor="none",
+    for body in lay.bodies:
+        ax.add_patch(MPolygon(list(body.polygon.exterior.coords), closed=True, facecolor="none",
                               edgecolor=STYLE["body"], linewidth=0.6,
-                              linestyle=(0, (3, 2)) if part.side == "bottom" else "solid", zorder=2))
+                              linestyle=(0, (3, 2)) if body.side == "bottom" else "solid", zorder=2))
 
     # pours: filled and semi-transparent, under the traces, thermal gaps showing (router.pour)
     if board.pours:
@@ -305,7 +306,7 @@ def board_figure(board: Board, violations: Optional[Sequence] = None, dpi: float
                 ax.add_collection(pc)
 
     # copper by layer: bottom first, then top over it
-    pads = placed_pads(board)
+    pads = list(lay.pads)
     for layer in reversed(board.layers):
         shapes = [trace_shape(t) for t in board.traces if t.layer == layer and t.points]
         shapes += [pad_shape(p) for p in pads if p.drill is None and p.layers == (layer,)]
@@ -345,7 +346,7 @@ def board_figure(board: Board, violations: Optional[Sequence] = None, dpi: float
         pc = PatchCollection([Circle(c, d / 2) for c, d in drills], facecolor=STYLE["drill"],
                              edgecolor="none", zorder=7)
         ax.add_collection(pc)
-    holes = placed_holes(board)
+    holes = list(lay.npth)
     if holes:
         pc = PatchCollection([Circle((h.x, h.y), h.drill / 2) for h in holes], facecolor=STYLE["drill"],
                              edgecolor=STYLE["outline"], linewidths=0.6, zorder=7)
@@ -353,7 +354,7 @@ def board_figure(board: Board, violations: Optional[Sequence] = None, dpi: float
         ax.add_collection(pc)
 
     # unrouted connections
-    groups = net_groups(board)
+    groups = lay.groups(board)
     lines = ratsnest(board, groups)
     if lines:
         lc = LineCollection([[a, b] for _, a, b in lines], colors=STYLE["ratsnest"], linewidths=0.6,

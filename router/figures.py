@@ -45,7 +45,7 @@ from typing import Callable, Iterable, Optional, Sequence
 from rtree import index as rtree_index
 from shapely.geometry import Point as SPoint
 
-from .connectivity import components, routed as routed_nets
+from .connectivity import routed as routed_nets
 from .copper import pad_core
 from .geometry import placed_pads
 from .layout import resolve
@@ -794,7 +794,7 @@ def board_figures(board: Board, layout=None) -> dict:
     """
     lay = resolve(board) if layout is None else layout      # the board resolved once (router.layout)
     items = list(lay.items)
-    is_routed = routed_nets(board, items, components(board, items, lay.copper_index))
+    is_routed = routed_nets(board, items, lay.labels())
     pads = list(lay.pads)
     covers = _Covers(board, pads)
     placed = {p.ref for p in board.parts if p.at is not None}

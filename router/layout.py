@@ -114,8 +114,9 @@ class Layout:
     net_class: dict
     index: rtree_index.Index = field(repr=False)
     entries: tuple = field(repr=False)
-    _layer_mask: np.ndarray = field(repr=False)
-    _pad_pos: dict = field(repr=False)        # per index id: bit k set when on layer k (all bits: every layer)
+    _layer_mask: np.ndarray = field(repr=False)    # per index id: bit k set when on layer k
+    _pad_pos: dict = field(repr=False)             # placed pad -> its position in pads
+    _memo: dict = field(default_factory=dict, repr=False)
 
     # ---------------------------------------------------------------- shapes
     def shape(self, kind: str, pos: int):
@@ -140,6 +141,18 @@ class Layout:
             return pad_core(pad)
         it = self.items[k]
         return it.core, it.radius
+
+    def labels(self) -> list[int]:
+        """The joined-copper label of every item (:func:`router.connectivity.components`), once."""
+        if "labels" not in self._memo:
+            from .connectivity import components
+            self._memo["labels"] = components(None, list(self.items), self.copper_index)
+        return self._memo["labels"]
+
+    def groups(self, board: Board) -> dict:
+        """Each net's pad groups (:func:`router.connectivity.net_groups`) from :meth:`labels`."""
+        from .connectivity import net_groups
+        return net_groups(board, list(self.items), self.labels())
 
     # ---------------------------------------------------------------- queries
     def query(self, box: Sequence[float], layer: Optional[str] = None,

@@ -103,7 +103,8 @@ def _points(pts) -> str:
 def _svg(board: Board, violations: Optional[Sequence], groups: dict,
          labels: Optional[str] = None) -> tuple[str, list[str]]:
     """The board's SVG element and the list of toggleable layers (key, label) in order."""
-    from .geometry import body_polygon, body_rect, placed_holes, placed_pads
+    from .layout import resolve
+    lay = resolve(board)                     # the board resolved once (router.layout)
 
     xs = [p[0] for p in board.outline]
     ys = [p[1] for p in board.outline]
@@ -134,16 +135,16 @@ def _svg(board: Board, violations: Optional[Sequence], groups: dict,
     if placed:
         layers.append(("parts", "part bodies"))
         out.append('<g data-layer="parts">')
-        for part in placed:
+        for part, body in zip(placed, lay.bodies):        # one body per placed part, in file order
             dash = ' stroke-dasharray="4 3"' if part.side == "bottom" else ""
-            corners = list(body_polygon(board, part).exterior.coords)[:-1]
+            corners = list(body.polygon.exterior.coords)[:-1]
             out.append(f'<polygon class="body" points="{_points(corners)}" fill="none" stroke="{STYLE["body"]}" '
                        f'stroke-width="1" vector-effect="non-scaling-stroke"{dash}><title>{_a(part.ref)} '
                        f'{_a(part.footprint)}{" " + _a(part.value) if part.value else ""} ({part.side})</title>'
                        f'</polygon>')
         out.append("</g>")
 
-    pads = placed_pads(board)
+    pads = list(lay.pads)
     nets_order = [n.name for n in board.nets]
     extra = sorted({p.net for p in pads} - set(nets_order))
     all_nets = nets_order + extra
@@ -204,7 +205,7 @@ def _svg(board: Board, violations: Optional[Sequence], groups: dict,
         layers.append(("plated", "plated pads and vias"))
         out += net_groups_svg("plated", by_net)
 
-    holes = placed_holes(board)
+    holes = list(lay.npth)
     if holes:
         layers.append(("holes", "mounting holes"))
         out.append('<g data-layer="holes">')
@@ -558,9 +559,8 @@ def page_html(board: Board, violations: Optional[Sequence] = None, labels: Optio
     str
         One HTML document; nothing in it is fetched from the network.
     """
-    from .connectivity import net_groups
-
-    groups = net_groups(board)
+    from .layout import resolve
+    groups = resolve(board).groups(board)
     svg, layers = _svg(board, violations, groups, labels)
     figures = page_figures(board)
     routed = {n["name"]: n.get("routed") for n in figures.get("nets", [])}
