@@ -47,6 +47,7 @@ from shapely.geometry.base import BaseGeometry
 
 from .errors import BoardError
 from .geometry import PlacedPad, outline_polygon, pad_shape, placed_holes, placed_pads
+from .layout import resolve
 from .model import Board, Point
 from .cautions import cautions
 from .rules import CAUTION, class_clearance_table
@@ -442,7 +443,7 @@ def _openings(board: Board, side: str, pads: list[PlacedPad], open_vias: bool) -
     if open_vias:
         for v in board.vias:
             out.append(_Opening("ViaPad", "round", v.at, v.diameter + 2 * e, v.diameter + 2 * e))
-    for h in placed_holes(board):
+    for h in resolve(board).npth:
         out.append(_Opening("Other,NonPlatedHole", "round", (h.x, h.y),
                             h.drill + 2 * e, h.drill + 2 * e))
     return out
@@ -527,7 +528,7 @@ def _drills(board: Board, pads: list[PlacedPad]) -> tuple[list[_Drill], list[_Dr
     plated = [_Drill(p.x, p.y, p.drill, "pad") for p in pads if p.drill is not None]
     plated += [_Drill(v.at[0], v.at[1], v.drill, "via") for v in board.vias]
     plated += [_Drill(at[0], at[1], j.drill, "jumper_end") for j in board.jumpers for at in (j.start, j.end)]
-    nonplated = [_Drill(h.x, h.y, h.drill, "hole") for h in placed_holes(board)]
+    nonplated = [_Drill(h.x, h.y, h.drill, "hole") for h in resolve(board).npth]
     return plated, nonplated
 
 
@@ -597,7 +598,8 @@ def _reduction_words(red) -> str:
 
 def _summary(board: Board, names: dict[str, str], plated: list[_Drill], nonplated: list[_Drill],
              open_vias: bool, silks=()) -> str:
-    x0, y0, x1, y1 = outline_polygon(board).bounds
+    outline = resolve(board).outline
+    x0, y0, x1, y1 = outline.bounds
     widths = [nc.trace_width for nc in board.classes.values()] + [t.width for t in board.traces]
     spaces = list(class_clearance_table(board).values())
     drills = [d.drill for d in plated + nonplated]
@@ -622,7 +624,7 @@ def _summary(board: Board, names: dict[str, str], plated: list[_Drill], nonplate
     }
     if board.copper_layers == 1:
         roles["copper-bottom"] = "copper, bottom layer (the only copper; parts on top)"
-    shape = ("rectangle" if len(board.outline) == 4 and outline_polygon(board).area
+    shape = ("rectangle" if len(board.outline) == 4 and outline.area
              == (x1 - x0) * (y1 - y0) else f"polygon of {len(board.outline)} corners")
     lines = [f"Fabrication files for board '{board.name}'", ""]
     width = max(len(n) for n in names.values())
@@ -692,7 +694,7 @@ def export(board: Board, out_dir, open_vias: bool = False) -> list[Path]:
     """
     _check_input(board)
     names = file_names(board)
-    pads = placed_pads(board)
+    pads = list(resolve(board).pads)          # the board resolved once (router.layout)
     texts: dict[str, str | bytes] = {}
     for i, layer in enumerate(board.layers, start=1):
         texts[f"copper-{layer}"] = _copper(board, layer, pads, i)

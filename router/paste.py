@@ -135,7 +135,9 @@ def paste_openings(board: Board, side: str, pads: list[PlacedPad] | None = None)
     BoardError
         When the reduction leaves a pad no opening (``rules.paste_reduction``).
     """
-    pads = placed_pads(board) if pads is None else pads
+    if pads is None:                         # the board resolved once (router.layout)
+        from .layout import resolve
+        pads = list(resolve(board).pads)
     exposed = exposed_pads(board, pads)
     red = board.rules.paste_reduction
     out = []

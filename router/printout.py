@@ -61,9 +61,10 @@ def _page_for(w: float, h: float) -> tuple[str, float, float]:
 
 def _layer_shapes(board: Board, layer: str):
     """Copper of `layer` as shapely shapes, and the drill centres (x, y, drill) through it."""
-    from .geometry import pad_shape, placed_pads, ring_shape, trace_shape
+    from .geometry import pad_shape, ring_shape, trace_shape
+    from .layout import resolve
     shapes, drills = [], []
-    for p in placed_pads(board):
+    for p in resolve(board).pads:                 # the board resolved once (router.layout)
         if layer in p.layers:
             shapes.append(pad_shape(p))
             if p.drill is not None:
@@ -123,7 +124,8 @@ def print_pdf(board: Board, layer: str | None = None, mirror: bool = False) -> t
     from shapely.affinity import scale as shp_scale, translate
 
     from .draw import _path
-    from .geometry import outline_polygon, placed_holes
+    from .layout import resolve
+    lay = resolve(board)
 
     layer = layer or board.layers[0]
     if layer not in board.layers:
@@ -134,7 +136,7 @@ def print_pdf(board: Board, layer: str | None = None, mirror: bool = False) -> t
             raise BoardError(board.source, f"part {i + 1} ({part.ref})",
                              "the part has no place, so it has no copper to print; place it first (elbowroom place)")
 
-    outline = outline_polygon(board)
+    outline = lay.outline
     bx0, by0, bx1, by1 = outline.bounds
     bw, bh = bx1 - bx0, by1 - by0
     page, pw, ph = _page_for(bw, bh)
@@ -165,7 +167,7 @@ def print_pdf(board: Board, layer: str | None = None, mirror: bool = False) -> t
             ax.add_patch(PathPatch(p, facecolor="black", edgecolor="none"))
     for x, y, d in drills:
         ax.add_patch(Circle(place_pt(x, y), min(DRILL_MARK, d) / 2, facecolor="white", edgecolor="none"))
-    for h in placed_holes(board):            # unplated holes: a ring to drill through
+    for h in lay.npth:                       # unplated holes: a ring to drill through
         ax.add_patch(Circle(place_pt(h.x, h.y), h.drill / 2, facecolor="none", edgecolor="black",
                             linewidth=0.15 * _PT))
         ax.add_patch(Circle(place_pt(h.x, h.y), min(DRILL_MARK, h.drill) / 2, facecolor="black"))

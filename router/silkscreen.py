@@ -286,14 +286,16 @@ def silk_layer(board: Board, side: str, openings: Sequence[BaseGeometry]) -> Sil
     Silk
     """
     silk = Silk(side)
-    inside = outline_polygon(board).buffer(-SILK_WIDTH / 2 - SILK_GAP, quad_segs=ARC_SEGMENTS)
+    from .layout import resolve
+    lay = resolve(board)                     # the board resolved once (router.layout)
+    inside = lay.outline.buffer(-SILK_WIDTH / 2 - SILK_GAP, quad_segs=ARC_SEGMENTS)
     keep_off = (unary_union(list(openings)).buffer(SILK_WIDTH / 2 + SILK_GAP, quad_segs=ARC_SEGMENTS)
                 if openings else None)
     pen = _Pen(silk, keep_off, inside)
-    for part in board.parts:
-        if part.side != side or part.at is None:
+    for part, bd in zip([p for p in board.parts if p.at is not None], lay.bodies):
+        if part.side != side:
             continue
-        body = [tuple(map(float, p)) for p in body_polygon(board, part).exterior.coords]   # turned with the part
+        body = [tuple(map(float, p)) for p in bd.polygon.exterior.coords]   # turned with the part
         pen.lines("outline", [body])
         centre = _ref_centre(board, part, pen)
         silk.labels.append((part.ref, centre))
