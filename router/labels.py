@@ -57,8 +57,9 @@ def text_size(text: str, height: float) -> tuple[float, float]:
 
 def copper_obstacles(board: Board) -> list[BaseGeometry]:
     """Pads, traces, vias, jumper ends and wires as shapes: what a label may not cover."""
-    from .geometry import pad_shape, placed_pads, ring_shape, trace_shape
-    out = [pad_shape(p) for p in placed_pads(board)]
+    from .geometry import pad_shape, ring_shape, trace_shape
+    from .layout import resolve
+    out = [pad_shape(p) for p in resolve(board).pads]      # the board resolved once (router.layout)
     out += [trace_shape(t) for t in board.traces if t.points]
     out += [ring_shape(v.at, v.diameter) for v in board.vias]
     for j in board.jumpers:
