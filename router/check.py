@@ -150,11 +150,10 @@ class _Ctx:
         self.layout = lay = resolve(board) if layout is None else layout    # the board resolved once
         self.items = list(lay.items)
         self.idx = lay.copper_index
-        self.labels = components(board, self.items, self.idx)
+        self.labels = lay.labels()                  # joined copper, once per board state
         self.cores = np.array([it.core for it in self.items], dtype=object)
         self.radii = np.array([it.radius for it in self.items], dtype=float)
-        self.bounds = (np.array([it.bounds() for it in self.items], dtype=float)
-                       if self.items else np.zeros((0, 4)))
+        self.bounds = lay.copper_bounds                               # each item's box
         self.masks = np.array([_mask(board, it.layers) for it in self.items], dtype=np.int64)
         self.nets = [it.net for it in self.items]
 
@@ -313,7 +312,7 @@ def _edge(ctx: _Ctx) -> list[Violation]:
     for hk, h in enumerate(npth):
         hp = SPoint(h.x, h.y)
         g = ec + h.drill / 2 + TOL
-        for i in ctx.idx.intersection((h.x - g, h.y - g, h.x + g, h.y + g)):
+        for i in sorted(ctx.idx.intersection((h.x - g, h.y - g, h.x + g, h.y + g))):
             it = items[i]
             dist = it.core.distance(hp) - it.radius - h.drill / 2
             if short_of(dist, ec):

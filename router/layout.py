@@ -26,6 +26,7 @@ from dataclasses import dataclass, field
 from typing import Iterable, Optional, Sequence
 
 import numpy as np
+import shapely
 from rtree import index as rtree_index
 from shapely.geometry import Polygon
 from shapely.geometry.base import BaseGeometry
@@ -116,6 +117,7 @@ class Layout:
     entries: tuple = field(repr=False)
     _layer_mask: np.ndarray = field(repr=False)    # per index id: bit k set when on layer k
     _pad_pos: dict = field(repr=False)             # placed pad -> its position in pads
+    copper_bounds: np.ndarray = field(repr=False)  # (len(items), 4): each item's box (CopperItem.bounds)
     _memo: dict = field(default_factory=dict, repr=False)
 
     # ---------------------------------------------------------------- shapes
@@ -182,12 +184,19 @@ class Layout:
 
     def copper_near(self, box: Sequence[float], layer: Optional[str] = None) -> list[int]:
         """Positions in :attr:`items` of the copper whose box meets `box` (on `layer`), ascending."""
-        return [p for _, p in self.query(box, layer, ("copper",))]
+        n = len(self.items)                 # copper ids come first: no entry lookups needed
+        ids = sorted(k for k in self.index.intersection(tuple(map(float, box))) if k < n)
+        if layer is None:
+            return ids
+        bit = 1 << self.layers.index(layer) if layer in self.layers else 0
+        mask = self._layer_mask
+        return [k for k in ids if int(mask[k]) & bit]
 
     @property
     def copper_index(self) -> "CopperView":
-        """The index seen as an rtree of the copper alone (ids: positions in :attr:`items`),
-        for functions that take an item index (:func:`router.connectivity.components`)."""
+        """The index seen as an rtree of the copper alone (ids: positions in :attr:`items`, in
+        the index's order), for functions that take an item index
+        (:func:`router.connectivity.components`)."""
         return CopperView(self)
 
     def copper_within(self, geom: BaseGeometry, dist: float, layer: Optional[str] = None) -> list[int]:
@@ -216,13 +225,19 @@ class Layout:
 
 
 class CopperView:
-    """A layout's index answering ``intersection(box)`` with copper positions only, ascending."""
+    """A layout's index answering ``intersection(box)`` with copper positions only."""
 
     def __init__(self, layout: Layout):
         self.layout = layout
+        self._index, self._n = layout.index, len(layout.items)
+        self._only_copper = self._n == len(layout.entries)
 
-    def intersection(self, box) -> list[int]:
-        return self.layout.copper_near(box)
+    def intersection(self, box):
+        """Copper positions whose box meets `box`, in the index's own order (sort where it matters)."""
+        if self._only_copper:
+            return self._index.intersection(box)
+        n = self._n
+        return [k for k in self._index.intersection(box) if k < n]
 
 
 # ----------------------------------------------------------------------------- state keys
@@ -305,9 +320,18 @@ def _build(board: Board, key: tuple, placed: _Placed) -> Layout:
     def mask(ls) -> int:
         return sum(1 << layers.index(l) for l in ls if l in layers)
 
-    entries, boxes, masks = [], [], []
-    for k, it in enumerate(items):
-        entries.append(("copper", k)); boxes.append(it.bounds()); masks.append(mask(it.layers))
+    # the copper's boxes at once (the same floats as CopperItem.bounds: core bounds -/+ radius)
+    if items:
+        cb = shapely.bounds(np.array([it.core for it in items], dtype=object))
+        r = np.array([it.radius for it in items], dtype=float)
+        cb = cb + np.stack([-r, -r, r, r], axis=1)
+    else:
+        cb = np.zeros((0, 4))
+    seen_masks: dict = {}
+    entries = [("copper", k) for k in range(len(items))]
+    boxes = [tuple(row) for row in cb.tolist()]
+    masks = [seen_masks[it.layers] if it.layers in seen_masks else seen_masks.setdefault(it.layers, mask(it.layers))
+             for it in items]
     for k, h in enumerate(hs):
         r = h.drill / 2 if h.diameter is None else max(h.drill, h.diameter) / 2
         entries.append(("hole", k)); boxes.append((h.x - r, h.y - r, h.x + r, h.y + r)); masks.append(every)
@@ -320,7 +344,7 @@ def _build(board: Board, key: tuple, placed: _Placed) -> Layout:
     net_class = {n.name: n.net_class for n in board.nets}
     return Layout(key, layers, outline_polygon(board), placed.pads, tuple(items), tuple(hs), placed.npth,
                   placed.bodies, kos, net_class, idx, tuple(entries), np.array(masks, dtype=np.int64),
-                  {p: k for k, p in enumerate(placed.pads)})
+                  {p: k for k, p in enumerate(placed.pads)}, cb)
 
 
 def _remember(cache: OrderedDict, key, value):

@@ -62,6 +62,7 @@ def test_layout_holds_what_the_functions_made(boards, name):
     assert [k.polygon.bounds for k in lay.keepouts] == [box(*k.polygon.bounds).bounds for k in lay.keepouts]
     for k, it in enumerate(lay.items[:len(lay.pads)]):
         assert it.pad is lay.pads[k]
+    assert lay.copper_bounds.tolist() == [list(it.bounds()) for it in old]
 
 
 @pytest.mark.parametrize("name", ["demo", "real"])
