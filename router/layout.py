@@ -21,6 +21,7 @@ it as given.
 """
 from __future__ import annotations
 
+import threading
 from collections import OrderedDict
 from dataclasses import dataclass, field
 from typing import Iterable, Optional, Sequence
@@ -98,6 +99,8 @@ class Layout:
     keepouts : tuple of KeepoutArea
     net_class : dict
         Net name -> class name (a net not in the file, such as a lone pad's, is "default").
+    copper_bounds : array of shape (len(items), 4)
+        Each copper item's box (x0, y0, x1, y1), as :meth:`CopperItem.bounds` gives it.
     index : rtree index
         One rtree over copper items, holes, bodies and keepouts; id ``k`` is ``entries[k]``.
     entries : tuple of (kind, position)
@@ -282,6 +285,7 @@ def state_key(board: Board) -> tuple:
 _PLACED: "OrderedDict[tuple, _Placed]" = OrderedDict()
 _LAYOUTS: "OrderedDict[tuple, Layout]" = OrderedDict()
 _KEEP = 4                            # board states kept (a route holds its input and its result)
+_LOCK = threading.Lock()             # the caches only; a layout is built outside it
 #: How many times parts were placed and layouts built (for tests that count them).
 builds = {"placed": 0, "layout": 0}
 
@@ -379,13 +383,16 @@ def resolve(board: Board) -> Layout:
     """
     pk, ck = _parts_key(board), _copper_key(board)
     key = (pk, ck)
-    got = _LAYOUTS.get(key)
-    if got is not None:
-        _LAYOUTS.move_to_end(key)
-        return got
-    placed = _PLACED.get(pk)
+    with _LOCK:
+        got = _LAYOUTS.get(key)
+        if got is not None:
+            _LAYOUTS.move_to_end(key)
+            return got
+        placed = _PLACED.get(pk)
     if placed is None:
-        placed = _remember(_PLACED, pk, _place(board))
-    else:
-        _PLACED.move_to_end(pk)
-    return _remember(_LAYOUTS, key, _build(board, key, placed))
+        placed = _place(board)
+        with _LOCK:
+            _remember(_PLACED, pk, placed)
+    lay = _build(board, key, placed)
+    with _LOCK:
+        return _remember(_LAYOUTS, key, lay)
