@@ -52,7 +52,8 @@ class Fit:
 def footprint_fits(board: Board) -> list[Fit]:
     """Every (footprint, class) pair where a net of the class has a pad on a part of that footprint,
     with the smallest own-pad gap over those parts; sorted by footprint, then class."""
-    pads = placed_pads(board)
+    from .layout import resolve
+    pads = list(resolve(board).pads)          # the board resolved once (router.layout)
     gaps = own_gaps(board, pads)
     classes_on: dict[str, set] = defaultdict(set)
     names = {n.name for n in board.nets}
