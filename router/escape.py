@@ -546,24 +546,9 @@ def exit_conflicts(grid, routes: dict, soft: dict) -> tuple[dict, list]:
         for q in np.nonzero(bad.any(axis=1))[0]:
             net, l, a, b, _ = chunk[q]
             shared[net] = shared.get(net, 0) + 1
-            near = _near_points(grid, a, b, l)
+            near = grid.near_points(a, b, l)
             if near:
                 cells.append(np.array(near, dtype=np.int64))
     return shared, cells
 
 
-def _near_points(grid, a, b, layer: int) -> list:
-    """Grid points (layer, j, i) within half a pitch of the segment a-b."""
-    g = grid.pitch
-    x0, x1 = sorted((a[0], b[0]))
-    y0, y1 = sorted((a[1], b[1]))
-    ia, ib, ja, jb = grid._window((x0, y0, x1, y1), g / 2)
-    out = []
-    for j in range(ja, jb):
-        for i in range(ia, ib):
-            x, y = grid.x(i), grid.y(j)
-            gx = max(x0 - x, 0.0, x - x1)
-            gy = max(y0 - y, 0.0, y - y1)
-            if gx * gx + gy * gy <= (g / 2) ** 2 + TOL:
-                out.append((layer, j, i))
-    return out

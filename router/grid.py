@@ -220,6 +220,23 @@ class RoutingGrid:
         jb = min(self.ny, int(math.ceil((by1 + grow) / g)) - self.j0 + 2)
         return ia, ib, ja, jb
 
+    def near_points(self, a, b, layer: int) -> list:
+        """Grid points (layer, j, i) within half a pitch of the axis segment a-b: the cells an
+        off-grid stub or pad exit occupies for the negotiation."""
+        g = self.pitch
+        x0, x1 = sorted((a[0], b[0]))
+        y0, y1 = sorted((a[1], b[1]))
+        ia, ib, ja, jb = self._window((x0, y0, x1, y1), g / 2)
+        out = []
+        for j in range(ja, jb):
+            for i in range(ia, ib):
+                x, y = self.x(i), self.y(j)
+                gx = max(x0 - x, 0.0, x - x1)
+                gy = max(y0 - y, 0.0, y - y1)
+                if gx * gx + gy * gy <= (g / 2) ** 2 + TOL:
+                    out.append((layer, j, i))
+        return out
+
     # ----------------------------------------------------------------- obstacles
     def _collect(self) -> None:
         board = self.board

@@ -183,7 +183,6 @@ _STUB_MAX = 1.5
 
 def _add_stub(grid: RoutingGrid, route: NetRoute, stub, layer: int) -> None:
     """Lay a stub's segments, and count the grid points near it as cells the net uses."""
-    g = grid.pitch
     neck = getattr(stub, "width", None)
     if neck is not None:                 # a neck is written as a trace of its own width
         route.necks.append((tuple(stub), layer, neck))
@@ -192,16 +191,7 @@ def _add_stub(grid: RoutingGrid, route: NetRoute, stub, layer: int) -> None:
             continue
         if neck is None:
             route.stubs.append((a, b, layer))
-        x0, x1 = sorted((a[0], b[0]))
-        y0, y1 = sorted((a[1], b[1]))
-        ia, ib, ja, jb = grid._window((x0, y0, x1, y1), g / 2)
-        for j in range(ja, jb):
-            for i in range(ia, ib):
-                x, y = grid.x(i), grid.y(j)
-                gx = max(x0 - x, 0.0, x - x1)
-                gy = max(y0 - y, 0.0, y - y1)
-                if gx * gx + gy * gy <= (g / 2) ** 2 + TOL:
-                    route.near.add((layer, j, i))
+        route.near.update(grid.near_points(a, b, layer))
 
 
 def terminals(grid: RoutingGrid, space: SearchSpace, net: str, pad_groups: list[list], others=None,
@@ -508,7 +498,6 @@ def _price_exits(grid: RoutingGrid, space: SearchSpace, terms: list, first: int)
     extra cost of the grid points within half a pitch of the exit (a target pays it on
     entering); the first terminal, where searches start at no cost, keeps only the exits
     priced within one grid step of its cheapest. Returns the first terminal's cells."""
-    from .escape import _near_points
     from .search import STEP
     keep = dict(terms[first].cells)
     for k, t in enumerate(terms):
@@ -518,7 +507,7 @@ def _price_exits(grid: RoutingGrid, space: SearchSpace, terms: list, first: int)
                 continue
             pts = set()
             for a, b in zip(stub, stub[1:]):
-                pts.update(_near_points(grid, a, b, c[0]))
+                pts.update(grid.near_points(a, b, c[0]))
             pts.discard(c)
             price[c] = int(sum(space.cell_cost(*q) for q in pts))
         if not price or not any(price.values()):
