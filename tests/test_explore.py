@@ -322,9 +322,11 @@ def test_local_worker_dying_every_time_is_reported(runner):
 
 
 def test_sweep_ctrl_c_keeps_finished(switch, tmp_path):
+    # 200 tasks, so that the sweep cannot finish them all between the first board and the signal
+    # (with 10 it did, once the router got faster, and exited 0)
     out = tmp_path / "sweep"
     proc = subprocess.Popen([sys.executable, "-m", "router.cli", "sweep", str(switch), "-o", str(out), "--jobs", "1",
-                             "--seeds", "0-9", "--bend-penalty", "1", "--via-penalty", "2"],
+                             "--seeds", "0-199", "--bend-penalty", "1", "--via-penalty", "2"],
                             stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
     deadline = time.monotonic() + 120
     while time.monotonic() < deadline and not list((out / "boards").glob("*.toml")):
@@ -336,7 +338,7 @@ def test_sweep_ctrl_c_keeps_finished(switch, tmp_path):
     doc = json.loads((out / "sweep.json").read_text())
     assert doc["interrupted"] is True
     done = [r for r in doc["results"] if r["status"] == "ok"]
-    assert 1 <= len(done) < 10
+    assert 1 <= len(done) < 200
     for r in done:
         assert (out / r["file"]).exists()
     assert {r["status"] for r in doc["results"]} <= {"ok", "not run"}
