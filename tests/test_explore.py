@@ -322,12 +322,14 @@ def test_local_worker_dying_every_time_is_reported(runner):
 
 
 def test_sweep_ctrl_c_keeps_finished(switch, tmp_path):
-    # 200 tasks, so that the sweep cannot finish them all between the first board and the signal
-    # (with 10 it did, once the router got faster, and exited 0)
+    # many tasks, so that the sweep is surely still running when the signal comes; the child gets
+    # the default SIGINT handling back, since a shell running the tests in the background (no job
+    # control) starts them with SIGINT ignored, and Python then never raises KeyboardInterrupt
     out = tmp_path / "sweep"
     proc = subprocess.Popen([sys.executable, "-m", "router.cli", "sweep", str(switch), "-o", str(out), "--jobs", "1",
                              "--seeds", "0-199", "--bend-penalty", "1", "--via-penalty", "2"],
-                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
+                            preexec_fn=lambda: signal.signal(signal.SIGINT, signal.SIG_DFL))
     deadline = time.monotonic() + 120
     while time.monotonic() < deadline and not list((out / "boards").glob("*.toml")):
         time.sleep(0.1)
