@@ -129,10 +129,6 @@ class Layout:
         return {"copper": self.items, "hole": self.holes, "body": self.bodies,
                 "keepout": self.keepouts}[kind][pos]
 
-    def class_of(self, net: Optional[str]) -> Optional[str]:
-        """The class name of `net` (None for a non-plated hole, a body or a keepout)."""
-        return None if net is None else self.net_class.get(net, "default")
-
     def pad_core(self, i: int) -> tuple[BaseGeometry, float]:
         """The exact core and radius of ``pads[i]`` (as :func:`router.geometry.pad_core`)."""
         it = self.items[i]
