@@ -33,7 +33,8 @@ from .model import Board, NetClass
 from .rules import own_pad_clearance
 from .units import TOL
 
-__all__ = ["NECK_LENGTH", "Neck", "neck_of", "own_gaps", "OwnPadRule", "escape_access", "neck_traces"]
+__all__ = ["NECK_LENGTH", "Neck", "EscapeVia", "neck_of", "own_gaps", "OwnPadRule", "escape_access",
+           "escape_vias", "neck_traces", "escape_via_pads"]
 
 #: Default ``neck_length``: how far from the pad's edge a neck may run, in mm. Common practice:
 #: a neck ends as soon as the trace is clear of the fine-pitch row, within about a millimetre.
@@ -48,6 +49,16 @@ class Neck(tuple):
     """The points of a pad exit (a tuple of (x, y)) with its width: the class width, or
     narrower (a neck). Either is written as a trace of its own, so that every segment of
     it lies within ``neck_length`` of its pad, where the footprint's own spacing applies."""
+    width: float
+
+
+class EscapeVia(tuple):
+    """A pad's exit by a via beside it (:func:`escape_vias`): the points of the link on the
+    pad's layer, from inside the pad's copper to the via's centre (one point, the centre, when
+    the via's disc touches the pad), with ``layer`` (the pad's layer index), ``via`` ((j, i)
+    of the via's grid point) and ``width`` (the link's width: the class's, or a neck's)."""
+    layer: int
+    via: tuple
     width: float
 
 
@@ -301,6 +312,180 @@ def escape_access(grid, space, net: str, pad: PlacedPad, others=None, most: int 
     return found
 
 
+#: How many via places beside one pad :func:`escape_vias` offers the search (each its own grid
+#: point; our choice: enough that a neighbour's via or exit taking one leaves others).
+ESCAPE_VIAS = 4
+#: How many candidate places per pad are measured exactly at most (nearest the pad first).
+_VIA_TRIES = 48
+
+
+def escape_vias(grid, space, net: str, pad: PlacedPad, others=None, most: int = ESCAPE_VIAS) -> dict:
+    """Via places beside a surface pad: cell (other layer, j, i) -> :class:`EscapeVia`.
+
+    On a two-layer board, a surface pad whose own layer offers no way out (under a part's
+    body, an inner row, boxed in by its neighbours' copper) may leave by a via beside it, as
+    a designer does. Each place is a grid point within the class's ``neck_length`` of the
+    pad's copper, whose via (the board's ``via_diameter`` and ``via_drill``) stays outside the
+    pad's copper (touching it at most) and keeps, exactly, the class clearance from every
+    other copper on both layers, ``edge_clearance`` from the edge and non-plated holes, out of
+    keepouts and other parts' keepout bodies (:meth:`RoutingGrid.segment_clear` with the
+    via's diameter as the width), and ``min_hole_spacing`` from every hole (the grid's via
+    places, exact at grid points). A via whose disc does not touch the pad is joined to it by
+    a straight link along x or y on the pad's layer (the class width, or where that does not
+    fit a neck of ``neck_width``), checked exactly with the footprint's own pad spacing as for
+    any escaping trace within ``neck_length``. The via's grid point must be open to the net on
+    the other layer: the search reaches the place there and pays for the via and the link
+    (:func:`router.nets._price_exits`).
+
+    The places measured against the fixed copper are kept on the grid per net and pad; each
+    call keeps those open in `space` on the other layer and, with `others`, those clear of
+    the other nets' routed copper.
+
+    Parameters
+    ----------
+    others : tuple of arrays, optional
+        Copper laid for other nets (walls, :meth:`RoutingGrid.obstacle_arrays`); with them,
+        via places that other nets' routed copper blocks on the grid are left out as well.
+
+    Returns
+    -------
+    dict
+        Empty on a one-layer board, for a pad with a hole, or a pad on both layers.
+    """
+    if grid.L < 2 or pad.drill is not None:
+        return {}
+    layers = [grid.layer_index(l) for l in pad.layers if l in grid.layers]
+    if len(layers) != 1:
+        return {}
+    store = grid.__dict__.setdefault("_escape_via_cache", {})
+    key = (net, pad.ref, pad.index)
+    places = store.get(key)
+    if places is None:
+        places = store[key] = _escape_via_places(grid, net, pad, layers[0], 2 * most)
+    lb = 1 - layers[0]
+    k = grid.profile_of(net).index
+    found: dict = {}
+    for j, i, ev in places:
+        if not space.open_cell[lb, j, i]:
+            continue
+        if others is not None:
+            if grid.soft_via[k][j, i] > 0:
+                continue
+            at = ev[-1]
+            if not all(grid.segment_clear(net, at, at, l, grid.via_d, others) for l in range(grid.L)):
+                continue
+            if len(ev) > 1 and not grid.segment_clear(net, ev[0], ev[1], ev.layer, ev.width, others,
+                                                      base=_relaxed_base(grid, net, pad)):
+                continue
+        found[(lb, j, i)] = ev
+        if len(found) >= most:
+            break
+    return found
+
+
+def _escape_via_places(grid, net: str, pad: PlacedPad, la: int, most: int) -> list:
+    """The via places beside `pad` that keep every rule against the fixed copper, nearest the
+    pad first: (j, i, :class:`EscapeVia`) (see :func:`escape_vias`)."""
+    core, rad = grid.layout.core_of(pad)
+    x0, y0, x1, y1 = (float(v) for v in core.bounds)
+    g = grid.pitch
+    nw, nl = neck_of(grid.board, grid.board.net_class(net))
+    prof = grid.profile_of(net)
+    vr = grid.via_d / 2
+    reach = rad + max(nl, vr)
+    ia, ib, ja, jb = grid._window((x0, y0, x1, y1), reach)
+    if ia >= ib or ja >= jb:
+        return []
+    X, Y = grid.xs[ia:ib], grid.ys[ja:jb]
+    gx_, gy_ = np.meshgrid(X, Y)
+    # exact distance from the pad's copper to each grid point (shapely: any shape, any angle)
+    dist = shapely.distance(core, shapely.points(gx_.ravel(), gy_.ravel())).reshape(gx_.shape) - rad
+    # the grid's via places: edge, keepouts, hole spacing to every fixed hole, clear of every pad
+    ok = (dist >= vr - TOL) & (dist <= nl + TOL) & grid.base_via[ja:jb, ia:ib]
+    cands = []
+    for j, i in zip(*np.nonzero(ok)):
+        x, y = float(X[i]), float(Y[j])
+        if float(dist[j, i]) <= vr + TOL:
+            link = ((x, y),)                        # the via's disc touches the pad
+        elif pad.angle:
+            from .nets import _turned_stub
+            st = _turned_stub(core, rad, (x, y), reach + g)
+            if st is None:
+                continue
+            link = (st[0], (x, y))
+        elif x0 - TOL <= x <= x1 + TOL:             # straight along y from the pad's core
+            link = ((x, min(max(y, y0), y1)), (x, y))
+        elif y0 - TOL <= y <= y1 + TOL:             # straight along x
+            link = ((min(max(x, x0), x1), y), (x, y))
+        else:
+            continue
+        link = tuple((round(px, 6), round(py, 6)) for px, py in link)
+        cands.append((float(dist[j, i]), math.hypot(x - pad.x, y - pad.y), int(j + ja), int(i + ia), link))
+    cands.sort(key=lambda c: (c[0], c[1], c[2], c[3]))
+    relaxed = _relaxed_base(grid, net, pad)
+    widths = [prof.width] + ([nw] if nw < prof.width - TOL else [])
+    out = []
+    for _, _, j, i, link in cands[:_VIA_TRIES]:
+        at = link[-1]
+        if not all(grid.segment_clear(net, at, at, l, 2 * vr) for l in range(grid.L)):
+            continue
+        width = prof.width if len(link) == 1 else next(
+            (w for w in widths if grid.segment_clear(net, link[0], link[1], la, w, base=relaxed)), None)
+        if width is None:
+            continue
+        ev = EscapeVia(link)
+        ev.layer, ev.via, ev.width = la, (j, i), width
+        out.append((j, i, ev))
+        if len(out) >= most:
+            break
+    return out
+
+
+def escape_via_pads(board: Board) -> dict[int, str]:
+    """The vias of `board` that are pad escapes: via index -> the pad's name (REF.PIN).
+
+    An escape via is a via of a two-layer board that lies within its class's ``neck_length``
+    (centre to copper) of a surface pad of its net, outside that pad's copper, and joins it on
+    the pad's layer: its disc touches the pad, or a straight segment of a trace of its net on
+    that layer runs from the via's centre to the pad's copper. The nearest such pad names it.
+    """
+    if len(board.layers) < 2 or not board.vias:
+        return {}
+    pads = [p for p in placed_pads(board) if p.drill is None]
+    by_net: dict[str, list] = defaultdict(list)
+    for p in pads:
+        by_net[p.net].append((p, pad_core(p)))
+    ends: dict = defaultdict(list)            # (net, layer, point) -> other ends of segments there
+    for t in board.traces:
+        pts = [(float(x), float(y)) for x, y in t.points]
+        for a, b in zip(pts, pts[1:]):
+            if a != b:
+                ends[(t.net, t.layer, a)].append((b, t.width))
+                ends[(t.net, t.layer, b)].append((a, t.width))
+    out = {}
+    for vi, v in enumerate(board.vias):
+        nc = board.net_class(v.net)
+        _, nl = neck_of(board, nc)
+        at = SPoint(v.at)
+        best = None
+        for p, (core, r) in by_net.get(v.net, ()):
+            d = core.distance(at) - r
+            if d < v.diameter / 2 - TOL or d > nl + TOL:
+                continue
+            joined = d <= v.diameter / 2 + TOL
+            if not joined:
+                for layer in p.layers:
+                    for far, w in ends.get((v.net, layer, (float(v.at[0]), float(v.at[1]))), ()):
+                        if core.distance(SPoint(far)) - r - w / 2 <= TOL:
+                            joined = True
+                            break
+            if joined and (best is None or d < best[0]):
+                best = (d, p.name)
+        if best is not None:
+            out[vi] = best[1]
+    return out
+
+
 def neck_traces(board: Board) -> dict[int, tuple[float, float]]:
     """The traces of `board` that are necks: trace index -> the point where it leaves its pad.
 
@@ -455,6 +640,7 @@ class ExitReserve:
             acc = store.get((net, p.ref, p.index))
             if acc is None:
                 return                    # not searched yet: reserved after the net's first search
+            acc = {c: v for c, v in acc.items() if not isinstance(v, EscapeVia)}   # vias: priced as vias
             if not acc or not (len(acc) <= SCARCE or any(isinstance(v, Neck) for v in acc.values())):
                 continue
             for c, path in acc.items():

@@ -864,9 +864,15 @@ def board_figures(board: Board, layout=None) -> dict:
     neck_at: dict[str, list] = defaultdict(list)
     for ti, at in sorted(neck_traces(board).items()):
         neck_at[board.traces[ti].net].append([snap(at[0]), snap(at[1])])
+    from .escape import escape_via_pads      # vias beside surface pads (router.escape)
+    via_pads: dict[str, list] = defaultdict(list)
+    for vi, name in sorted(escape_via_pads(board).items()):
+        via_pads[board.vias[vi].net].append(name)
     for n in nets:
         n["necks"] = len(neck_at.get(n["name"], ()))
         n["neck_points"] = neck_at.get(n["name"], [])
+        n["escape_vias"] = len(via_pads.get(n["name"], ()))
+        n["escape_via_pads"] = via_pads.get(n["name"], [])
     tot_len = sum(n["_exact"][0] for n in nets)
     tot_j = sum(n["_exact"][1] for n in nets)
     tot_lb = sum(n["_exact"][2] for n in nets)
@@ -893,6 +899,7 @@ def board_figures(board: Board, layout=None) -> dict:
         "length_ratio_routed": _ratio(r_len, r_lb),
         "bends_over_bound": sum(n["bends_over_bound"] for n in nets),
         "necks": sum(n["necks"] for n in nets),
+        "escape_vias": sum(n["escape_vias"] for n in nets),
         "copper_layers": len(board.layers),
         "vias_lower_bound": sum(n["vias_lower_bound"] for n in nets),
         "vias_on_one_layer_nets": sum(n["vias"] for n in nets
@@ -1073,6 +1080,10 @@ def format_report(figs: dict, board: Optional[Board] = None) -> str:
     if t.get("necks"):
         where = [f"{n['name']} at ({p[0]:.2f}, {p[1]:.2f})" for n in figs["nets"] for p in n.get("neck_points", [])]
         out.append(f"necks: {t['necks']} (pad exits narrower than the class): " + ", ".join(where[:8])
+                   + (" ..." if len(where) > 8 else ""))
+    if t.get("escape_vias"):
+        where = [f"{n['name']} at {p}" for n in figs["nets"] for p in n.get("escape_via_pads", [])]
+        out.append(f"escape vias: {t['escape_vias']} (vias beside surface pads): " + ", ".join(where[:8])
                    + (" ..." if len(where) > 8 else ""))
     for layer, pa in (figs.get("pours") or {}).items():
         out.append(f"poured {layer}: {pa['area']:.1f} mm^2, {100 * pa['share']:.1f} % of the board")

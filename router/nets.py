@@ -78,7 +78,50 @@ class NetRoute:
 
 def _access(grid: RoutingGrid, space: SearchSpace, net: str, pad, others=None) -> dict:
     """Access cells of one pad: inside its copper, or one straight stub away, or (a pad no grid
-    line crosses) an L-shaped stub from its centre."""
+    line crosses) an L-shaped stub from its centre, or a pad escape (:mod:`router.escape`).
+
+    On a two-layer board a surface pad with few ways out (at most
+    :data:`router.escape.SCARCE` access cells, or only escape exits) is also offered via places
+    beside it (:func:`router.escape.escape_vias`): cells on the other layer, priced like a via
+    the search lays and its link like grid steps (:func:`_exit_price`), so the search takes one
+    when it pays. Any other surface pad gets them when no search finds a way (:func:`route_net`:
+    a pad boxed in on its own layer, whose access cells lead nowhere)."""
+    out = _plain_access(grid, space, net, pad, others)
+    if grid.L == 2 and pad.drill is None:
+        from .escape import SCARCE, Neck, escape_vias
+        if len(out) <= SCARCE or any(isinstance(v, Neck) for v in out.values()):
+            for c, ev in escape_vias(grid, space, net, pad, others).items():
+                out.setdefault(c, ev)
+    return out
+
+
+def _widen(grid: RoutingGrid, space: SearchSpace, net: str, terms: list, left: list, tree: dict,
+           tree_cells, others, via: int, bend: int) -> bool:
+    """Every surface pad's via places beside it (:func:`router.escape.escape_vias`) added to
+    its terminal: priced targets for the terminals not yet joined, sources for the tree's
+    (free, as every source is: this is the way out of a pad boxed in on its own layer).
+    Returns whether any was added."""
+    from .escape import escape_vias
+    added = False
+    for k, t in enumerate(terms):
+        for pad in t.pads:
+            if pad.drill is not None:
+                continue
+            for c, ev in escape_vias(grid, space, net, pad, others).items():
+                if c in t.cells:
+                    continue
+                t.cells[c] = ev
+                added = True
+                if k in left:
+                    space.raise_cell(c, _exit_price(grid, space, c, ev, via, bend))
+                elif c not in tree:
+                    tree[c] = ev
+                    tree_cells.add(c)
+    return added
+
+
+def _plain_access(grid: RoutingGrid, space: SearchSpace, net: str, pad, others=None) -> dict:
+    """Access cells of one pad on its own layers (see :func:`_access`)."""
     core, rad = grid.layout.core_of(pad)       # the pad's exact copper, resolved once (router.layout)
     bx = box_of_core(core)
     g = grid.pitch
@@ -181,8 +224,23 @@ def _turned_stub(core, rad: float, p, reach: float):
 _STUB_MAX = 1.5
 
 
-def _add_stub(grid: RoutingGrid, route: NetRoute, stub, layer: int) -> None:
-    """Lay a stub's segments, and count the grid points near it as cells the net uses."""
+def _add_stub(grid: RoutingGrid, space: SearchSpace, route: NetRoute, stub, layer: int) -> None:
+    """Lay a stub's segments, and count the grid points near it as cells the net uses; an
+    escape via (:class:`router.escape.EscapeVia`) lays its via and its link on the pad's layer."""
+    via = getattr(stub, "via", None)
+    if via is not None:
+        j, i = via
+        route.vias.append((j, i))
+        route.cells.update({(stub.layer, j, i), (layer, j, i)})
+        _block_hole(grid, space, grid.point(j, i), grid.via_drill)
+        if len(stub) < 2:
+            return                       # the via's disc touches the pad
+        if stub.width < grid.profile_of(route.net).width - TOL:
+            route.necks.append((tuple(stub), stub.layer, stub.width))
+        else:
+            route.stubs.append((stub[0], stub[1], stub.layer))
+        route.near.update(grid.near_points(stub[0], stub[1], stub.layer))
+        return
     neck = getattr(stub, "width", None)
     if neck is not None:                 # a neck is written as a trace of its own width
         route.necks.append((tuple(stub), layer, neck))
@@ -396,8 +454,14 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
     # start from the terminal nearest the net's centre, so the tree grows outwards
     cx = np.mean([p.x for t in terms for p in t.pads])
     cy = np.mean([p.y for t in terms for p in t.pads])
-    first = min(range(len(terms)), key=lambda k: (math.hypot(terms[k].pads[0].x - cx, terms[k].pads[0].y - cy), k))
-    tree: dict = _price_exits(grid, space, terms, first)  # cell -> stub to add when a path leaves from it
+    # (a terminal reached only by escape vias starts no search: a source costs nothing, its via would be free)
+    first = min(range(len(terms)), key=lambda k: (_via_only(terms[k]),
+                                                  math.hypot(terms[k].pads[0].x - cx, terms[k].pads[0].y - cy), k))
+    tree: dict = _price_exits(grid, space, terms, first, via, bend)  # cell -> stub to add when a path leaves from it
+    # the first terminal's via places left out as dearer than its other cells: sources after all
+    # when no search from those finds a way (a pad boxed in on its own layer)
+    spare = {c: s for c, s in terms[first].cells.items() if _is_via(s) and c not in tree}
+    widened = False
     used_stub: set = set()
     left = [k for k in range(len(terms)) if k != first]
     near = _Nearest(terms, left, list(tree))
@@ -413,9 +477,20 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
                 for c in terms[k].cells:
                     owner.setdefault(c, k)
             path = _find(grid, space, tree_cells.array(),
-                         np.array(sorted(owner), dtype=np.int64), bend, via, jump, order)
+                         np.array(sorted(owner), dtype=np.int64), bend, via, jump, order,
+                         escapes=(tree, owner, terms, route))
             if path is not None:
                 break
+        if path is None and spare:
+            for c, st in spare.items():
+                tree[c] = st
+                tree_cells.add(c)
+            spare = {}
+            continue
+        if path is None and not widened and grid.L == 2:
+            widened = True               # every surface pad's via places, once (a pad boxed in)
+            if _widen(grid, space, net, terms, left, tree, tree_cells, others, via, bend):
+                continue
         if path is None:
             names = ", ".join(terms[k].name for k in left[:3]) + (" ..." if len(left) > 3 else "")
             route.failed = f"no way from {terms[first].name} to {names}"
@@ -431,26 +506,32 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
         end = tuple(int(v) for v in path.cells[-1])
         stub = tree.get(start)
         if stub is not None and start not in used_stub:
-            _add_stub(grid, route, stub, start[0])
+            _add_stub(grid, space, route, stub, start[0])
             used_stub.add(start)
             tree[start] = None
         new = _lay_path(grid, space, route, path.cells)
         k = owner[end]
         stub = terms[k].cells[end]
         if stub is not None:
-            _add_stub(grid, route, stub, end[0])
+            _add_stub(grid, space, route, stub, end[0])
         # every terminal whose pad holds the end point directly is joined as well
         joined = {k} | {q for q in left if terms[q].cells.get(end, 0) is None}
         for q in sorted(joined):
             for c, s in terms[q].cells.items():
-                if c not in tree:
+                if c not in tree and not _is_via(s):       # an unused via beside a joined pad is no copper
                     tree[c] = s
                     tree_cells.add(c)
+        unused = [c for c, s in tree.items() if _is_via(s)]
+        if unused:                       # the first terminal's via places, once a path has left it
+            for c in unused:
+                del tree[c]
+            tree_cells = _SortedCells(grid, tree)
         for c in new:                    # the route's cells so far: these and those of earlier paths
             if c not in tree:
                 tree_cells.add(c)
             tree[c] = None
         left = [q for q in left if q not in joined]
+        spare = {}
         near.grow(new + [c for q in joined for c in terms[q].cells])
     return route
 
@@ -491,25 +572,35 @@ class _SortedCells:
 NEAREST = 4
 
 
-def _price_exits(grid: RoutingGrid, space: SearchSpace, terms: list, first: int) -> dict:
+def _is_via(stub) -> bool:
+    return getattr(stub, "via", None) is not None
+
+
+def _via_only(t: Terminal) -> bool:
+    return bool(t.cells) and all(_is_via(s) for s in t.cells.values())
+
+
+def _price_exits(grid: RoutingGrid, space: SearchSpace, terms: list, first: int, via: int = 0,
+                 bend: int = 0) -> dict:
     """Exits off the grid (stubs, necks) priced by the grid points beside them: the search
     pays a cell's extra cost (congestion, history, reserved exits) only on entering it, so an
     exit would cross other nets' claims for free. Each exit's access cell is charged the
     extra cost of the grid points within half a pitch of the exit (a target pays it on
     entering); the first terminal, where searches start at no cost, keeps only the exits
-    priced within one grid step of its cheapest. Returns the first terminal's cells."""
+    priced within one grid step of its cheapest. Returns the first terminal's cells.
+
+    An escape via (:class:`router.escape.EscapeVia`) is priced like any via the search lays:
+    `via`, the hole's cost at its place, the cell it takes on the pad's layer, and, when a link
+    leaves it on the pad's layer, a `bend` (the contract's bend at a via: a path that arrives on
+    the other layer at a right angle to the link turns there; one that arrives in line with the
+    link does not, and pays it all the same, as the search cannot tell them apart at a target)."""
     from .search import STEP
     keep = dict(terms[first].cells)
     for k, t in enumerate(terms):
         price = {}
         for c, stub in t.cells.items():
-            if not stub:
-                continue
-            pts = set()
-            for a, b in zip(stub, stub[1:]):
-                pts.update(grid.near_points(a, b, c[0]))
-            pts.discard(c)
-            price[c] = int(sum(space.cell_cost(*q) for q in pts))
+            if stub:
+                price[c] = _exit_price(grid, space, c, stub, via, bend)
         if not price or not any(price.values()):
             continue
         if k == first:
@@ -522,15 +613,46 @@ def _price_exits(grid: RoutingGrid, space: SearchSpace, terms: list, first: int)
     return keep
 
 
-def _find(grid, space, sources, targets, bend, via, jump, order=(0, 1, 2, 3)):
+def _exit_price(grid: RoutingGrid, space: SearchSpace, c, stub, via: int, bend: int) -> int:
+    """The price of an exit off the grid at access cell `c` (see :func:`_price_exits`)."""
+    from .search import STEP
+    esc = _is_via(stub)
+    layer = stub.layer if esc else c[0]
+    pts = set()
+    for a, b in zip(stub, stub[1:]):
+        pts.update(grid.near_points(a, b, layer))
+    pts.discard(c)
+    if esc:
+        pts.add((stub.layer, stub.via[0], stub.via[1]))
+    price = int(sum(space.cell_cost(*q) for q in pts))
+    if esc:
+        run = sum(abs(a[0] - b[0]) + abs(a[1] - b[1]) for a, b in zip(stub, stub[1:]))
+        # the via, its hole, the link as grid steps, a bend where a link leaves it, and one unit
+        # more, so that a way of equal cost on the pad's own layer wins the tie
+        price += (via + space.hole_cost(*stub.via) + int(round(STEP * run / grid.pitch))
+                  + (bend if len(stub) > 1 else 0) + 1)
+    return price
+
+
+def _find(grid, space, sources, targets, bend, via, jump, order=(0, 1, 2, 3), escapes=None):
     """find_path, with a hole of the path too near an earlier one of the same path closed and the
-    search run again (up to 32 times)."""
+    search run again (up to 32 times). `escapes` = (tree, owner, terms, route): an escape via at
+    the path's start or end keeps the hole spacing from the path's vias (theirs are closed) and
+    from the route's vias (that target is dropped)."""
     path = None
     for _ in range(32):
         path = find_path(space, sources, targets, bend=bend, via=via, jump=jump, order=order)
         if path is None:
             return None
         clash = _hole_clash(grid, path.cells)
+        if clash is None and escapes is not None:
+            clash, drop = _escape_clash(grid, path.cells, *escapes)
+            if drop is not None:
+                targets = targets[~np.all(targets == np.array(drop, dtype=np.int64), axis=1)]
+                if not len(targets):
+                    return None
+                path = None
+                continue
         if clash is None:
             return path
         path = None
@@ -540,6 +662,33 @@ def _find(grid, space, sources, targets, bend, via, jump, order=(0, 1, 2, 3)):
         else:
             space.via_ok[j, i] = 0
     return path
+
+
+def _escape_clash(grid, cells, tree, owner, terms, route):
+    """For an escape via at a path's start or end: (grid point of a via of the path closer
+    than min_hole_spacing to it, or None; the end cell to drop when its escape via is that
+    close to a via the route has already laid, or None)."""
+    start = tuple(int(v) for v in cells[0])
+    end = tuple(int(v) for v in cells[-1])
+    s_stub = tree.get(start)
+    k = owner.get(end)
+    e_stub = terms[k].cells.get(end) if k is not None else None
+    esc = [st for st in (s_stub, e_stub) if _is_via(st)]
+    if not esc:
+        return None, None
+    need = 2 * grid.via_drill / 2 + grid.rules.min_hole_spacing - TOL
+    pts = {st.via: grid.point(*st.via) for st in esc}
+    if _is_via(e_stub):
+        p = pts[e_stub.via]
+        laid = [grid.point(j, i) for j, i in route.vias]
+        if _is_via(s_stub) and s_stub.via != e_stub.via:
+            laid.append(pts[s_stub.via])
+        if any(math.dist(p, q) < need for q in laid):
+            return None, end
+    for (j, i), at in _path_holes(grid, cells):
+        if any(math.dist(at, p) < need for p in pts.values()):
+            return (j, i), None
+    return None, None
 
 
 class _Nearest:

@@ -14,10 +14,11 @@ another commit; ``--commit 913f18d`` is the router before the via pass that move
 subprocess whose PYTHONPATH points at it. Both routed
 boards are checked by today's ``check`` (one judge for both). One line per board:
 
-    seed  nets  pads  | routed  violations  vias  bound  v1  necks  seconds | baseline routed  violations  vias  seconds | both  vias  base
+    seed  nets  pads  | routed  violations  vias  bound  v1  necks  esc  seconds | baseline routed  violations  vias  seconds | both  vias  base
 
 (bound: the vias the nets' pad layers force, ``figures.vias_lower_bound``; v1: today's vias on nets
-whose pads all lie on one layer, which could route with none; both: the nets both routers routed,
+whose pads all lie on one layer, which could route with none; esc: escape vias beside surface pads,
+``figures`` ``escape_vias``; both: the nets both routers routed,
 with today's and the baseline's vias on just those nets, as a router that leaves hard nets unrouted
 also leaves their vias out)
 
@@ -81,7 +82,7 @@ def figures(board, seconds: float) -> dict:
         per_net[v.net] = per_net.get(v.net, 0) + 1
     return {"routed": t["routed"], "nets": t["nets"], "violations": len(viol), "vias": t["vias"],
             "seconds": seconds, "joined": {n for n, ok in routed(board).items() if ok}, "net_vias": per_net,
-            "bends": t["bends"], "length": t["length"], "necks": t.get("necks", 0), "vias_bound": t.get("vias_lower_bound", 0),
+            "bends": t["bends"], "length": t["length"], "necks": t.get("necks", 0), "escape_vias": t.get("escape_vias", 0), "vias_bound": t.get("vias_lower_bound", 0),
             "vias_one_layer": t.get("vias_on_one_layer_nets", 0)}
 
 
@@ -122,7 +123,7 @@ def main(argv=None) -> int:
     if not args.no_baseline:
         ensure_baseline(args.baseline, args.commit)
     head = (f"{'seed':>4} {'nets':>4} {'pads':>5} | {'routed':>7} {'viol':>4} {'vias':>4} {'bound':>5} "
-            f"{'v1':>4} {'necks':>5} {'sec':>6}"
+            f"{'v1':>4} {'necks':>5} {'esc':>4} {'sec':>6}"
             + ("" if args.no_baseline else f" | {'base routed':>11} {'viol':>4} {'vias':>4} {'sec':>6} "
                                             f"| {'both':>4} {'vias':>4} {'base':>4}"))
     print(head)
@@ -145,7 +146,7 @@ def main(argv=None) -> int:
             clean &= ours["routed"] == ours["nets"] and ours["violations"] == 0
             line = (f"{seed:>4} {ours['nets']:>4} {len(placed_pads(board)):>5} | "
                     f"{ours['routed']:>3}/{ours['nets']:<3} {ours['violations']:>4} {ours['vias']:>4} "
-                    f"{ours['vias_bound']:>5} {ours['vias_one_layer']:>4} {ours['necks']:>5} {ours['seconds']:>6.1f}")
+                    f"{ours['vias_bound']:>5} {ours['vias_one_layer']:>4} {ours['necks']:>5} {ours['escape_vias']:>4} {ours['seconds']:>6.1f}")
             for i, key in enumerate(("routed", "nets", "violations", "vias", "seconds", "bends", "length")):
                 tot["ours"][i] += ours[key]
             if not args.no_baseline:
