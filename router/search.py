@@ -18,8 +18,12 @@ a jumper neither), and a jumper may not leave straight from another's landing.
 The public wrapper is :func:`find_path`; the engine ``_astar`` is a
 numba-compiled A* with a bucket queue (Dial), integer costs, reusable work arrays stamped with a search
 number (so a search costs what it explores, not the grid size), and an
-admissible heuristic: the Manhattan gap to the targets' box, the turns still
-needed (each a bend), and a via when the current layer holds no target.
+admissible heuristic: the Manhattan gap to the targets' box, the turns still needed (each a
+bend), and a via when the current layer holds no target. Targets in clusters far apart
+(:func:`target_boxes`) are searched twice: first with the least of that heuristic over the
+clusters' boxes, which finds the least cost quickly, then keyed by the one box as before with
+every state that cannot reach a target within that cost left out, so the path chosen among
+equal ones is the plain search's, without its sweep of the whole box.
 
 States are (cell, layer, heading): headings 0..3 (east, north, west, south), 4 for
 none (a source), and on boards with jumpers 5..8 for "landed from a jumper heading
@@ -40,7 +44,7 @@ from typing import Optional
 import numpy as np
 from numba import njit
 
-__all__ = ["STEP", "LazyCosts", "SearchSpace", "Path", "find_path", "reference_graph", "path_cost"]
+__all__ = ["STEP", "LazyCosts", "SearchSpace", "Path", "find_path", "target_boxes", "reference_graph", "path_cost"]
 
 #: Cost of one grid step; penalties are in the same unit (a bend of B mm is round(STEP * B / pitch)).
 STEP = 100
@@ -376,6 +380,22 @@ def _heuristic(l, j, i, d, tx0, ty0, tx1, ty1, tlayer, step, turn, via_need_cost
 
 
 @njit(cache=True, inline="always")
+def _heuristic_boxes(l, j, i, d, boxes, tlayer, step, turn, via_need_cost):
+    """The least of :func:`_heuristic` over the targets' boxes: each is a lower bound for the
+    targets in its box, so the least is one for them all (admissible), and it stays sharp when
+    the targets lie in clusters far apart (one box around all of them would make the search a
+    plain Dijkstra everywhere inside it)."""
+    best = _heuristic(l, j, i, d, boxes[0, 0], boxes[0, 1], boxes[0, 2], boxes[0, 3], tlayer, step, turn,
+                      via_need_cost)
+    for b in range(1, boxes.shape[0]):
+        h = _heuristic(l, j, i, d, boxes[b, 0], boxes[b, 1], boxes[b, 2], boxes[b, 3], tlayer, step, turn,
+                       via_need_cost)
+        if h < best:
+            best = h
+    return best
+
+
+@njit(cache=True, inline="always")
 def _cell_extra(l, j, i, extra, lz, soft, hist, pf, cap, add_cell, has_add):
     """Cost of entering a cell: the array's (lz 0), from soft counts and history (1), none (2);
     then (lz 1, 2) plus add_cell when has_add, capped."""
@@ -418,7 +438,7 @@ def _hole_extra(j, i, hole_extra, lz, soft_via, hist_top, pf, crowd, cprice, cap
 
 @njit(cache=True)
 def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_rows, wire_cols, jump_cells,
-           sources, tmask, tx0, ty0, tx1, ty1, tlayer, step, bend, via, jump, order, nds,
+           sources, tmask, boxes, pboxes, bound, tlayer, step, bend, via, jump, order, nds,
            stamp_of, gbest, parent, stamp, head, ent_state, ent_g, ent_next,
            lz, soft, hist, soft_via, hist_top, pf, crowd, cprice, cap, add_cell, add_hole, has_add):
     """Dial's bucket queue over integer f = g + h; returns (end state or -1 or -2 when the pool is full, expanded).
@@ -443,10 +463,12 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_r
         s = ((l * ny + j) * nx + i) * nds + 4
         if stamp_of[s] == stamp:
             continue
+        if bound >= 0 and _heuristic_boxes(l, j, i, 4, pboxes, tlayer, step, turn, via_need) > bound:
+            continue            # no path from here costs the bound or less
         stamp_of[s] = stamp
         gbest[s] = 0
         parent[s] = -1
-        h = _heuristic(l, j, i, 4, tx0, ty0, tx1, ty1, tlayer, step, turn, via_need)
+        h = _heuristic_boxes(l, j, i, 4, boxes, tlayer, step, turn, via_need)
         if cur < 0 or h < cur:
             cur = h
         if used == cap:
@@ -555,12 +577,15 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_r
                         ng += bend          # the wire leaves across the path: a bend at its first end
                     ndir = 5 + nd
                 t = ((nl * ny + nj) * nx + ni) * nds + ndir
+                if bound >= 0 and ng + _heuristic_boxes(nl, nj, ni, ndir - 5 if ndir >= 5 else ndir, pboxes, tlayer,
+                                                        step, turn, via_need) > bound:
+                    continue        # no path through here costs the bound or less
                 if stamp_of[t] != stamp or ng < gbest[t]:
                     stamp_of[t] = stamp
                     gbest[t] = ng
                     parent[t] = s
                     nh = ndir - 5 if ndir >= 5 else ndir
-                    key = ng + _heuristic(nl, nj, ni, nh, tx0, ty0, tx1, ty1, tlayer, step, turn, via_need)
+                    key = ng + _heuristic_boxes(nl, nj, ni, nh, boxes, tlayer, step, turn, via_need)
                     if key < cur:
                         key = cur       # an inconsistent heuristic step: expand it next, as a heap would
                     if used == cap:
@@ -602,6 +627,53 @@ def _as_cells(rows, L, ny, nx, what) -> np.ndarray:
                    or (a[:, 2] < 0).any() or (a[:, 2] >= nx).any()):
         raise ValueError(f"{what} has a cell outside the grid {(L, ny, nx)}")
     return np.ascontiguousarray(a)
+
+
+#: At most this many boxes hold a search's targets for its heuristic (each costs a few
+#: comparisons per state; our choice).
+MAX_BOXES = 8
+#: Target boxes closer than this many cells are one box (a pad's access cells stay together, so
+#: the search over one terminal is the search over its one box; our choice).
+MERGE_GAP = 8
+#: Targets whose one box spans at most this many cells (width + height) keep that one box: the
+#: plain search inside a small box is cheap, cheaper than the two searches of far-apart targets
+#: (:func:`find_path`; our choice).
+ONE_BOX_SPAN = 64
+
+
+def target_boxes(targets: np.ndarray, most: int = MAX_BOXES, gap: int = MERGE_GAP) -> np.ndarray:
+    """Boxes (x0, y0, x1, y1) in cells, at most `most`, that hold every target cell (l, j, i):
+    the bounds of the targets in each square tile of the grid (the tile doubled until there are
+    at most 64), then the two nearest boxes joined into their bounds while they are less than
+    `gap` cells apart or more than `most`; one box when all the targets lie within
+    :data:`ONE_BOX_SPAN`. The search's heuristic is the least over them (:func:`_heuristic_boxes`):
+    targets in clusters far apart keep a box each."""
+    t = np.asarray(targets, dtype=np.int64).reshape(-1, 3)
+    one = np.array([[t[:, 2].min(), t[:, 1].min(), t[:, 2].max(), t[:, 1].max()]], dtype=np.int64)
+    if (one[0, 2] - one[0, 0]) + (one[0, 3] - one[0, 1]) <= ONE_BOX_SPAN:
+        return one
+    tile = max(1, int(gap))
+    while True:
+        key = (t[:, 1] // tile) * (1 << 31) + t[:, 2] // tile
+        groups, inv = np.unique(key, return_inverse=True)
+        if len(groups) <= 64:
+            break
+        tile *= 2
+    boxes = np.empty((len(groups), 4), dtype=np.int64)
+    for g in range(len(groups)):
+        m = inv == g
+        boxes[g] = (t[m, 2].min(), t[m, 1].min(), t[m, 2].max(), t[m, 1].max())
+    while len(boxes) > 1:
+        x0, y0, x1, y1 = (boxes[:, k] for k in range(4))
+        d = (np.maximum(0, np.maximum(x0[:, None] - x1[None, :], x0[None, :] - x1[:, None]))
+             + np.maximum(0, np.maximum(y0[:, None] - y1[None, :], y0[None, :] - y1[:, None])))
+        np.fill_diagonal(d, np.iinfo(np.int64).max)
+        a, b = divmod(int(np.argmin(d)), len(boxes))       # the first nearest pair: a fixed choice
+        if d[a, b] >= gap and len(boxes) <= most:
+            break
+        boxes[a] = (min(x0[a], x0[b]), min(y0[a], y0[b]), max(x1[a], x1[b]), max(y1[a], y1[b]))
+        boxes = np.delete(boxes, b, axis=0)
+    return boxes
 
 
 def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump: int = 0,
@@ -656,8 +728,8 @@ def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump
     tmask[tgt[:, 0], tgt[:, 1], tgt[:, 2]] = 1
     tlayer = np.zeros(L, dtype=np.uint8)
     tlayer[np.unique(tgt[:, 0])] = 1
-    tx0, tx1 = int(tgt[:, 2].min()), int(tgt[:, 2].max())
-    ty0, ty1 = int(tgt[:, 1].min()), int(tgt[:, 1].max())
+    boxes = target_boxes(tgt)
+    one = np.array([[tgt[:, 2].min(), tgt[:, 1].min(), tgt[:, 2].max(), tgt[:, 1].max()]], dtype=np.int64)
     order = np.asarray(order, dtype=np.int64)
     if sorted(order.tolist()) != [0, 1, 2, 3]:
         raise ValueError(f"order must hold each heading 0..3 once, not {order.tolist()}")
@@ -669,18 +741,36 @@ def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump
     span += step * (nx + ny) + 2 * max(bend, via, jump)     # spread of the sources' keys
     head = ws.buckets(span)
     lazy_args = _lazy_args(space, L)
-    try:
+    def run(key_boxes, prune_boxes, bound):
         while True:
             stamp = ws.next_stamp()
-            end, expanded = _astar(space.open_cell, space.open_h, space.open_v, space.via_ok, space.extra,
-                                   space.hole_extra,
-                                   jump_ok, wire_rows, wire_cols, jump_cells, src, tmask, tx0, ty0, tx1, ty1,
-                                   tlayer, int(step), int(bend), int(via), int(jump), order, nds,
-                                   ws.stamp_of, ws.g, ws.parent, stamp, head, ws.ent_state, ws.ent_g, ws.ent_next,
-                                   *lazy_args)
+            end, n = _astar(space.open_cell, space.open_h, space.open_v, space.via_ok, space.extra,
+                            space.hole_extra,
+                            jump_ok, wire_rows, wire_cols, jump_cells, src, tmask, key_boxes, prune_boxes, bound,
+                            tlayer, int(step), int(bend), int(via), int(jump), order, nds,
+                            ws.stamp_of, ws.g, ws.parent, stamp, head, ws.ent_state, ws.ent_g, ws.ent_next,
+                            *lazy_args)
             if end != -2:
-                break
+                return end, n
             ws.grow_pool(2 * ws.ent_state.shape[0])
+
+    try:
+        if len(boxes) == 1:
+            end, expanded = run(one, one, -1)
+        else:
+            # targets in clusters far apart: first the least cost, with the heuristic the least over
+            # the clusters' boxes (sharp, so the search stays near the clusters); then the search
+            # keyed by the one box around all targets as before, with every state whose bound over
+            # the clusters exceeds that cost left out: the same choice among equal paths as the
+            # plain search, without its sweep of the whole box
+            end, expanded = run(boxes, boxes, -1)
+            if end >= 0:
+                best = int(ws.g[end])
+                end, n = run(one, boxes, best)
+                expanded += n
+                if end < 0:              # not expected (the bound is admissible); the plain search then
+                    end, n = run(one, one, -1)
+                    expanded += n
     finally:
         tmask[tgt[:, 0], tgt[:, 1], tgt[:, 2]] = 0
     if end < 0:

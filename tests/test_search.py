@@ -8,7 +8,7 @@ import networkx as nx
 import numpy as np
 import pytest
 
-from router.search import STEP, SearchSpace, find_path, path_cost, reference_graph
+from router.search import MAX_BOXES, STEP, SearchSpace, find_path, path_cost, reference_graph, target_boxes
 
 
 def space_from(rows, layers=1, via_ok=None, extra=None, **kw):
@@ -205,6 +205,65 @@ def test_optimal_cost_equals_networkx_dijkstra(seed):
         assert p is not None and p.cost == ref
         assert path_cost(sp, p.cells, bend=bend, via=via, jump=jump) == ref
         assert p.cells[0].tolist() in src.tolist() and p.cells[-1].tolist() in tgt.tolist()
+
+
+def test_target_boxes_hold_every_target_and_are_few():
+    rng = np.random.default_rng(5)
+    for n in (1, 3, 40, 400):
+        t = np.stack([rng.integers(0, 2, n), rng.integers(0, 300, n), rng.integers(0, 500, n)], axis=1)
+        boxes = target_boxes(t)
+        assert 1 <= len(boxes) <= MAX_BOXES
+        inside = ((t[:, None, 2] >= boxes[None, :, 0]) & (t[:, None, 2] <= boxes[None, :, 2])
+                  & (t[:, None, 1] >= boxes[None, :, 1]) & (t[:, None, 1] <= boxes[None, :, 3]))
+        assert inside.any(axis=1).all()
+    # two clusters far apart keep a box each (not one box spanning the gap between them)
+    t = np.array([(0, 2, 2), (0, 3, 3), (0, 50, 60), (0, 51, 61)])
+    assert sorted(target_boxes(t).tolist()) == [[2, 2, 3, 3], [60, 50, 61, 51]]
+    # within ONE_BOX_SPAN: one box, the targets' bounds
+    t = np.array([(0, 2, 2), (0, 3, 3), (0, 20, 30), (0, 21, 31)])
+    assert target_boxes(t).tolist() == [[2, 2, 31, 21]]
+
+
+@pytest.mark.parametrize("seed", range(12))
+def test_clustered_targets_cost_equals_networkx_dijkstra(seed):
+    """Targets in clusters far apart (the heuristic is the least over several boxes, and with
+    more clusters than MAX_BOXES the boxes are merged): the cost is still networkx's."""
+    rng = np.random.default_rng(100 + seed)
+    L = 1 + seed % 2
+    ny, nx_ = int(rng.integers(36, 56)), int(rng.integers(36, 56))
+    sp = random_space(rng, L, ny, nx_, density=0.2)
+    k = int(rng.integers(2, 14))
+    centres = np.stack([rng.integers(0, ny, k), rng.integers(0, nx_, k)], axis=1)
+    tgt = []
+    for cj, ci in centres:
+        for _ in range(3):
+            tgt.append((int(rng.integers(0, L)), int(np.clip(cj + rng.integers(-1, 2), 0, ny - 1)),
+                        int(np.clip(ci + rng.integers(-1, 2), 0, nx_ - 1))))
+    tgt = np.array(tgt)
+    assert len(target_boxes(tgt)) > 1 or (np.ptp(tgt[:, 1]) + np.ptp(tgt[:, 2])) <= 64
+    src = np.stack([rng.integers(0, L, 5), rng.integers(0, ny, 5), rng.integers(0, nx_, 5)], axis=1)
+    bend, via = int(rng.integers(0, 500)), int(rng.integers(0, 900))
+    p = find_path(sp, src, tgt, bend=bend, via=via)
+    G = reference_graph(sp, src, tgt, bend=bend, via=via)
+    try:
+        ref = nx.dijkstra_path_length(G, "S", "T")
+    except (nx.NetworkXNoPath, nx.NodeNotFound):
+        ref = None
+    if ref is None:
+        assert p is None
+    else:
+        assert p is not None and p.cost == ref
+
+
+def test_far_clusters_search_less_than_one_box():
+    """A target cluster near the source and one far off: with a box per cluster the search
+    stays near the source; one box over both would make every state inside it look free."""
+    sp = space_from(["." * 120] * 120)
+    src = [(0, 60, 60)]
+    tgt = [(0, 60, 64), (0, 119, 119), (0, 0, 0)]
+    p = find_path(sp, src, tgt, bend=50, via=0)
+    # hand-worked: a straight run of four steps east; the states on it and the first steps off it
+    assert p.cost == 4 * STEP and p.expanded <= 12
 
 
 def _independent_graph(sp, src, tgt, bend, via):
