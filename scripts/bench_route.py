@@ -1,6 +1,7 @@
 """Route generated boards of growing size; completion, exact-check violations, bends and seconds.
 
-Usage: python scripts/bench_route.py [--quick] [--layers 2] [--seeds 1] [--big | --big-only] [--pads 1300 [--enclosed 3]]
+Usage: python scripts/bench_route.py [--quick] [--layers 2] [--seeds 1] [--big | --big-only]
+                                    [--pads 1300 [--real-nets 150] [--enclosed 3] [--commit REV [--limit S]]]
 
 For each board: nets, grid cells (layers x nx x ny), nets routed, violations found by
 the independent exact check (router.check, shapely geometry, not the router's grid),
@@ -18,7 +19,11 @@ routing (tracemalloc, MB).
 ``--pads N`` routes real-looking boards (:mod:`router.realgen`) of about N pads and ``--real-nets``
 nets instead, once as generated and once with ``--enclosed`` pads walled in by keepouts (no
 route can reach them: found once and reported), after a real-looking board of 30 nets as the
-reference of the seconds per (nets x cells) ratio.
+reference of the seconds per (nets x cells) ratio (its seconds printed first, as the reference line).
+With ``--commit REV``, each of those boards (written to a file and read back) is routed by the
+router of REV too, in a checkout ``/tmp/elbowroom-REV`` (``git worktree add``, as
+``scripts/stress_real.py`` does) and a process of its own, stopped after ``--limit`` seconds: its
+wall and CPU seconds, routed nets and vias beside today's, and today's CPU seconds over REV's.
 """
 from __future__ import annotations
 
@@ -58,6 +63,9 @@ def main(argv=None) -> int:
                          "with and without --enclosed pads no route can reach")
     ap.add_argument("--real-nets", type=int, default=150)
     ap.add_argument("--enclosed", type=int, default=3, help="walled-in pads on the second --pads board")
+    ap.add_argument("--commit", metavar="REV", help="--pads: route the same boards with the router of REV too")
+    ap.add_argument("--limit", type=float, default=600.0, metavar="S",
+                    help="--commit: stop REV's routing of one board after S seconds (default 600)")
     ap.add_argument("--trace-memory", action="store_true", help="peak allocations per board (tracemalloc; slower)")
     ap.add_argument("--bend-penalty", type=float, default=None, metavar="B",
                     help="cost of one bend in mm of trace (default: route's default)")
@@ -137,9 +145,16 @@ def _route_one(spec: dict) -> dict:
 
 def real_pads(args) -> int:
     """Real-looking boards of many pads: nets, pads, cells, routed, violations, vias, seconds, memory."""
+    ref_dir = None
+    if args.commit:
+        sys.path.insert(0, str(Path(__file__).resolve().parent))
+        from stress_real import ensure_baseline
+        ref_dir = Path(f"/tmp/elbowroom-{args.commit}")
+        ensure_baseline(ref_dir, args.commit)
     print(f"{'pads':>5} {'nets':>5} {'enclosed':>8} {'cells':>8} {'routed':>8} {'viol':>5} {'vias':>5} "
           f"{'passes':>6} {'seconds':>8} {'cpu s':>7} {'s/(n*c) ratio':>13} {'base MB':>7} {'peak MB':>7} {'MB/Mcell':>8} "
-          f"{'traced':>6}")
+          f"{'traced':>6}" + (f" | {'ref routed':>10} {'vias':>5} {'seconds':>8} {'cpu s':>8} {'cpu/ref':>7}"
+                               if ref_dir else ""))
     bad = 0
     ref = None
     runs = [(0, 30, None, 0)]                        # the reference: a real-looking board of 30 nets
@@ -148,16 +163,61 @@ def real_pads(args) -> int:
         m = _in_own_process(dict(kind="real", seed=seed, nets=nets, pads=pads, enclosed=enclosed,
                                  trace=args.trace_memory))
         per = m["cpu"] / (m["nets"] * m["cells"]) * 1e6
-        ref = per if ref is None else ref
+        if ref is None:
+            ref = per
+            print(f"reference (this run): the {m['nets']}-net board below, {m['cpu']:.2f} CPU s, "
+                  f"{m['seconds']:.2f} s wall; ratio = CPU s per (nets x cells) over its")
         bad += m["viol"]
-        print(f"{m['pads']:>5} {m['nets']:>5} {enclosed:>8} {m['cells']:>8} {m['routed']:>4}/{m['nets']:<3} "
-              f"{m['viol']:>5} {m['totals']['vias']:>5} {m['passes']:>6} {m['seconds']:>8.2f} {m['cpu']:>7.2f} "
-              f"{per / ref:>13.2f} "
-              f"{m['base_mb']:>7.0f} {m['peak_mb']:>7.0f} {(m['peak_mb'] - m['base_mb']) / m['cells'] * 1e6:>8.0f} {m['traced']:>6}",
-              flush=True)
+        line = (f"{m['pads']:>5} {m['nets']:>5} {enclosed:>8} {m['cells']:>8} {m['routed']:>4}/{m['nets']:<3} "
+                f"{m['viol']:>5} {m['totals']['vias']:>5} {m['passes']:>6} {m['seconds']:>8.2f} {m['cpu']:>7.2f} "
+                f"{per / ref:>13.2f} "
+                f"{m['base_mb']:>7.0f} {m['peak_mb']:>7.0f} {(m['peak_mb'] - m['base_mb']) / m['cells'] * 1e6:>8.0f} "
+                f"{m['traced']:>6}")
+        if ref_dir:
+            o = _route_at(ref_dir, seed, nets, pads, enclosed, args.limit)
+            if "error" in o:
+                line += f" | {o['error']}"
+            else:
+                line += (f" | {o['routed']:>6}/{m['nets']:<3} {o['vias']:>5} {o['seconds']:>8.2f} {o['cpu']:>8.2f} "
+                         f"{m['cpu'] / o['cpu']:>7.2f}")
+        print(line, flush=True)
         for net, why in m["failed"].items():
             print(f"      not routed: {net}: {why}")
     return 0 if bad == 0 else 1
+
+
+_REF_WORKER = r"""
+import json, sys, time
+from router import load_board
+from router.negotiate import route_board
+b = load_board(sys.argv[1])
+t, c = time.perf_counter(), time.process_time()
+r = route_board(b)
+print(json.dumps(dict(seconds=time.perf_counter() - t, cpu=time.process_time() - c,
+                      routed=r.figures["totals"]["routed"], vias=r.figures["totals"]["vias"])))
+"""
+
+
+def _route_at(checkout: Path, seed: int, nets: int, pads, enclosed: int, limit: float) -> dict:
+    """One board routed by the router in `checkout` (its own process, at most `limit` seconds)."""
+    import json
+    import os
+    import subprocess
+    import tempfile
+    from router.boardfile import dumps_board
+    from router.realgen import real_board
+    with tempfile.TemporaryDirectory() as td:
+        src = Path(td) / "board.toml"
+        src.write_text(dumps_board(real_board(seed, nets, pads=pads, enclosed=enclosed)))
+        env = dict(os.environ, PYTHONPATH=str(checkout))
+        try:
+            p = subprocess.run([sys.executable, "-c", _REF_WORKER, str(src)], env=env, capture_output=True,
+                               text=True, cwd=td, timeout=limit)
+        except subprocess.TimeoutExpired:
+            return {"error": f"not done in {limit:.0f} s"}
+    if p.returncode != 0:
+        return {"error": (p.stderr.strip().splitlines() or ["failed"])[-1][:60]}
+    return json.loads(p.stdout.strip().splitlines()[-1])
 
 
 if __name__ == "__main__":
