@@ -331,8 +331,9 @@ def escape_vias(grid, space, net: str, pad: PlacedPad, others=None, most: int = 
     keepouts and other parts' keepout bodies (:meth:`RoutingGrid.segment_clear` with the
     via's diameter as the width), and ``min_hole_spacing`` from every hole (the grid's via
     places, exact at grid points). A via whose disc does not touch the pad is joined to it by
-    a straight link along x or y on the pad's layer (the class width, or where that does not
-    fit a neck of ``neck_width``), checked exactly with the footprint's own pad spacing as for
+    a link on the pad's layer (the class width, or where that does not fit a neck of
+    ``neck_width``): straight along x or y, or out along the pad's middle line and at most a
+    grid pitch sideways, as a pad exit leaves; checked exactly with the footprint's own pad spacing as for
     any escaping trace within ``neck_length``. The via's grid point must be open to the net on
     the other layer: the search reaches the place there and pays for the via and the link
     (:func:`router.nets._price_exits`).
@@ -374,8 +375,9 @@ def escape_vias(grid, space, net: str, pad: PlacedPad, others=None, most: int = 
             at = ev[-1]
             if not all(grid.segment_clear(net, at, at, l, grid.via_d, others) for l in range(grid.L)):
                 continue
-            if len(ev) > 1 and not grid.segment_clear(net, ev[0], ev[1], ev.layer, ev.width, others,
-                                                      base=_relaxed_base(grid, net, pad)):
+            if len(ev) > 1 and not all(grid.segment_clear(net, a, b, ev.layer, ev.width, others,
+                                                          base=_relaxed_base(grid, net, pad))
+                                       for a, b in zip(ev, ev[1:]) if a != b):
                 continue
         found[(lb, j, i)] = ev
         if len(found) >= most:
@@ -402,35 +404,45 @@ def _escape_via_places(grid, net: str, pad: PlacedPad, la: int, most: int) -> li
     dist = shapely.distance(core, shapely.points(gx_.ravel(), gy_.ravel())).reshape(gx_.shape) - rad
     # the grid's via places: edge, keepouts, hole spacing to every fixed hole, clear of every pad
     ok = (dist >= vr - TOL) & (dist <= nl + TOL) & grid.base_via[ja:jb, ia:ib]
+    cx, cy = (x0 + x1) / 2, (y0 + y1) / 2
     cands = []
     for j, i in zip(*np.nonzero(ok)):
         x, y = float(X[i]), float(Y[j])
+        links = []
         if float(dist[j, i]) <= vr + TOL:
-            link = ((x, y),)                        # the via's disc touches the pad
+            links.append(((x, y),))                  # the via's disc touches the pad
         elif pad.angle:
             from .nets import _turned_stub
             st = _turned_stub(core, rad, (x, y), reach + g)
-            if st is None:
-                continue
-            link = (st[0], (x, y))
-        elif x0 - TOL <= x <= x1 + TOL:             # straight along y from the pad's core
-            link = ((x, min(max(y, y0), y1)), (x, y))
-        elif y0 - TOL <= y <= y1 + TOL:             # straight along x
-            link = ((min(max(x, x0), x1), y), (x, y))
+            if st is not None:
+                links.append((st[0], (x, y)))
         else:
-            continue
-        link = tuple((round(px, 6), round(py, 6)) for px, py in link)
-        cands.append((float(dist[j, i]), math.hypot(x - pad.x, y - pad.y), int(j + ja), int(i + ia), link))
-    cands.sort(key=lambda c: (c[0], c[1], c[2], c[3]))
+            # straight along y (x) from the pad's core; or, as a pad exit leaves, out along the
+            # pad's middle line and a short step (at most a pitch) sideways to the via's point
+            if x0 - TOL <= x <= x1 + TOL:
+                links.append(((x, min(max(y, y0), y1)), (x, y)))
+                if abs(x - cx) <= g + TOL and x != cx:
+                    links.append(((cx, min(max(y, y0), y1)), (cx, y), (x, y)))
+            if y0 - TOL <= y <= y1 + TOL:
+                links.append(((min(max(x, x0), x1), y), (x, y)))
+                if abs(y - cy) <= g + TOL and y != cy:
+                    links.append(((min(max(x, x0), x1), cy), (x, cy), (x, y)))
+        for link in links:
+            link = tuple((round(px, 6), round(py, 6)) for px, py in link)
+            cands.append((float(dist[j, i]), math.hypot(x - pad.x, y - pad.y), int(j + ja), int(i + ia), link))
+    cands.sort(key=lambda c: (c[0], c[1], c[2], c[3], len(c[4])))
     relaxed = _relaxed_base(grid, net, pad)
     widths = [prof.width] + ([nw] if nw < prof.width - TOL else [])
     out = []
     for _, _, j, i, link in cands[:_VIA_TRIES]:
+        if out and out[-1][:2] == (j, i):
+            continue                             # this place has its link already
         at = link[-1]
         if not all(grid.segment_clear(net, at, at, l, 2 * vr) for l in range(grid.L)):
             continue
         width = prof.width if len(link) == 1 else next(
-            (w for w in widths if grid.segment_clear(net, link[0], link[1], la, w, base=relaxed)), None)
+            (w for w in widths if all(grid.segment_clear(net, a, b, la, w, base=relaxed)
+                                      for a, b in zip(link, link[1:]) if a != b)), None)
         if width is None:
             continue
         ev = EscapeVia(link)
@@ -447,7 +459,8 @@ def escape_via_pads(board: Board) -> dict[int, str]:
     An escape via is a via of a two-layer board that lies within its class's ``neck_length``
     (centre to copper) of a surface pad of its net, outside that pad's copper, and joins it on
     the pad's layer: its disc touches the pad, or a straight segment of a trace of its net on
-    that layer runs from the via's centre to the pad's copper. The nearest such pad names it.
+    that layer, or a whole such trace, runs from the via's centre to the pad's copper. The
+    nearest such pad names it.
     """
     if len(board.layers) < 2 or not board.vias:
         return {}
@@ -455,13 +468,16 @@ def escape_via_pads(board: Board) -> dict[int, str]:
     by_net: dict[str, list] = defaultdict(list)
     for p in pads:
         by_net[p.net].append((p, pad_core(p)))
-    ends: dict = defaultdict(list)            # (net, layer, point) -> other ends of segments there
+    ends: dict = defaultdict(list)            # (net, layer, point) -> far ends of segments and traces there
     for t in board.traces:
         pts = [(float(x), float(y)) for x, y in t.points]
         for a, b in zip(pts, pts[1:]):
             if a != b:
                 ends[(t.net, t.layer, a)].append((b, t.width))
                 ends[(t.net, t.layer, b)].append((a, t.width))
+        if len(pts) > 2:
+            ends[(t.net, t.layer, pts[0])].append((pts[-1], t.width))
+            ends[(t.net, t.layer, pts[-1])].append((pts[0], t.width))
     out = {}
     for vi, v in enumerate(board.vias):
         nc = board.net_class(v.net)

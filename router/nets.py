@@ -238,9 +238,12 @@ def _add_stub(grid: RoutingGrid, space: SearchSpace, route: NetRoute, stub, laye
             return                       # the via's disc touches the pad
         if stub.width < grid.profile_of(route.net).width - TOL:
             route.necks.append((tuple(stub), stub.layer, stub.width))
-        else:
-            route.stubs.append((stub[0], stub[1], stub.layer))
-        route.near.update(grid.near_points(stub[0], stub[1], stub.layer))
+        for a, b in zip(stub, stub[1:]):
+            if a == b:
+                continue
+            if stub.width >= grid.profile_of(route.net).width - TOL:
+                route.stubs.append((a, b, stub.layer))
+            route.near.update(grid.near_points(a, b, stub.layer))
         return
     neck = getattr(stub, "width", None)
     if neck is not None:                 # a neck is written as a trace of its own width
