@@ -133,3 +133,34 @@ def test_report_counts_escape_vias_and_names_their_pads():
     assert "escape vias: 2" in text and "P at U1.1" in text and "Q at J2.1" in text
     # a one-layer board has none
     assert escape_via_pads(pocket(layers=1)) == {}
+
+
+def test_a_fine_pitch_pad_off_the_grid_gets_a_via_place_by_its_middle_line():
+    """A 0.5 mm pitch row (JEDEC MO-220 quad no-lead: 0.8 x 0.25 mm pads, the test part of
+    tests/test_exits.py) whose pads' middle lines lie half a pitch off the grid: a link along a
+    pad's edge line passes 0.25 mm from the neighbouring pad, less the 0.075 mm half neck leaves
+    0.175 mm, under the 0.2 mm clearance; out along the middle line (0.375 - 0.075 = 0.3 mm from
+    the neighbour) and one step of 0.125 mm sideways it fits. shapely measures the offered link
+    and via against every other pad of the row."""
+    from router.realgen import _quad
+    from router.escape import _escape_via_places
+    q = _quad(32)
+    rules = Rules(grid=0.25, edge_clearance=0.4, min_trace_width=0.15, min_clearance=0.15,
+                  via_drill=0.3, via_diameter=0.6, min_hole_spacing=0.3)
+    b = Board("row", [(0, 0), (30, 0), (30, 30), (0, 30)], copper_layers=2, rules=rules,
+              classes={"default": NetClass("default", 0.25, 0.2), "power": NetClass("power", 0.5, 0.2)},
+              footprints={q.name: q}, parts=[Part("U1", q.name, at=(18.125, 16.125))],
+              nets=[Net("VCC", ["U1.15"], "power")])
+    grid = RoutingGrid(b)
+    pad = next(p for p in grid.pads if p.name == "U1.15")
+    assert abs(pad.y / 0.25 - round(pad.y / 0.25)) == pytest.approx(0.5)      # its middle line off the grid
+    places = _escape_via_places(grid, "VCC", pad, 0, 8)
+    assert places
+    others = [box(*p.bounds()) for p in grid.pads if p.ref == "U1" and p.pin != "15"]
+    for _, _, ev in places:
+        assert len(ev) == 3 and ev[0][1] == ev[1][1] == pytest.approx(pad.y)       # out along the middle line
+        assert abs(ev[2][1] - pad.y) == pytest.approx(0.125)                    # one short step sideways
+        line = LineString(ev)
+        assert min(line.distance(o) for o in others) - ev.width / 2 >= 0.2 - TOL
+        assert min(Point(ev[-1]).distance(o) for o in others) - 0.3 >= 0.2 - TOL
+        assert Point(ev[-1]).distance(box(*pad.bounds())) >= 0.3 - TOL        # outside the pad's copper
