@@ -182,6 +182,21 @@ def random_space(rng, L, ny, nx_, density=0.25, jumpers=False):
     return SearchSpace(cell, oh, ov, via_ok, extra, **kw)
 
 
+def _search_and_networkx(sp, src, tgt, **pen):
+    """Our search's path and networkx's Dijkstra cost on the same state graph (None: no path);
+    asserts that both find a path or neither does, and at the same cost."""
+    p = find_path(sp, src, tgt, **pen)
+    try:
+        ref = nx.dijkstra_path_length(reference_graph(sp, src, tgt, **pen), "S", "T")
+    except (nx.NetworkXNoPath, nx.NodeNotFound):
+        ref = None
+    if ref is None:
+        assert p is None
+    else:
+        assert p is not None and p.cost == ref
+    return p, ref
+
+
 @pytest.mark.parametrize("seed", range(60))
 def test_optimal_cost_equals_networkx_dijkstra(seed):
     rng = np.random.default_rng(seed)
@@ -193,16 +208,8 @@ def test_optimal_cost_equals_networkx_dijkstra(seed):
         return np.stack([rng.integers(0, L, n), rng.integers(0, ny, n), rng.integers(0, nx_, n)], axis=1)
     src, tgt = cells(int(rng.integers(1, 4))), cells(int(rng.integers(1, 4)))
     bend, via, jump = int(rng.integers(0, 500)), int(rng.integers(0, 900)), int(rng.integers(0, 900))
-    p = find_path(sp, src, tgt, bend=bend, via=via, jump=jump)
-    G = reference_graph(sp, src, tgt, bend=bend, via=via, jump=jump)
-    try:
-        ref = nx.dijkstra_path_length(G, "S", "T")
-    except (nx.NetworkXNoPath, nx.NodeNotFound):
-        ref = None
-    if ref is None:
-        assert p is None
-    else:
-        assert p is not None and p.cost == ref
+    p, ref = _search_and_networkx(sp, src, tgt, bend=bend, via=via, jump=jump)
+    if ref is not None:
         assert path_cost(sp, p.cells, bend=bend, via=via, jump=jump) == ref
         assert p.cells[0].tolist() in src.tolist() and p.cells[-1].tolist() in tgt.tolist()
 
@@ -243,16 +250,7 @@ def test_clustered_targets_cost_equals_networkx_dijkstra(seed):
     assert len(target_boxes(tgt)) > 1 or (np.ptp(tgt[:, 1]) + np.ptp(tgt[:, 2])) <= 64
     src = np.stack([rng.integers(0, L, 5), rng.integers(0, ny, 5), rng.integers(0, nx_, 5)], axis=1)
     bend, via = int(rng.integers(0, 500)), int(rng.integers(0, 900))
-    p = find_path(sp, src, tgt, bend=bend, via=via)
-    G = reference_graph(sp, src, tgt, bend=bend, via=via)
-    try:
-        ref = nx.dijkstra_path_length(G, "S", "T")
-    except (nx.NetworkXNoPath, nx.NodeNotFound):
-        ref = None
-    if ref is None:
-        assert p is None
-    else:
-        assert p is not None and p.cost == ref
+    _search_and_networkx(sp, src, tgt, bend=bend, via=via)
 
 
 def test_far_clusters_search_less_than_one_box():
