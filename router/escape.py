@@ -453,6 +453,18 @@ def _escape_via_places(grid, net: str, pad: PlacedPad, la: int, most: int) -> li
     return out
 
 
+def _pads_by_net(board: Board, surface: bool = False) -> dict[str, list]:
+    """Net -> [(placed pad, (exact core, radius))], from the board resolved once
+    (:func:`router.layout.resolve`); with `surface`, pads without a hole only."""
+    from .layout import resolve
+    lay = resolve(board)
+    by_net: dict[str, list] = defaultdict(list)
+    for k, p in enumerate(lay.pads):
+        if not (surface and p.drill is not None):
+            by_net[p.net].append((p, lay.pad_core(k)))
+    return by_net
+
+
 def escape_via_pads(board: Board) -> dict[int, str]:
     """The vias of `board` that are pad escapes: via index -> the pad's name (REF.PIN).
 
@@ -464,10 +476,7 @@ def escape_via_pads(board: Board) -> dict[int, str]:
     """
     if len(board.layers) < 2 or not board.vias:
         return {}
-    pads = [p for p in placed_pads(board) if p.drill is None]
-    by_net: dict[str, list] = defaultdict(list)
-    for p in pads:
-        by_net[p.net].append((p, pad_core(p)))
+    by_net = _pads_by_net(board, surface=True)
     ends: dict = defaultdict(list)            # (net, layer, point) -> far ends of segments and traces there
     for t in board.traces:
         pts = [(float(x), float(y)) for x, y in t.points]
@@ -510,10 +519,7 @@ def neck_traces(board: Board) -> dict[int, tuple[float, float]]:
     than the class's ``neck_length``.
     """
     from .figures import trace_length
-    pads = placed_pads(board)
-    by_net: dict[str, list] = defaultdict(list)
-    for p in pads:
-        by_net[p.net].append((p, pad_core(p)))
+    by_net = _pads_by_net(board)
     rules = board.rules
     out = {}
     for ti, t in enumerate(board.traces):

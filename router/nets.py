@@ -228,24 +228,17 @@ _STUB_MAX = 1.5
 def _add_stub(grid: RoutingGrid, space: SearchSpace, route: NetRoute, stub, layer: int) -> None:
     """Lay a stub's segments, and count the grid points near it as cells the net uses; an
     escape via (:class:`router.escape.EscapeVia`) lays its via and its link on the pad's layer."""
-    via = getattr(stub, "via", None)
-    if via is not None:
-        j, i = via
+    neck = getattr(stub, "width", None)
+    if _is_via(stub):
+        j, i = stub.via
         route.vias.append((j, i))
         route.cells.update({(stub.layer, j, i), (layer, j, i)})
         _block_hole(grid, space, grid.point(j, i), grid.via_drill)
         if len(stub) < 2:
             return                       # the via's disc touches the pad
-        if stub.width < grid.profile_of(route.net).width - TOL:
-            route.necks.append((tuple(stub), stub.layer, stub.width))
-        for a, b in zip(stub, stub[1:]):
-            if a == b:
-                continue
-            if stub.width >= grid.profile_of(route.net).width - TOL:
-                route.stubs.append((a, b, stub.layer))
-            route.near.update(grid.near_points(a, b, stub.layer))
-        return
-    neck = getattr(stub, "width", None)
+        layer = stub.layer               # its link lies on the pad's layer
+        if neck >= grid.profile_of(route.net).width - TOL:
+            neck = None                  # a link of the class width is laid as any stub
     if neck is not None:                 # a neck is written as a trace of its own width
         route.necks.append((tuple(stub), layer, neck))
     for a, b in zip(stub, stub[1:]):
@@ -680,7 +673,7 @@ def _escape_clash(grid, cells, tree, owner, terms, route):
     esc = [st for st in (s_stub, e_stub) if _is_via(st)]
     if not esc:
         return None, None
-    need = 2 * grid.via_drill / 2 + grid.rules.min_hole_spacing - TOL
+    need = grid.via_drill + grid.rules.min_hole_spacing - TOL
     pts = {st.via: grid.point(*st.via) for st in esc}
     if _is_via(e_stub):
         p = pts[e_stub.via]
