@@ -245,9 +245,8 @@ def _words(relax: _Relax, closing: list[str]) -> str:
 def pad_closed_by(grid, net: str, space: SearchSpace, pad) -> str:
     """The words for what closes every grid point near `pad` (inside its copper or a short
     straight stub away) to `net`: for a pad with no way to the grid."""
-    from .copper import pad_core
     from .grid import box_of_core
-    core, rad = pad_core(pad)
+    core, rad = grid.layout.core_of(pad)
     bx = box_of_core(core)
     reach = rad + 2 * grid.pitch
     near = (bx[0] - reach, bx[1] - reach, bx[2] + reach, bx[3] + reach)

@@ -13,7 +13,7 @@ from typing import Optional, Sequence
 
 from rtree import index as rtree_index
 
-from .copper import CopperItem, copper_items, distance
+from .copper import CopperItem, distance
 from .model import Board
 from .units import TOL
 
@@ -97,7 +97,10 @@ def components(board: Board, items: Optional[Sequence[CopperItem]] = None,
     Items of different nets are never joined here, even when they touch: that is a short,
     which the check reports.
     """
-    items = copper_items(board) if items is None else items
+    if items is None:                    # the board resolved once (router.layout): its items and index
+        from .layout import resolve
+        lay = resolve(board)
+        items, idx = list(lay.items), lay.copper_index
     uf = UnionFind(len(items))
     for i, j in touching_pairs(items, idx):
         uf.union(i, j)
@@ -175,8 +178,12 @@ def net_groups(board: Board, items: Optional[Sequence[CopperItem]] = None,
     >>> net_groups(b)["A"]
     [['R1.1'], ['R1.2']]
     """
-    if items is None:
-        items = copper_items(board)
+    if items is None:                    # the board resolved once (router.layout), labels made once
+        from .layout import resolve
+        lay = resolve(board)
+        items = list(lay.items)
+        if labels is None:
+            labels = lay.labels()
     if labels is None:
         labels = components(board, items)
     return _groups(board, items, labels)

@@ -24,7 +24,7 @@ from shapely.geometry.base import BaseGeometry
 from .geometry import ARC_SEGMENTS, PlacedPad, pad_core, placed_holes, placed_pads
 from .model import Board, Point
 
-__all__ = ["CopperItem", "HoleItem", "copper_items", "holes", "distance", "pad_core"]
+__all__ = ["CopperItem", "HoleItem", "copper_items", "pour_items", "holes", "distance", "pad_core"]
 
 
 @dataclass(frozen=True, eq=False)
@@ -141,11 +141,14 @@ def copper_items(board: Board, pads: Optional[list[PlacedPad]] = None) -> list[C
             items.append(CopperItem("jumper_end", j.net, tuple(board.layers),
                                     f"jumper {ji + 1} of {j.net}, {'from' if end == 0 else 'to'} end",
                                     SPoint(at), j.diameter / 2, index=(ji, end)))
-    for pi, p in enumerate(board.pours):          # poured copper: each filled piece, exactly as stored
-        for m, piece in enumerate(p.filled):
-            items.append(CopperItem("pour", p.net, (p.layer,), f"pour {pi + 1} of {p.net}, piece {m + 1}",
-                                    Polygon(piece[0], piece[1:]), 0.0, index=(pi, m)))
-    return items
+    return items + pour_items(board)
+
+
+def pour_items(board: Board) -> list[CopperItem]:
+    """The poured copper of `board`: each filled piece of each pour, exactly as stored."""
+    return [CopperItem("pour", p.net, (p.layer,), f"pour {pi + 1} of {p.net}, piece {m + 1}",
+                       Polygon(piece[0], piece[1:]), 0.0, index=(pi, m))
+            for pi, p in enumerate(board.pours) for m, piece in enumerate(p.filled)]
 
 
 def holes(board: Board, pads: Optional[list[PlacedPad]] = None, npth: Optional[list] = None) -> list[HoleItem]:

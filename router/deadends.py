@@ -28,7 +28,7 @@ from dataclasses import dataclass, field
 from shapely.geometry import Point as SPoint
 
 from .connectivity import UnionFind, touching_pairs
-from .copper import copper_items
+from .layout import resolve
 from .model import Board, Trace
 from .units import TOL
 
@@ -66,9 +66,9 @@ class Removed:
                 f"{' ...' if len(self.nets) > 6 else ''})")
 
 
-def _touching(board: Board, items) -> list[list[int]]:
+def _touching(items, idx) -> list[list[int]]:
     out: list[list[int]] = [[] for _ in items]
-    for i, j in touching_pairs(items):
+    for i, j in touching_pairs(items, idx):
         out[i].append(j)
         out[j].append(i)
     return out
@@ -85,8 +85,9 @@ def dead_items(board: Board) -> set[int]:
     """Positions in :func:`router.copper.copper_items` of `board` of the dead-end copper."""
     if not (board.traces or board.vias or board.jumpers):
         return set()                     # no copper but pads (and pours): nothing can be a dead end
-    items = copper_items(board)
-    touch = _touching(board, items)
+    lay = resolve(board)                 # the board resolved once (router.layout): items and index
+    items = list(lay.items)
+    touch = _touching(items, lay.copper_index)
     fixed = {ti for ti, t in enumerate(board.traces) if t.fixed}
     removable = [it.kind in ("via", "jumper_end") or (it.kind == "trace" and it.index[0] not in fixed)
                  for it in items]
@@ -153,14 +154,14 @@ def remove_dead_ends(board: Board) -> tuple[Board, Removed]:
     dead = dead_items(board)
     if not dead:
         return board, Removed()
-    items = copper_items(board)
+    items = resolve(board).items
     out = board.copy()
     gone = Removed()
     # group the dead items into stubs (joined pieces)
     dl = sorted(dead)
     pos = {i: k for k, i in enumerate(dl)}
     uf = UnionFind(len(dl))
-    touch = _touching(board, [items[i] for i in dl])
+    touch = _touching([items[i] for i in dl], None)
     for k, nbrs in enumerate(touch):
         for q in nbrs:
             uf.union(k, q)

@@ -27,8 +27,7 @@ import numpy as np
 import shapely
 from shapely.geometry import Point as SPoint
 
-from .copper import pad_core
-from .geometry import PlacedPad, placed_pads, ray_through
+from .geometry import PlacedPad, ray_through
 from .model import Board, NetClass
 from .rules import own_pad_clearance
 from .units import TOL
@@ -70,16 +69,12 @@ def neck_of(board: Board, nc: NetClass) -> tuple[float, float]:
     return w, (nc.neck_length if nc.neck_length is not None else NECK_LENGTH)
 
 
-def _core_distance(a: PlacedPad, b: PlacedPad) -> float:
-    ca, ra = pad_core(a)
-    cb, rb = pad_core(b)
-    return ca.distance(cb) - ra - rb
-
-
 def own_gaps(board: Board, pads: Optional[list] = None) -> dict[str, tuple[float, str]]:
     """Per placed part: the smallest copper gap between two of its pads of different pins on a
     shared layer, and the footprint's name. Parts with fewer than two such pads are left out."""
-    pads = placed_pads(board) if pads is None else pads
+    from .layout import resolve
+    lay = resolve(board)                 # the board resolved once: its pads and their exact cores
+    pads = lay.pads if pads is None else pads
     by_ref: dict[str, list] = defaultdict(list)
     for p in pads:
         by_ref[p.ref].append(p)
@@ -88,7 +83,7 @@ def own_gaps(board: Board, pads: Optional[list] = None) -> dict[str, tuple[float
     for ref, ps in by_ref.items():
         if len(ps) < 2:
             continue
-        cores = [pad_core(p) for p in ps]
+        cores = [lay.core_of(p) for p in ps]
         geoms = np.array([c for c, _ in cores], dtype=object)
         rads = np.array([r for _, r in cores])
         best = math.inf
@@ -220,7 +215,7 @@ def escape_access(grid, space, net: str, pad: PlacedPad, others=None, most: int 
     of the part. The class width is tried first; where it does not fit, a :class:`Neck` of the
     class's ``neck_width`` no longer than ``neck_length``.
     """
-    core, rad = pad_core(pad)
+    core, rad = grid.layout.core_of(pad)
     x0, y0, x1, y1 = (float(v) for v in core.bounds)
     g = grid.pitch
     prof = grid.profile_of(net)
@@ -568,7 +563,7 @@ def pad_vias(grid, space, net: str, pads, strict: bool = False, most: int = 9) -
 
 def _pad_via_points(grid, net, pad, vd, drill, most):
     from .copper import holes
-    core, rad = pad_core(pad)
+    core, rad = grid.layout.core_of(pad)
     x0, y0, x1, y1 = (float(v) for v in core.bounds)
     g = grid.pitch
     inner = (x0 - rad + vd / 2, y0 - rad + vd / 2, x1 + rad - vd / 2, y1 + rad - vd / 2)

@@ -37,9 +37,10 @@ import numpy as np
 import shapely
 from shapely.geometry import MultiPolygon, Polygon, box
 
-from .copper import CopperItem, copper_items
+from .copper import CopperItem, pour_items
 from .errors import BoardError
-from .geometry import body_rect, outline_polygon, part_footprint, placed_holes, placed_pads
+from .geometry import outline_polygon
+from .layout import resolve
 from .model import Board, Pour
 from .rules import required_clearance
 from .units import TOL
@@ -199,7 +200,8 @@ def fill_pour(board: Board, k: int, items: list[CopperItem], done: dict) -> tupl
     pour = board.pours[k]
     layer, net = pour.layer, pour.net
     rules = board.rules
-    outline = outline_polygon(board)
+    lay = resolve(board)                 # the board resolved once (router.layout)
+    outline = lay.outline
     area0 = outline.buffer(-(rules.edge_clearance * (_CIRCUMSCRIBE + _SIMPLIFY) + _MARGIN), quad_segs=QUAD_SEGS)
     if pour.polygon is not None:
         area0 = area0.intersection(Polygon(pour.polygon))
@@ -219,19 +221,16 @@ def fill_pour(board: Board, k: int, items: list[CopperItem], done: dict) -> tupl
                 c = clear[it.net] = pour_clearance(board, pour, it.net)
             amounts.append(it.radius + c)
         cut += _grown([it.core for it in others], amounts)
-    npth = placed_holes(board)
+    npth = lay.npth
     if npth:
         cut += _grown([shapely.points(h.x, h.y) for h in npth],
                       [h.drill / 2 + rules.edge_clearance for h in npth])
     for ko in board.keepouts:
         if layer in ko.layers_on(board.layers):
             cut.append(Polygon(ko.polygon))
-    pins_of = {}
-    for pad in placed_pads(board):
-        pins_of.setdefault(pad.ref, set()).add(pad.net)
-    for part in board.parts:
-        if part.at is not None and part_footprint(board, part).keepout_body and net not in pins_of.get(part.ref, ()):
-            cut.append(box(*body_rect(board, part)))
+    for body in lay.bodies:              # a keepout body closes the pour unless one of its pads is the net's
+        if body.keepout and net not in body.owners:
+            cut.append(box(*body.rect))
     for j, polys in done.items():
         other = board.pours[j]
         if other.layer != layer or other.net == net or not polys:
@@ -308,7 +307,7 @@ def fill_pour(board: Board, k: int, items: list[CopperItem], done: dict) -> tupl
     else:
         for it in own_pads:
             unreached.setdefault(it.pad.name, "the pour has no copper left near it")
-    for pad in placed_pads(board):
+    for pad in lay.pads:
         if pad.net == net and layer not in pad.layers:
             unreached.setdefault(pad.name, f"a surface pad on {pad.layers[0]}, not on the poured {layer} "
                                            "(a trace, or a via into the pour, joins it)")
@@ -338,7 +337,7 @@ def pour_board(board: Board) -> PourResult:
         p.filled, p.filled_for = [], None
     if not b.pours:
         return PourResult(b)
-    items = [it for it in copper_items(b) if it.kind != "pour"]
+    items = [it for it in resolve(b).items if it.kind != "pour"]
     order = sorted(range(len(b.pours)), key=lambda k: (-b.pours[k].priority, k))
     done: dict[int, list] = {}
     result = PourResult(b)
@@ -411,7 +410,7 @@ def first_pour_items(board: Board) -> list[CopperItem]:
     if not board.pours:
         return []
     poured = pour_board(board).board
-    return [it for it in copper_items(poured) if it.kind == "pour"]
+    return pour_items(poured)            # only the pours: a layout of this passing board is not needed
 
 
 #: how many more times route_board may route again what a final pour left cut off; a context
@@ -467,7 +466,7 @@ def after_route(result, **settings):
 def pour_summary(result: PourResult) -> list[tuple[str, str, int, dict]]:
     """Per pour: (net, layer, how many of the net's pads it joins, {pad: why it does not})."""
     out = []
-    pads = placed_pads(result.board)
+    pads = resolve(result.board).pads
     for k, p in enumerate(result.board.pours):
         missed = result.unreached.get(k, {})
         total = sum(1 for pad in pads if pad.net == p.net)
