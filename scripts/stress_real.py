@@ -3,10 +3,10 @@
 Usage::
 
     python scripts/stress_real.py --seeds A B [--nets N ...] [--baseline DIR | --no-baseline]
-                                  [--commit REV] [--save DIR] [--angled]
+                                  [--commit REV] [--save DIR] [--angled] [--grid MM]
 
 Each seed in ``A .. B-1`` makes one board with ``real_board(seed, nets)`` (the nets cycle through
-``--nets``, default 30 60 100 150 200). The board is routed in this process with today's code,
+``--nets``, default 30 60 100 150 200; ``--grid`` routes it on another pitch). The board is routed in this process with today's code,
 and, unless ``--no-baseline``, by the router of another checkout (``--baseline DIR``, default
 ``/tmp/elbowroom-baseline`` for REV 9bd7d45, the router before pad escape, else
 ``/tmp/elbowroom-REV``; made with ``git worktree add DIR REV`` when missing, and refused when it holds
@@ -117,7 +117,12 @@ def main(argv=None) -> int:
     ap.add_argument("--angled", action="store_true",
                     help="boards with arc outlines and parts at 45 degrees (real_board(angled=True)); "
                          "a baseline from before turned pads cannot read them")
+    ap.add_argument("--grid", type=float, default=None,
+                    help="route on this grid pitch in mm instead of the generator's 0.25 (real boards "
+                         "come with other grids: 0.2, 0.127, 0.1)")
     args = ap.parse_args(argv)
+    if args.grid is not None and not 0.05 <= args.grid <= 1.0:
+        ap.error(f"--grid {args.grid}: give a pitch between 0.05 and 1.0 mm")
     if args.baseline is None:
         args.baseline = Path("/tmp/elbowroom-baseline" if args.commit == "9bd7d45" else f"/tmp/elbowroom-{args.commit}")
     if not args.no_baseline:
@@ -135,7 +140,10 @@ def main(argv=None) -> int:
         tmp = Path(td)
         for k, seed in enumerate(range(*args.seeds)):
             n = args.nets[k % len(args.nets)]
-            text = dumps_board(real_board(seed, n, angled=args.angled))
+            made = real_board(seed, n, angled=args.angled)
+            if args.grid is not None:
+                made.rules.grid = args.grid
+            text = dumps_board(made)
             board = loads_board(text)
             t0 = time.perf_counter()
             r = route_board(board, seed=0)
