@@ -22,7 +22,8 @@ whose pads all lie on one layer, which could route with none; esc: escape vias b
 with today's and the baseline's vias on just those nets, as a router that leaves hard nets unrouted
 also leaves their vias out)
 
-and a totals line. The exit status is 0 when every board routes completely with no violation.
+each followed by today's unrouted nets with their reasons, and a totals line. The exit status is 0
+when every board routes completely with no violation.
 """
 from __future__ import annotations
 
@@ -172,6 +173,8 @@ def main(argv=None) -> int:
                     for i, x in enumerate((len(common), vo, vb)):
                         both[i] += x
             print(line, flush=True)
+            for n, why in r.failed.items():      # today's unrouted nets and why (route's `failed`)
+                print(f"      unrouted {n}: {why}", flush=True)
     o, b = tot["ours"], tot["base"]
     print("-" * len(head))
     print(f"today:    {o[0]}/{o[1]} nets routed, {o[2]} violations, {o[3]} vias, {o[5]} bends, "
