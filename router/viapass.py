@@ -21,7 +21,7 @@ import math
 
 import numpy as np
 
-__all__ = ["VIA_TRADE", "CROWD_RADIUS", "CROWD_SHARE", "CROSS_PRICE", "MAX_MOVED", "ViaCrowd", "fewer_vias",
+__all__ = ["VIA_TRADE", "CROWD_RADIUS", "CROWD_SHARE", "CROSS_PRICE", "MAX_MOVED", "MOVE_NEAR", "ViaCrowd", "fewer_vias",
            "move_blockers"]
 
 #: The most a removed via may cost in extra trace, bends included, in mm (our choice: a via
@@ -33,6 +33,10 @@ VIA_TRADE = 3.0
 CROSS_PRICE = 1.0
 #: At most this many nets in the way are moved for one net's vias (more is left as it is).
 MAX_MOVED = 6
+#: A net whose try to move the nets in its way changed nothing is tried again in a later sweep only
+#: when a change kept since came within this many mm of its cells (our choice: the same try with
+#: nothing near it moved finds the same way).
+MOVE_NEAR = 3.0
 #: Vias of other nets closer than this (mm, centre to centre) make a via dearer.
 CROWD_RADIUS = 1.5
 #: Each via near adds this share of the via penalty.
@@ -103,6 +107,9 @@ def move_blockers(neg, order: list[str], trade: int, rounds: int = 3) -> tuple[i
     price = max(1.0, CROSS_PRICE / grid.pitch)        # neg.present counts grid steps per shared cell
     changed = removed = 0
     before = None
+    near = int(math.ceil(MOVE_NEAR / grid.pitch))
+    moved: list = []                     # the box (j0, i0, j1, i1) of the cells each kept change touched
+    tried: dict = {}                     # net -> len(moved) when its last try changed nothing
     for _ in range(rounds):
         progress = False
         cands = [n for n in order if n in neg.routes and not neg.routes[n].failed and neg.routes[n].vias
@@ -112,21 +119,41 @@ def move_blockers(neg, order: list[str], trade: int, rounds: int = 3) -> tuple[i
             old = neg.routes.get(net)
             if old is None or old.failed or not old.vias:
                 continue
+            if net in tried:             # tried before: again only when a change since came near it
+                j0, i0, j1, i1 = _cells_box([old])
+                if not any(b[0] <= j1 + near and j0 - near <= b[2] and b[1] <= i1 + near and i0 - near <= b[3]
+                           for b in moved[tried[net]:]):
+                    continue
             if before is None:           # sharing the legal routing already has (pads closer than the class asks)
                 before, _ = neg.conflicts()
-            dv = _try_move(neg, net, trade, price, poured, before, _pure_cost)
+            dv, box = _try_move(neg, net, trade, price, poured, before, _pure_cost)
             if dv:
                 changed += 1
                 removed += dv
                 progress = True
                 before = None
+                moved.append(box)
+                tried.pop(net, None)
+            else:
+                tried[net] = len(moved)
         if not progress:
             break
     return changed, removed
 
 
-def _try_move(neg, net: str, trade: int, price: float, poured: set, before: dict, pure_cost) -> int:
-    """One net's try (see :func:`move_blockers`); returns the vias removed (0: nothing changed)."""
+def _cells_box(routes) -> tuple:
+    """(j0, i0, j1, i1) around the grid cells of `routes` (an empty box when there are none)."""
+    cells = [c for r in routes for c in r.cells]
+    if not cells:
+        return (1 << 30, 1 << 30, -(1 << 30), -(1 << 30))
+    js = [c[1] for c in cells]
+    is_ = [c[2] for c in cells]
+    return (min(js), min(is_), max(js), max(is_))
+
+
+def _try_move(neg, net: str, trade: int, price: float, poured: set, before: dict, pure_cost) -> tuple:
+    """One net's try (see :func:`move_blockers`); returns the vias removed (0: nothing changed) and the
+    box of the cells of the nets changed, before and after (:func:`_cells_box`)."""
     old = {net: neg.routes[net]}
     saved = neg.present, neg.hist, neg.blind.get(net)
     neg.rip(net)
@@ -139,19 +166,19 @@ def _try_move(neg, net: str, trade: int, price: float, poured: set, before: dict
             neg.blind.pop(net, None)
     if new.failed or len(new.vias) >= len(old[net].vias):
         neg.lay(net, old[net])
-        return 0
+        return 0, None
     neg.lay(net, new)
     shared, _ = neg.conflicts()
     victims = [n for n in sorted(shared) if n != net and shared[n] > before.get(n, 0)]
     if len(victims) > MAX_MOVED or any(v in poured for v in victims):
-        return _undo(neg, old)
+        return _undo(neg, old), None
     for v in victims:
         old[v] = neg.routes[v]
         neg.rip(v)
     for v in victims:
         rv = neg.route(v, strict=True, via=neg.via + trade, explain=False)
         if rv.failed:
-            return _undo(neg, old)
+            return _undo(neg, old), None
         neg.lay(v, rv)
     shared, _ = neg.conflicts()
     worse = [n for n, k in shared.items() if k > before.get(n, 0)]
@@ -161,8 +188,10 @@ def _try_move(neg, net: str, trade: int, price: float, poured: set, before: dict
     c_old = sum(pure_cost(neg, old[n]) for n in moved)
     c_new = sum(pure_cost(neg, neg.routes[n]) for n in moved)
     if worse or v_new >= v_old or c_new - c_old >= trade * (v_old - v_new):
-        return _undo(neg, old)
-    return v_old - v_new
+        return _undo(neg, old), None
+    a = _cells_box(old.values())
+    b = _cells_box([neg.routes[n] for n in moved])
+    return v_old - v_new, (min(a[0], b[0]), min(a[1], b[1]), max(a[2], b[2]), max(a[3], b[3]))
 
 
 def _undo(neg, old: dict) -> int:
