@@ -46,7 +46,7 @@ from .spaces import NetSpaces
 from .tidy import polylines, trim_dangling
 from .units import TOL
 from .escape import ExitReserve, exit_conflicts
-from .viapass import VIA_TRADE, ViaCrowd, fewer_vias as _fewer_vias, move_blockers as _move_blockers
+from .viapass import MOVE_NEAR, VIA_TRADE, ViaCrowd, fewer_vias as _fewer_vias, move_blockers as _move_blockers
 
 __all__ = ["RouteResult", "route_board", "DEFAULT_BEND", "DEFAULT_VIA", "DEFAULT_JUMP", "DEFAULT_PASSES"]
 
@@ -58,8 +58,8 @@ DEFAULT_PASSES = 16
 #: Negotiation stops early when the shared cells have not fallen below their best for this many
 #: passes (after at least twice as many passes): our choice, see _attempt.
 STALL = 4
-#: A pass counts as progress only when the sharing falls by at least this share below its best
-#: (our choice: on a board of 150 nets the last passes took the shared cells down by 1 to 3 %
+#: On a big board (BIG_WORK) a pass counts as progress only when the sharing falls by at least
+#: this share below its best (our choice: on a board of 150 nets the last passes took the shared cells down by 1 to 3 %
 #: each, at 15 to 25 s a pass).
 STALL_FALL = 0.1
 #: In repair, an unrouted net's way through the other nets pays this much (mm of trace) for each
@@ -69,6 +69,13 @@ REPAIR_PRICE = 5.0
 #: unrouted, routes that net first and them after it (our choice: a fine-pitch pad's exit and
 #: the copper beside it, see _reorder_local).
 REORDER_WINDOW = 1.5
+#: A board whose nets x grid cells exceed this is big: it is routed in one net order (no
+#: ``retries``: each order costs minutes there, 7 to 9 on our shared 2-core machine for 150 nets
+#: on 570,000 cells), its negotiation stops at a stall of less than STALL_FALL, its repair and
+#: local re-order route at REPAIR_PRICE, and its via pass tries a net again only near a change
+#: (router.viapass.MOVE_NEAR). Smaller boards keep the fuller search (our choice, see
+#: DEVELOPERS.md for what each costs and gives).
+BIG_WORK = 20_000_000
 
 
 @dataclass
@@ -337,7 +344,10 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
         generated boards reaches the same completion in about 60 % of the time.
     retries : int
         When nets stay unrouted, route the board again from scratch up to this many times in
-        other net orders (drawn from the seed) and keep the routing that leaves fewest unrouted.
+        other net orders (drawn from the seed) and keep the routing that leaves fewest unrouted
+        (of those, the one with fewest vias);
+        only on boards of at most :data:`BIG_WORK` nets x grid cells (a bigger board relies on
+        the local re-order of the nets near an unrouted net's pads instead).
     polish : bool
         When the routing is legal, route each net once more with the others as walls and
         no congestion costs, and keep the new route where it is cheaper: this takes out
@@ -388,12 +398,15 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
     start = b.copy()
     best = None
     for attempt in range(1 + max(0, int(retries))):
-        out_board, lost, npass, shared_left, blind = _attempt(start, todo_names, seed, attempt, bend, via, jump,
-                                                              passes, progress, polish, every_net, fewer_vias)
-        if best is None or len(lost) < len(best[1]):
-            best = (out_board, lost, npass, shared_left)
+        out_board, lost, npass, shared_left, blind, work = _attempt(start, todo_names, seed, attempt, bend, via,
+                                                                    jump, passes, progress, polish, every_net,
+                                                                    fewer_vias)
+        if best is None or (len(lost), len(out_board.vias)) < (len(best[1]), len(best[0].vias)):
+            best = (out_board, lost, npass, shared_left)      # fewest unrouted, then fewest vias
         if not best[1] or set(best[1]) <= set(blind):
             break                    # complete, or only pads no exit reaches are left: another order cannot help
+        if work > BIG_WORK:
+            break                    # a big board: the local re-order in _attempt, not the whole board again
     b, lost, npass, shared_left = best
     failed.update(lost)
     result = RouteResult(b, _figures(b), {n: failed[n] for n in [m.name for m in b.nets] if n in failed},
@@ -410,11 +423,16 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
 def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend: int, via: int, jump: int,
              passes: int, progress: bool, polish: bool, every_net: bool = False, fewer: bool = True):
     """One complete routing of `start`; attempt 0 takes nets shortest first, later attempts a
-    shuffled order (each net's half-perimeter scaled by a random factor from the seed)."""
+    shuffled order (each net's half-perimeter scaled by a random factor from the seed). Returns
+    the board, the nets lost with their reasons, passes, nets sharing at the end of negotiation,
+    the blind nets and the board's work (nets x grid cells, :data:`BIG_WORK`)."""
     b = start.copy()
     grid = RoutingGrid(b)
     groups = _pad_groups(b, grid)
     nets = [n for n in todo_names if len(groups.get(n, [])) > 1]
+    work = len(nets) * grid.L * grid.ny * grid.nx
+    big = work > BIG_WORK
+    fall = STALL_FALL if big else 0.0
     rng = np.random.default_rng([seed, attempt])
     ties = rng.random(len(nets))
     sizes = [_hpwl([p for g in groups[n] for p in g]) for n in nets]
@@ -452,10 +470,10 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
             break
         if npass == passes:
             break
-        # stalled: the sharing has not fallen STALL_FALL below its best for STALL passes (the rest is left to
+        # stalled: the sharing has not fallen below its best (big boards: by STALL_FALL) for STALL passes (the rest is left to
         # the walls and rip-up below, which settle what negotiation cannot)
         left_now = sum(shared.values()) + len(still_failed)
-        if left_now <= best_left * (1.0 - STALL_FALL):
+        if left_now < best_left and left_now <= best_left * (1.0 - fall):
             best_left, best_at = left_now, npass
         elif npass - best_at >= STALL and npass >= 2 * STALL:
             break
@@ -487,18 +505,18 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
             lost[net] = r.failed
         else:
             neg.lay(net, r)
-    if lost:
+    if lost and big:
         _reorder_local(neg, lost, order)
     if lost:
-        _repair(neg, lost, rounds=4 * len(lost) + 8, order=shuffle(list(lost)))
+        _repair(neg, lost, rounds=4 * len(lost) + 8, order=shuffle(list(lost)), priced=big)
     if polish:
         _polish(neg, order)
     if fewer and grid.L == 2:            # a pass that takes out vias a net can do without (router.viapass)
         _fewer_vias(neg, order, _cost(VIA_TRADE, grid.pitch))
-        _move_blockers(neg, order, _cost(VIA_TRADE, grid.pitch))
+        _move_blockers(neg, order, _cost(VIA_TRADE, grid.pitch), near=MOVE_NEAR if big else None)
     _write(b, grid, neg, order)
     _settle(b, start, lost, order)
-    return b, lost, npass, shared_left, set(neg.blind)
+    return b, lost, npass, shared_left, set(neg.blind), work
 
 
 def _route_bends(grid: RoutingGrid, r: NetRoute) -> int:
@@ -625,9 +643,11 @@ def _reorder_local(neg: _Negotiation, lost: dict, order: list[str]) -> None:
             neg.lay(n, old[n])
 
 
-def _repair(neg: _Negotiation, lost: dict, rounds: int, order: Optional[list] = None) -> None:
+def _repair(neg: _Negotiation, lost: dict, rounds: int, order: Optional[list] = None,
+            priced: bool = False) -> None:
     """Rip-up and reroute for the nets still unrouted: each takes its way through the others
-    (at :data:`REPAIR_PRICE` per cell of theirs, :func:`_priced_route`), the nets it then shares cells with are ripped up and rerouted with
+    (at congestion cost; with `priced`, at :data:`REPAIR_PRICE` per cell of theirs and no history,
+    :func:`_priced_route`), the nets it then shares cells with are ripped up and rerouted with
     walls, and whatever fails queues up again. The best state seen (fewest unrouted) is kept."""
     def snapshot():
         return dict(neg.routes), dict(lost)
@@ -641,7 +661,7 @@ def _repair(neg: _Negotiation, lost: dict, rounds: int, order: Optional[list] = 
         net = queue.pop(0)
         if net not in lost:
             continue
-        r = _priced_route(neg, net)
+        r = _priced_route(neg, net) if priced else neg.route(net)
         if r.failed:
             hopeless.add(net)
             continue

@@ -18,6 +18,7 @@ crossings. Both are our choices (common practice, no published figure).
 from __future__ import annotations
 
 import math
+from typing import Optional
 
 import numpy as np
 
@@ -33,9 +34,10 @@ VIA_TRADE = 3.0
 CROSS_PRICE = 1.0
 #: At most this many nets in the way are moved for one net's vias (more is left as it is).
 MAX_MOVED = 6
-#: A net whose try to move the nets in its way changed nothing is tried again in a later sweep only
-#: when a change kept since came within this many mm of its cells (our choice: the same try with
-#: nothing near it moved finds the same way).
+#: With ``near`` (router.negotiate passes this on big boards), a net whose try to move the nets in
+#: its way changed nothing is tried again in a later sweep only when a change kept since came
+#: within this many mm of its cells (our choice: the same try with nothing near it moved mostly
+#: finds the same way).
 MOVE_NEAR = 3.0
 #: Vias of other nets closer than this (mm, centre to centre) make a via dearer.
 CROWD_RADIUS = 1.5
@@ -91,7 +93,8 @@ def fewer_vias(neg, order: list[str], trade: int) -> tuple[int, int]:
     return changed, removed
 
 
-def move_blockers(neg, order: list[str], trade: int, rounds: int = 3) -> tuple[int, int]:
+def move_blockers(neg, order: list[str], trade: int, rounds: int = 3,
+                  near: Optional[float] = None) -> tuple[int, int]:
     """Vias of a net walled in on its layer by other nets' routes: the net looks for a way with
     each via dearer by `trade` through the nets in its way (each grid cell of theirs at
     :data:`CROSS_PRICE` mm), the nets it then shares cells with are ripped up and routed again with
@@ -99,15 +102,16 @@ def move_blockers(neg, order: list[str], trade: int, rounds: int = 3) -> tuple[i
     no net shares more cells than before, the vias of these nets fall, and their cost without
     congestion (:func:`router.negotiate._pure_cost`) rises by less than `trade` for each via taken
     out. Otherwise every route is put back as it was. Up to `rounds` sweeps over the nets with
-    vias (most vias first), while a sweep still changes something. Returns (nets that gave up
-    vias, vias removed)."""
+    vias (most vias first), while a sweep still changes something; with `near` (mm), a net whose
+    try changed nothing is tried again only when a change kept since came within `near` of its
+    cells (:data:`MOVE_NEAR`). Returns (nets that gave up vias, vias removed)."""
     from .negotiate import _pure_cost
     grid = neg.grid
     poured = {p.net for p in neg.board.pours}
     price = max(1.0, CROSS_PRICE / grid.pitch)        # neg.present counts grid steps per shared cell
     changed = removed = 0
     before = None
-    near = int(math.ceil(MOVE_NEAR / grid.pitch))
+    reach = None if near is None else int(math.ceil(near / grid.pitch))
     moved: list = []                     # the box (j0, i0, j1, i1) of the cells each kept change touched
     tried: dict = {}                     # net -> len(moved) when its last try changed nothing
     for _ in range(rounds):
@@ -119,9 +123,9 @@ def move_blockers(neg, order: list[str], trade: int, rounds: int = 3) -> tuple[i
             old = neg.routes.get(net)
             if old is None or old.failed or not old.vias:
                 continue
-            if net in tried:             # tried before: again only when a change since came near it
+            if reach is not None and net in tried:       # again only when a change since came near it
                 j0, i0, j1, i1 = _cells_box([old])
-                if not any(b[0] <= j1 + near and j0 - near <= b[2] and b[1] <= i1 + near and i0 - near <= b[3]
+                if not any(b[0] <= j1 + reach and j0 - reach <= b[2] and b[1] <= i1 + reach and i0 - reach <= b[3]
                            for b in moved[tried[net]:]):
                     continue
             if before is None:           # sharing the legal routing already has (pads closer than the class asks)

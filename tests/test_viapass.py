@@ -233,11 +233,11 @@ def test_moving_never_leaves_a_net_unrouted_nor_shares_more(monkeypatch):
     seen = []
     real = negotiate._move_blockers
 
-    def watched(neg, order, trade):
+    def watched(neg, order, trade, **kw):
         ok0 = {n for n, r in neg.routes.items() if not r.failed}
         sh0 = neg.conflicts()[0]
         v0 = sum(len(r.vias) for r in neg.routes.values())
-        out = real(neg, order, trade)
+        out = real(neg, order, trade, **kw)
         ok1 = {n for n, r in neg.routes.items() if not r.failed}
         sh1 = neg.conflicts()[0]
         v1 = sum(len(r.vias) for r in neg.routes.values())
