@@ -3,7 +3,7 @@
 Usage::
 
     python scripts/stress_real.py --seeds A B [--nets N ...] [--baseline DIR | --no-baseline]
-                                  [--commit REV] [--save DIR] [--angled] [--grid MM]
+                                  [--commit REV] [--save DIR] [--angled] [--generated] [--grid MM] [--via-penalty V]
 
 Each seed in ``A .. B-1`` makes one board with ``real_board(seed, nets)`` (the nets cycle through
 ``--nets``, default 30 60 100 150 200; ``--grid`` routes it on another pitch). The board is routed in this process with today's code,
@@ -44,6 +44,7 @@ from router.boardfile import dumps_board, loads_board   # noqa: E402
 from router.check import check                          # noqa: E402
 from router.geometry import placed_pads                 # noqa: E402
 from router.negotiate import route_board                # noqa: E402
+from router.boardgen import generate_board              # noqa: E402
 from router.realgen import real_board                   # noqa: E402
 
 WORKER = r"""
@@ -106,6 +107,14 @@ def run_baseline(path: Path, text: str, tmp: Path, seed: int):
     return figures(loads_board(out.read_text()), seconds)
 
 
+def _generated_size(nets: int) -> tuple:
+    """bench_route's board size for a generated board of `nets` nets."""
+    for most, size in ((10, (30.0, 25.0)), (25, (45.0, 35.0)), (50, (60.0, 45.0)), (80, (80.0, 60.0))):
+        if nets <= most:
+            return size
+    return (100.0, 80.0)
+
+
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--seeds", nargs=2, type=int, default=[0, 5], metavar=("A", "B"))
@@ -121,6 +130,13 @@ def main(argv=None) -> int:
     ap.add_argument("--grid", type=float, default=None,
                     help="route on this grid pitch in mm instead of the generator's 0.25 (real boards "
                          "come with other grids: 0.2, 0.127, 0.1)")
+    ap.add_argument("--generated", action="store_true",
+                    help="router.boardgen's generated boards instead (sizes as bench_route's: 10 nets 30 x 25 mm, "
+                         "25 nets 45 x 35, 50 nets 60 x 45, 80 nets 80 x 60, else 100 x 80): boards both routers "
+                         "route completely, so vias compare net for net")
+    ap.add_argument("--via-penalty", type=float, default=None, metavar="V",
+                    help="today's router with this via penalty in mm (route --via-penalty); the baseline "
+                         "keeps its default")
     args = ap.parse_args(argv)
     if args.grid is not None and not 0.05 <= args.grid <= 1.0:
         ap.error(f"--grid {args.grid}: give a pitch between 0.05 and 1.0 mm")
@@ -141,13 +157,14 @@ def main(argv=None) -> int:
         tmp = Path(td)
         for k, seed in enumerate(range(*args.seeds)):
             n = args.nets[k % len(args.nets)]
-            made = real_board(seed, n, angled=args.angled)
+            made = (generate_board(seed, nets=n, size=_generated_size(n)) if args.generated
+                    else real_board(seed, n, angled=args.angled))
             if args.grid is not None:
                 made.rules.grid = args.grid
             text = dumps_board(made)
             board = loads_board(text)
             t0 = time.perf_counter()
-            r = route_board(board, seed=0)
+            r = route_board(board, seed=0, via_penalty=args.via_penalty)
             ours = figures(r.board, time.perf_counter() - t0)
             if args.save:
                 args.save.mkdir(parents=True, exist_ok=True)
