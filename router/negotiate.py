@@ -183,33 +183,40 @@ class _Negotiation:
         for a, b in r.jumpers:
             self.grid.add_wire(a, b, -1)
 
-    def route(self, net: str, strict: bool = False, via: Optional[int] = None, explain: bool = True) -> NetRoute:
+    def route(self, net: str, strict: bool = False, via: Optional[int] = None, explain: bool = True,
+              budget: Optional[int] = None) -> NetRoute:
+        """`net` routed in the negotiation's present state; with `strict`, other nets' copper as
+        walls. `budget`: see :func:`router.nets.route_net` (a route that fails for it says
+        nothing about the fixed copper: not marked blind)."""
         grid = self.grid
         if net in self.blind:            # a pad with no way to the grid is found once, not every pass
             return NetRoute(net, failed=self.blind[net], blind=True)
         space, others = self.spaces.space(self, net, strict, self.reserve.extra_for(net))
         r = route_net(grid, net, space, self.groups[net], bend=self.bend, via=self.via if via is None else via,
                       jump=self.jump, others=others, cache=not strict, order=self.ties.get(net, (0, 1, 2, 3)),
-                      explain=explain and (strict or not grid.one_layer))     # two layers: found once
+                      explain=explain and (strict or not grid.one_layer), budget=budget)     # two layers: found once
         if not strict:
             self.reserve.add(net, [p for g in self.groups[net] for p in g])
-        if r.blind or (r.failed and not strict and not grid.one_layer):
+        if r.blind or (r.failed and not strict and not grid.one_layer and budget is None):
             # no way even with every other net's routed copper passable (two layers: their copper
             # is only a cost here): the fixed copper, the edge or keepouts close it; found once
             self.blind[net] = r.failed
         return r
 
-    def conflicts(self) -> tuple[dict, list]:
+    def conflicts(self, only=None) -> tuple[dict, list]:
         """Nets sharing cells with other nets: net -> number of shared cells (and of exits too
         close to other nets' copper, :func:`router.escape.exit_conflicts`), and the cells.
 
         Other nets' copper at a net's cells is the soft count there less the net's own
-        (counted once when the net was laid, :func:`_own_counts`)."""
+        (counted once when the net was laid, :func:`_own_counts`). `only`: the nets to look at
+        (None: every routed net); a net that shared nothing before shares nothing after routes
+        were only ripped up, so then the nets that shared are enough."""
         grid = self.grid
         shared: dict[str, int] = {}
         cells_all = []
-        for net in sorted(self.routes):
-            r = self.routes[net]
+        routes = self.routes if only is None else {n: self.routes[n] for n in only if n in self.routes}
+        for net in sorted(routes):
+            r = routes[net]
             if not r.cells and not r.vias and not r.jumpers:
                 continue
             k = grid.profile_of(net).index
@@ -230,7 +237,7 @@ class _Negotiation:
             if n:
                 shared[net] = n
         # exits off the grid, measured exactly against the other nets' copper (router.escape)
-        ex, ex_cells = exit_conflicts(grid, self.routes, self.soft)
+        ex, ex_cells = exit_conflicts(grid, routes, self.soft)
         for net, n in ex.items():
             shared[net] = shared.get(net, 0) + n
         cells_all.extend(ex_cells)
@@ -493,7 +500,7 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
         worst = max(sorted(shared), key=lambda n: shared[n])
         neg.rip(worst)
         out.append(worst)
-        shared, _ = neg.conflicts()
+        shared, _ = neg.conflicts(only=set(shared) - {worst})     # a rip-up shares nothing anew
     for net in order:
         if net in neg.routes and neg.routes[net].failed:
             out.append(net)

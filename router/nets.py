@@ -31,7 +31,7 @@ from shapely.geometry import Point as SPoint
 
 from .copper import pad_core
 from .grid import JUMP_PITCH, RoutingGrid, box_of_core
-from .search import SearchSpace, find_path
+from .search import OVER_BOUND, SearchSpace, find_path
 from .units import TOL
 
 __all__ = ["Terminal", "NetRoute", "terminals", "route_net"]
@@ -395,7 +395,7 @@ def _lay_path(grid: RoutingGrid, space: SearchSpace, route: NetRoute, cells: np.
 
 def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[list], *,
               bend: int, via: int, jump: int, others=None, order=(0, 1, 2, 3),
-              explain: bool = False, cache: bool = False) -> NetRoute:
+              explain: bool = False, cache: bool = False, budget: Optional[int] = None) -> NetRoute:
     """Grow the rectilinear Steiner tree of one net.
 
     Parameters
@@ -419,6 +419,15 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
     cache : bool
         The space's open cells are the fixed copper's only (negotiation): pads' access is kept
         on the grid and reused (:func:`terminals`).
+    budget : int, optional
+        The caller takes the route only when its cost without congestion (``STEP`` per grid step,
+        `bend` per bend as the contract counts them, `via` per via, jumpers as the search prices
+        them) is at most this. Each search is then bounded (:func:`router.search.find_path`'s
+        ``bound``) by what is left of it, plus ``2 * bend`` for each search the net may need (a
+        path leaving the tree from a cell where one arm ends makes a bend there that the search
+        does not pay), and the route fails as soon as one search finds nothing within its bound:
+        a route the caller would refuse is not searched for to the end. No bound once a via
+        place beside a pad becomes a source (its via costs the search nothing).
 
     Returns
     -------
@@ -459,8 +468,10 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
     # when no search from those finds a way (a pad boxed in on its own layer)
     spare = {c: s for c, s in terms[first].cells.items() if _is_via(s) and c not in tree}
     widened = False
+    vias_in_tree = True                  # the tree may hold via places (first terminal, spare, widen)
     used_stub: set = set()
     left = [k for k in range(len(terms)) if k != first]
+    slack = None if budget is None else int(budget) + 2 * bend * len(left)
     near = _Nearest(terms, left, list(tree))
     tree_cells = _SortedCells(grid, tree)
     while left:
@@ -475,10 +486,15 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
                     owner.setdefault(c, k)
             path = _find(grid, space, tree_cells.array(),
                          np.array(sorted(owner), dtype=np.int64), bend, via, jump, order,
-                         escapes=(tree, owner, terms, route))
+                         escapes=(tree, owner, terms, route), bound=slack)
+            if path is OVER_BOUND:
+                route.failed = f"no way from {terms[first].name} within the cost allowed"
+                return route
             if path is not None:
                 break
         if path is None and spare:
+            slack = None                 # a source's via is free to the search: no bound from here
+            vias_in_tree = True
             for c, st in spare.items():
                 tree[c] = st
                 tree_cells.add(c)
@@ -486,7 +502,9 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
             continue
         if path is None and not widened and grid.L == 2:
             widened = True               # every surface pad's via places, once (a pad boxed in)
+            slack = None
             if _widen(grid, space, net, terms, left, tree, tree_cells, others, via, bend):
+                vias_in_tree = True
                 continue
         if path is None:
             names = ", ".join(terms[k].name for k in left[:3]) + (" ..." if len(left) > 3 else "")
@@ -507,6 +525,8 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
             used_stub.add(start)
             tree[start] = None
         new = _lay_path(grid, space, route, path.cells)
+        if slack is not None:
+            slack -= path.cost
         k = owner[end]
         stub = terms[k].cells[end]
         if stub is not None:
@@ -518,7 +538,10 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
                 if c not in tree and not _is_via(s):       # an unused via beside a joined pad is no copper
                     tree[c] = s
                     tree_cells.add(c)
-        unused = [c for c, s in tree.items() if _is_via(s)]
+        # (only where via places came in: going over the whole tree after every path made a net
+        # of many pads quadratic)
+        unused = [c for c, s in tree.items() if _is_via(s)] if vias_in_tree else []
+        vias_in_tree = False
         if unused:                       # the first terminal's via places, once a path has left it
             for c in unused:
                 del tree[c]
@@ -631,16 +654,16 @@ def _exit_price(grid: RoutingGrid, space: SearchSpace, c, stub, via: int, bend: 
     return price
 
 
-def _find(grid, space, sources, targets, bend, via, jump, order=(0, 1, 2, 3), escapes=None):
+def _find(grid, space, sources, targets, bend, via, jump, order=(0, 1, 2, 3), escapes=None, bound=None):
     """find_path, with a hole of the path too near an earlier one of the same path closed and the
-    search run again (up to 32 times). `escapes` = (tree, owner, terms, route): an escape via at
+    search run again (up to 32 times); `bound` is find_path's (its OVER_BOUND is returned). `escapes` = (tree, owner, terms, route): an escape via at
     the path's start or end keeps the hole spacing from the path's vias (theirs are closed) and
     from the route's vias (that target is dropped)."""
     path = None
     for _ in range(32):
-        path = find_path(space, sources, targets, bend=bend, via=via, jump=jump, order=order)
-        if path is None:
-            return None
+        path = find_path(space, sources, targets, bend=bend, via=via, jump=jump, order=order, bound=bound)
+        if path is None or path is OVER_BOUND:
+            return path
         clash = _hole_clash(grid, path.cells)
         if clash is None and escapes is not None:
             clash, drop = _escape_clash(grid, path.cells, *escapes)

@@ -44,7 +44,7 @@ from typing import Optional
 import numpy as np
 from numba import njit
 
-__all__ = ["STEP", "LazyCosts", "SearchSpace", "Path", "find_path", "target_boxes", "reference_graph", "path_cost"]
+__all__ = ["STEP", "OVER_BOUND", "LazyCosts", "SearchSpace", "Path", "find_path", "target_boxes", "reference_graph", "path_cost"]
 
 #: Cost of one grid step; penalties are in the same unit (a bend of B mm is round(STEP * B / pitch)).
 STEP = 100
@@ -286,6 +286,21 @@ class Path:
     expanded: int = 0
 
 
+class _OverBound:
+    """What :func:`find_path` returns when no path costs at most its ``bound`` (and one that
+    costs more may exist)."""
+
+    def __repr__(self) -> str:
+        return "OVER_BOUND"
+
+    def __bool__(self) -> bool:
+        return False
+
+
+#: find_path's answer when the search stopped at its ``bound`` without a path (see there).
+OVER_BOUND = _OverBound()
+
+
 class _Workspace:
     """Work arrays reused across searches on grids of one size."""
 
@@ -441,7 +456,8 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_r
            sources, tmask, boxes, pboxes, bound, tlayer, step, bend, via, jump, order, nds,
            stamp_of, gbest, parent, stamp, head, ent_state, ent_g, ent_next,
            lz, soft, hist, soft_via, hist_top, pf, crowd, cprice, cap, add_cell, add_hole, has_add):
-    """Dial's bucket queue over integer f = g + h; returns (end state or -1 or -2 when the pool is full, expanded).
+    """Dial's bucket queue over integer f = g + h; returns (end state, or -1 when no path, -3 when no
+    path within `bound` (a state was left out for it), -2 when the pool is full; expanded).
 
     `order` is the order in which the four step headings are tried (ties among equal paths);
     `nds` the states per cell and layer (5, or 9 with jumpers); `lz` how cell and hole costs
@@ -456,6 +472,7 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_r
     used = 0
     cur = -1
     pending = 0
+    cut = False             # a state was left out for the bound
     for r in range(sources.shape[0]):
         l = sources[r, 0]
         j = sources[r, 1]
@@ -464,6 +481,7 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_r
         if stamp_of[s] == stamp:
             continue
         if bound >= 0 and _heuristic_boxes(l, j, i, 4, pboxes, tlayer, step, turn, via_need) > bound:
+            cut = True
             continue            # no path from here costs the bound or less
         stamp_of[s] = stamp
         gbest[s] = 0
@@ -579,6 +597,7 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_r
                 t = ((nl * ny + nj) * nx + ni) * nds + ndir
                 if bound >= 0 and ng + _heuristic_boxes(nl, nj, ni, ndir - 5 if ndir >= 5 else ndir, pboxes, tlayer,
                                                         step, turn, via_need) > bound:
+                    cut = True
                     continue        # no path through here costs the bound or less
                 if stamp_of[t] != stamp or ng < gbest[t]:
                     stamp_of[t] = stamp
@@ -597,7 +616,7 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_r
                     head[bb] = used
                     used += 1
                     pending += 1
-    return -1, expanded
+    return (-3 if cut else -1), expanded
 
 
 _NO_I32_3 = np.zeros((1, 1, 1), np.int32)
@@ -677,7 +696,7 @@ def target_boxes(targets: np.ndarray, most: int = MAX_BOXES, gap: int = MERGE_GA
 
 
 def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump: int = 0,
-              step: int = STEP, order=(0, 1, 2, 3)) -> Optional[Path]:
+              step: int = STEP, order=(0, 1, 2, 3), bound: Optional[int] = None) -> Optional[Path]:
     """The cheapest path from any source cell to any target cell, or None.
 
     Parameters
@@ -693,10 +712,18 @@ def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump
     order : sequence of the four headings 0..3
         The order in which steps are tried: among paths of equal cost it decides which is
         found (a routing seed varies it); the cost found is the same for every order.
+    bound : int, optional
+        The most the caller will take: states whose cost so far plus the heuristic exceed it
+        are left out, so a search that cannot end within it stops early instead of sweeping
+        the board. A path of cost at most `bound` is the one found without it (a left-out
+        state lies on no such path, and the states it would have set are all costlier than
+        the ones kept).
 
     Returns
     -------
-    Path or None
+    Path or None or OVER_BOUND
+        OVER_BOUND (false, like None) when no path was found and some state was left out for
+        `bound`: a dearer path may exist.
 
     Notes
     -----
@@ -754,9 +781,19 @@ def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump
                 return end, n
             ws.grow_pool(2 * ws.ent_state.shape[0])
 
+    limit = -1 if bound is None else max(0, int(bound))
     try:
         if len(boxes) == 1:
-            end, expanded = run(one, one, -1)
+            end, expanded = run(one, one, limit)
+        elif limit >= 0:
+            end, expanded = run(boxes, boxes, limit)      # the least cost within the caller's bound
+            if end >= 0:
+                best = int(ws.g[end])
+                end, n = run(one, boxes, best)
+                expanded += n
+                if end < 0:
+                    end, n = run(one, one, limit)
+                    expanded += n
         else:
             # targets in clusters far apart: first the least cost, with the heuristic the least over
             # the clusters' boxes (sharp, so the search stays near the clusters); then the search
@@ -773,6 +810,8 @@ def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump
                     expanded += n
     finally:
         tmask[tgt[:, 0], tgt[:, 1], tgt[:, 2]] = 0
+    if end == -3 and limit >= 0:
+        return OVER_BOUND
     if end < 0:
         return None
     states = []

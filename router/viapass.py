@@ -179,11 +179,19 @@ def _try_move(neg, net: str, trade: int, price: float, poured: set, before: dict
     for v in victims:
         old[v] = neg.routes[v]
         neg.rip(v)
+    # what is kept must cost less, vias at the dearer price, than the routes before: what is left
+    # of that bounds each victim's search (router.nets.route_net's budget), so a victim whose way
+    # would cost too much stops early instead of sweeping the board
+    left = sum(pure_cost(neg, old[n]) + trade * len(old[n].vias) for n in [net] + victims) - 1
+    left -= pure_cost(neg, new) + trade * len(new.vias)
     for v in victims:
-        rv = neg.route(v, strict=True, via=neg.via + trade, explain=False)
+        if left < 0:
+            return _undo(neg, old), None
+        rv = neg.route(v, strict=True, via=neg.via + trade, explain=False, budget=left)
         if rv.failed:
             return _undo(neg, old), None
         neg.lay(v, rv)
+        left -= pure_cost(neg, rv) + trade * len(rv.vias)
     shared, _ = neg.conflicts()
     worse = [n for n, k in shared.items() if k > before.get(n, 0)]
     moved = [net] + victims

@@ -69,8 +69,8 @@ def main(argv=None) -> int:
     negotiate._attempt = each_order
     conflicts = negotiate._Negotiation.conflicts
 
-    def counted(self):
-        out = conflicts(self)
+    def counted(self, *a, **kw):
+        out = conflicts(self, *a, **kw)
         if state["in_pass"] and state.pop("routed", False):     # the negotiation's call, once per pass
             now = time.perf_counter()
             state["pass"] += 1

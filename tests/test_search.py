@@ -336,3 +336,30 @@ def test_bad_costs_rejected():
         find_path(sp, [(0, 0, 0)], [(0, 0, 2)], bend=-1, via=0)
     with pytest.raises(ValueError):
         find_path(sp, [(0, 0, 9)], [(0, 0, 2)], bend=1, via=0)
+
+
+@pytest.mark.parametrize("seed", range(40))
+def test_bound_keeps_the_path_or_says_over(seed):
+    """find_path's ``bound``: at or above networkx's Dijkstra cost (the outside reference) the
+    same path as without it; below it OVER_BOUND (false, like None); no path at all stays None
+    when nothing was left out for the bound."""
+    from router.search import OVER_BOUND
+    rng = np.random.default_rng(500 + seed)
+    L = 1 + seed % 2
+    ny, nx_ = int(rng.integers(6, 40)), int(rng.integers(6, 40))
+    sp = random_space(rng, L, ny, nx_, density=0.25)
+    src = np.stack([rng.integers(0, L, 2), rng.integers(0, ny, 2), rng.integers(0, nx_, 2)], axis=1)
+    k = int(rng.integers(1, 12))
+    tgt = np.stack([rng.integers(0, L, k), rng.integers(0, ny, k), rng.integers(0, nx_, k)], axis=1)
+    bend, via = int(rng.integers(0, 500)), int(rng.integers(0, 900))
+    p, ref = _search_and_networkx(sp, src, tgt, bend=bend, via=via)
+    if ref is None:
+        q = find_path(sp, src, tgt, bend=bend, via=via, bound=10 ** 9)
+        assert q is None and not q
+        return
+    for extra in (0, 1, 250, 10 ** 6):
+        q = find_path(sp, src, tgt, bend=bend, via=via, bound=ref + extra)
+        assert q is not None and q.cost == ref and q.cells.tolist() == p.cells.tolist()
+    if ref > 0:
+        q = find_path(sp, src, tgt, bend=bend, via=via, bound=ref - 1)
+        assert q is OVER_BOUND and not q
