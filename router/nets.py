@@ -474,10 +474,15 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
     slack = None if budget is None else int(budget) + 2 * bend * len(left)
     near = _Nearest(terms, left, list(tree))
     tree_cells = _SortedCells(grid, tree)
+    dead: set = set()                    # terminals a search aimed at them alone could not reach
     while left:
         # the few terminals nearest the tree are the targets (a tight box keeps A* focused on a
-        # net of many pads); only when none of them can be reached, every terminal left
-        tries = [near.closest(left, NEAREST)] if len(left) > NEAREST else []
+        # net of many pads); only when none of them can be reached, every terminal left. Terminals
+        # found out of reach so are not aimed at alone again (each such try swept all the board
+        # the tree reaches, once per pin on a net of many pads); they stay targets of the search
+        # for every terminal left, which reaches them when the tree comes to where they are
+        live = [k for k in left if k not in dead]
+        tries = [near.closest(live, NEAREST)] if len(left) > NEAREST and live else []
         tries.append(left)
         for aim in tries:
             owner: dict = {}
@@ -492,6 +497,8 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
                 return route
             if path is not None:
                 break
+            if aim is not left:
+                dead.update(aim)
         if path is None and spare:
             slack = None                 # a source's via is free to the search: no bound from here
             vias_in_tree = True
