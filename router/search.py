@@ -453,7 +453,7 @@ def _hole_extra(j, i, hole_extra, lz, soft_via, hist_top, pf, crowd, cprice, cap
 
 @njit(cache=True)
 def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_rows, wire_cols, jump_cells,
-           sources, tmask, boxes, pboxes, bound, tlayer, step, bend, via, jump, order, nds,
+           sources, tmask, boxes, pboxes, bound, kE, pE, tlayer, step, bend, via, jump, order, nds,
            stamp_of, gbest, parent, stamp, head, ent_state, ent_g, ent_next,
            lz, soft, hist, soft_via, hist_top, pf, crowd, cprice, cap, add_cell, add_hole, has_add):
     """Dial's bucket queue over integer f = g + h; returns (end state, or -1 when no path, -3 when no
@@ -461,7 +461,9 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_r
 
     `order` is the order in which the four step headings are tried (ties among equal paths);
     `nds` the states per cell and layer (5, or 9 with jumpers); `lz` how cell and hole costs
-    are had (0: the arrays extra and hole_extra; 1: LazyCosts; 2: LazyCosts, strict)."""
+    are had (0: the arrays extra and hole_extra; 1: LazyCosts; 2: LazyCosts, strict). `kE` and
+    `pE` are added to the heuristic of every state off the targets, in the key and in the bound's
+    test: the least cost of entering a target cell, which every path pays (0: none)."""
     L, ny, nx = open_cell.shape
     turn = bend
     via_need = via if L == 2 else 0
@@ -480,13 +482,14 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_r
         s = ((l * ny + j) * nx + i) * nds + 4
         if stamp_of[s] == stamp:
             continue
-        if bound >= 0 and _heuristic_boxes(l, j, i, 4, pboxes, tlayer, step, turn, via_need) > bound:
+        off = tmask[l, j, i] == 0
+        if bound >= 0 and _heuristic_boxes(l, j, i, 4, pboxes, tlayer, step, turn, via_need) + (pE if off else 0) > bound:
             cut = True
             continue            # no path from here costs the bound or less
         stamp_of[s] = stamp
         gbest[s] = 0
         parent[s] = -1
-        h = _heuristic_boxes(l, j, i, 4, boxes, tlayer, step, turn, via_need)
+        h = _heuristic_boxes(l, j, i, 4, boxes, tlayer, step, turn, via_need) + (kE if off else 0)
         if cur < 0 or h < cur:
             cur = h
         if used == cap:
@@ -595,8 +598,9 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_r
                         ng += bend          # the wire leaves across the path: a bend at its first end
                     ndir = 5 + nd
                 t = ((nl * ny + nj) * nx + ni) * nds + ndir
+                toff = tmask[nl, nj, ni] == 0
                 if bound >= 0 and ng + _heuristic_boxes(nl, nj, ni, ndir - 5 if ndir >= 5 else ndir, pboxes, tlayer,
-                                                        step, turn, via_need) > bound:
+                                                        step, turn, via_need) + (pE if toff else 0) > bound:
                     cut = True
                     continue        # no path through here costs the bound or less
                 if stamp_of[t] != stamp or ng < gbest[t]:
@@ -604,7 +608,7 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_r
                     gbest[t] = ng
                     parent[t] = s
                     nh = ndir - 5 if ndir >= 5 else ndir
-                    key = ng + _heuristic_boxes(nl, nj, ni, nh, boxes, tlayer, step, turn, via_need)
+                    key = ng + _heuristic_boxes(nl, nj, ni, nh, boxes, tlayer, step, turn, via_need) + (kE if toff else 0)
                     if key < cur:
                         key = cur       # an inconsistent heuristic step: expand it next, as a heap would
                     if used == cap:
@@ -695,6 +699,32 @@ def target_boxes(targets: np.ndarray, most: int = MAX_BOXES, gap: int = MERGE_GA
     return boxes
 
 
+#: The least cost of entering a target (search units) above which :func:`find_path` puts it in
+#: the heuristic (two searches; below it one plain search is cheaper: our choice, one grid step).
+ENTRY_MIN = STEP
+
+
+def _entry_cost(space: SearchSpace, tgt: np.ndarray, src: np.ndarray) -> int:
+    """The least extra cost of entering any target cell (0 when a source is a target)."""
+    L, ny, nx = space.shape
+    key_t = (tgt[:, 0] * ny + tgt[:, 1]) * nx + tgt[:, 2]
+    key_s = (src[:, 0] * ny + src[:, 1]) * nx + src[:, 2]
+    if np.isin(key_s, key_t).any():
+        return 0
+    at = (tgt[:, 0], tgt[:, 1], tgt[:, 2])
+    lz = space.lazy
+    if lz is None:
+        return int(space.extra[at].min())
+    # LazyCosts.cell_cost over the targets at once (the same float64 arithmetic and truncation)
+    e = np.zeros(len(tgt), np.int64)
+    if not lz.strict:
+        e = np.minimum(lz.pf * lz.soft[at].astype(np.float64) + lz.hist[at].astype(np.float64),
+                       float(lz.cap)).astype(np.int64)
+    if lz.add_cell is not None:
+        e = np.minimum(e + lz.add_cell[at].astype(np.int64), lz.cap)
+    return int(e.min())
+
+
 def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump: int = 0,
               step: int = STEP, order=(0, 1, 2, 3), bound: Optional[int] = None) -> Optional[Path]:
     """The cheapest path from any source cell to any target cell, or None.
@@ -768,12 +798,13 @@ def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump
     span += step * (nx + ny) + 2 * max(bend, via, jump)     # spread of the sources' keys
     head = ws.buckets(span)
     lazy_args = _lazy_args(space, L)
-    def run(key_boxes, prune_boxes, bound):
+    def run(key_boxes, prune_boxes, bound, k_e=0, p_e=0):
         while True:
             stamp = ws.next_stamp()
             end, n = _astar(space.open_cell, space.open_h, space.open_v, space.via_ok, space.extra,
                             space.hole_extra,
                             jump_ok, wire_rows, wire_cols, jump_cells, src, tmask, key_boxes, prune_boxes, bound,
+                            int(k_e), int(p_e),
                             tlayer, int(step), int(bend), int(via), int(jump), order, nds,
                             ws.stamp_of, ws.g, ws.parent, stamp, head, ws.ent_state, ws.ent_g, ws.ent_next,
                             *lazy_args)
@@ -782,8 +813,23 @@ def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump
             ws.grow_pool(2 * ws.ent_state.shape[0])
 
     limit = -1 if bound is None else max(0, int(bound))
+    entry = _entry_cost(space, tgt, src)
     try:
-        if len(boxes) == 1:
+        if entry >= ENTRY_MIN:
+            # every path pays at least `entry` on its last move (into a target cell): first the
+            # least cost with that in the heuristic (sharper: the search no longer sweeps every
+            # state cheaper than the congestion at the targets), then the search keyed as below
+            # without it, every state that cannot end within that cost left out (the same path)
+            kb = boxes if len(boxes) > 1 else one
+            end, expanded = run(kb, kb, limit, entry, entry)
+            if end >= 0:
+                best = int(ws.g[end])
+                end, n = run(one, kb, best, 0, entry)
+                expanded += n
+                if end < 0:              # not expected (the bound is admissible); the plain search then
+                    end, n = run(one, one, limit)
+                    expanded += n
+        elif len(boxes) == 1:
             end, expanded = run(one, one, limit)
         elif limit >= 0:
             end, expanded = run(boxes, boxes, limit)      # the least cost within the caller's bound

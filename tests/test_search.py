@@ -363,3 +363,33 @@ def test_bound_keeps_the_path_or_says_over(seed):
     if ref > 0:
         q = find_path(sp, src, tgt, bend=bend, via=via, bound=ref - 1)
         assert q is OVER_BOUND and not q
+
+
+@pytest.mark.parametrize("seed", range(40))
+def test_costly_targets_same_path_as_plain(seed):
+    """Targets whose every cell is dear to enter (the entry cost goes into the heuristic,
+    find_path's two searches): the cost is networkx's Dijkstra's, and the path is the one the
+    plain search finds (ENTRY_MIN raised so that it runs)."""
+    import router.search as S
+    rng = np.random.default_rng(900 + seed)
+    L = 1 + seed % 2
+    ny, nx_ = int(rng.integers(6, 40)), int(rng.integers(6, 40))
+    sp = random_space(rng, L, ny, nx_, density=0.2)
+    src = np.stack([rng.integers(0, L, 2), rng.integers(0, ny, 2), rng.integers(0, nx_, 2)], axis=1)
+    k = int(rng.integers(1, 12))
+    tgt = np.stack([rng.integers(0, L, k), rng.integers(0, ny, k), rng.integers(0, nx_, k)], axis=1)
+    extra = sp.extra.copy()
+    extra[tgt[:, 0], tgt[:, 1], tgt[:, 2]] += int(rng.integers(1, 5000))
+    sp = SearchSpace(sp.open_cell, sp.open_h, sp.open_v, sp.via_ok, extra)
+    bend, via = int(rng.integers(0, 500)), int(rng.integers(0, 900))
+    p, ref = _search_and_networkx(sp, src, tgt, bend=bend, via=via)
+    saved = S.ENTRY_MIN
+    S.ENTRY_MIN = 10 ** 9
+    try:
+        plain = find_path(sp, src, tgt, bend=bend, via=via)
+    finally:
+        S.ENTRY_MIN = saved
+    if ref is None:
+        assert plain is None
+    else:
+        assert plain.cost == p.cost and plain.cells.tolist() == p.cells.tolist()
