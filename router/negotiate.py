@@ -40,7 +40,7 @@ from .connectivity import components
 from .copper import copper_items, pad_core
 from .grid import RoutingGrid, box_of_core
 from .model import Board, Jumper, Trace, Via
-from .nets import NetRoute, route_net
+from .nets import UNNAMED, NetRoute, route_net
 from .search import STEP
 from .spaces import NetSpaces
 from .tidy import polylines, trim_dangling
@@ -662,6 +662,7 @@ def _repair(neg: _Negotiation, lost: dict, rounds: int, order: Optional[list] = 
     best = (len(lost), snapshot())
     queue = list(lost) if order is None else list(order)
     hopeless = set()
+    unexplained: set = set()             # nets lost here whose reason names no obstacle yet
     for _ in range(rounds):
         if not queue:
             break
@@ -679,9 +680,10 @@ def _repair(neg: _Negotiation, lost: dict, rounds: int, order: Optional[list] = 
         for v in victims:
             neg.rip(v)
         for v in victims:
-            rv = neg.route(v, strict=True)
+            rv = neg.route(v, strict=True, explain=False)      # its reason is named at the end
             if rv.failed:
                 lost[v] = rv.failed
+                unexplained.add(v)
                 queue.append(v)
             else:
                 neg.lay(v, rv)
@@ -700,6 +702,13 @@ def _repair(neg: _Negotiation, lost: dict, rounds: int, order: Optional[list] = 
             neg.lay(n, routes[n])
         lost.clear()
         lost.update(was_lost)
+    # the obstacles that close a lost net's way (router.blockage), named once for the nets still
+    # lost (naming them at every failed reroute of a net in the way cost more than the reroutes)
+    for net in [n for n in neg.nets if n in unexplained and lost.get(n, "").endswith(UNNAMED)
+                and n not in neg.routes]:
+        r = neg.route(net, strict=True)
+        if r.failed:
+            lost[net] = r.failed
 
 
 def _anchor_test(grid: RoutingGrid, net: str, r: NetRoute):

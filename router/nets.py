@@ -34,7 +34,10 @@ from .grid import JUMP_PITCH, RoutingGrid, box_of_core
 from .search import OVER_BOUND, SearchSpace, find_path
 from .units import TOL
 
-__all__ = ["Terminal", "NetRoute", "terminals", "route_net"]
+__all__ = ["Terminal", "NetRoute", "terminals", "route_net", "UNNAMED"]
+
+#: The end of a failed route's reason when the obstacles were not named (``explain`` False).
+UNNAMED = " past the obstacles around it"
 
 
 @dataclass
@@ -522,7 +525,7 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
                 targets = np.array(sorted(c for k in left for c in terms[k].cells), dtype=np.int64)
                 route.failed += ": " + closed_by(grid, net, space, sources, targets)
             else:
-                route.failed += " past the obstacles around it"
+                route.failed += UNNAMED
             return route
         start = tuple(int(v) for v in path.cells[0])
         end = tuple(int(v) for v in path.cells[-1])
