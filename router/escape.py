@@ -205,7 +205,8 @@ def _relaxed_base(grid, net: str, pad: PlacedPad) -> np.ndarray:
     return base
 
 
-def escape_access(grid, space, net: str, pad: PlacedPad, others=None, most: int = 6) -> dict:
+def escape_access(grid, space, net: str, pad: PlacedPad, others=None, most: int = 6, ways: int = EXITS,
+                  deeper: int = 0) -> dict:
     """Exits from `pad` to open grid points: cell (l, j, i) -> the exit's points from the pad's edge.
 
     Each exit leaves the pad straight along x or y from the middle of its copper (out of the end
@@ -213,7 +214,9 @@ def escape_access(grid, space, net: str, pad: PlacedPad, others=None, most: int 
     sideways to a grid point that is open to the net. Every segment is checked exactly
     (:meth:`RoutingGrid.segment_clear`) with the footprint's own pad spacing for the other pads
     of the part. The class width is tried first; where it does not fit, a :class:`Neck` of the
-    class's ``neck_width`` no longer than ``neck_length``.
+    class's ``neck_width`` no longer than ``neck_length``. At most `most` exits in all, and
+    `ways` of the shortest each way out (:data:`EXITS`; a fan-out plan asks for more), and
+    exits of the class width up to `deeper` grid pitches longer than ``neck_length``.
     """
     core, rad = grid.layout.core_of(pad)
     x0, y0, x1, y1 = (float(v) for v in core.bounds)
@@ -222,7 +225,7 @@ def escape_access(grid, space, net: str, pad: PlacedPad, others=None, most: int 
     nc = grid.board.net_class(net)
     nw, nl = neck_of(grid.board, nc)
     cw = prof.width
-    widths = [(cw, max(nl, 2 * g))] + ([(nw, nl)] if nw < cw - TOL else [])
+    widths = [(cw, max(nl, 2 * g) + deeper * g)] + ([(nw, nl)] if nw < cw - TOL else [])
     layers = [grid.layer_index(l) for l in pad.layers if l in grid.layers]
     centre = _body_centre(grid.board, pad.ref) or (pad.x, pad.y)
     cx, cy = (x0 + x1) / 2, (y0 + y1) / 2
@@ -298,7 +301,7 @@ def escape_access(grid, space, net: str, pad: PlacedPad, others=None, most: int 
                             found[(l, j, i)] = path
                             n_dir += 1
                             got += 1
-                    if got >= (EXITS if order is cands else 1):
+                    if got >= (ways if order is cands else 1):
                         break
             if n_dir:
                 break                       # the class width fits this way: no neck needed

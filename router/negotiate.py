@@ -40,7 +40,7 @@ from .connectivity import components
 from .copper import copper_items, pad_core
 from .grid import RoutingGrid, box_of_core
 from .model import Board, Jumper, Trace, Via
-from .nets import UNNAMED, NetRoute, route_net
+from .nets import UNNAMED, NetRoute, route_net, terminals
 from .search import STEP
 from .spaces import NetSpaces
 from .tidy import polylines, trim_dangling
@@ -121,6 +121,7 @@ class _Negotiation:
         self.crowd = ViaCrowd(grid) if grid.L == 2 and crowd else None
         self.reserve = ExitReserve(grid)          # scarce pads' exits cost other nets more (router.escape)
         self.spaces = NetSpaces(grid)              # search spaces from parts made once (router.spaces)
+        self.fanout = None                         # fine-pitch parts' planned exits (router.fanout), plan_fanout()
         self.hist_top = None                       # the larger history of the layers, made once per pass
 
     def zero_hist(self) -> np.ndarray:
@@ -191,7 +192,13 @@ class _Negotiation:
         grid = self.grid
         if net in self.blind:            # a pad with no way to the grid is found once, not every pass
             return NetRoute(net, failed=self.blind[net], blind=True)
-        space, others = self.spaces.space(self, net, strict, self.reserve.extra_for(net))
+        extra = self.reserve.extra_for(net)
+        if self.fanout is not None:
+            extra = self.fanout.add_to(net, extra)
+        space, others = self.spaces.space(self, net, strict, extra)
+        if self.fanout is not None and self.fanout.own:
+            space.exit_free = lambda c, net=net: self.fanout.zone_cost(net, c)
+            space.exit_hit = lambda c, net=net: self.fanout.hit_cost(net, c)
         r = route_net(grid, net, space, self.groups[net], bend=self.bend, via=self.via if via is None else via,
                       jump=self.jump, others=others, cache=not strict, order=self.ties.get(net, (0, 1, 2, 3)),
                       explain=explain and (strict or not grid.one_layer), budget=budget)     # two layers: found once
@@ -202,6 +209,41 @@ class _Negotiation:
             # is only a cost here): the fixed copper, the edge or keepouts close it; found once
             self.blind[net] = r.failed
         return r
+
+    def plan_fanout(self) -> None:
+        """The fan-out plan of the board's fine-pitch parts (:class:`router.fanout.FanoutPlan`),
+        made once before the first pass from the exits of the pads of parts whose own pad gap is
+        narrower than the widest class's trace plus two clearances (a trace cannot pass between
+        two of their pads): those pads' access, on the board without routed copper, is the grid's
+        access cache that the first pass would fill."""
+        from .escape import escape_access, own_gaps, pad_vias
+        from .fanout import PLAN_DEEPER, PLAN_EXITS, FanoutPlan, scarce
+        grid = self.grid
+        profs = list(grid.profiles.values())
+        wide = max(2 * p.half for p in profs) + 2 * max(v for p in profs for v in p.clearance_to.values())
+        fine = {ref for ref, (gap, _) in own_gaps(self.board, grid.pads).items() if gap < wide - TOL}
+        if not fine:
+            return
+        access, pads = {}, {}
+        store = grid.__dict__.setdefault("_access_cache", {})
+        for net in self.nets:
+            mine = [p for g in self.groups[net] for p in g if p.ref in fine]
+            if not mine or net in self.blind:
+                continue
+            space, _ = self.spaces.space(self, net, False, None)
+            if not grid.one_layer:
+                pad_vias(grid, space, net, [p for g in self.groups[net] for p in g])
+            terminals(grid, space, net, [[p] for p in mine], None, cache=True)
+            for p in mine:
+                key = (net, p.ref, p.index)
+                if key not in store or not scarce(store[key]):
+                    continue
+                # the plan also weighs exits to further grid rows than the search is offered (a staircase)
+                more = escape_access(grid, space, net, p, None, most=PLAN_EXITS, ways=PLAN_EXITS, deeper=PLAN_DEEPER)
+                access[key], pads[key] = {**more, **store[key]}, p
+        self.fanout = FanoutPlan(grid, access, pads)
+        for key, c in self.fanout.chosen.items():      # a planned exit is one of the pad's own
+            store[key].setdefault(c.cell, c.path)
 
     def conflicts(self, only=None) -> tuple[dict, list]:
         """Nets sharing cells with other nets: net -> number of shared cells (and of exits too
@@ -321,7 +363,8 @@ def _hpwl(pads) -> float:
 def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty: Optional[float] = None,
                 seed: int = 0, reroute: bool = False, progress: bool = False, passes: Optional[int] = None,
                 jumper_penalty: Optional[float] = None, polish: bool = True,
-                retries: int = 2, every_net: bool = False, fewer_vias: bool = True) -> RouteResult:
+                retries: int = 2, every_net: bool = False, fewer_vias: bool = True,
+                fanout_first: bool = False) -> RouteResult:
     """Route every net of `board` not yet routed; the input board is not changed.
 
     Parameters
@@ -351,8 +394,9 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
         generated boards reaches the same completion in about 60 % of the time.
     retries : int
         When nets stay unrouted, route the board again from scratch up to this many times in
-        other net orders (drawn from the seed) and keep the routing that leaves fewest unrouted
-        (of those, the one with fewest vias);
+        other net orders (drawn from the seed), before them once in the same order with the
+        fine-pitch parts fanned out (`fanout_first`), and keep the routing that leaves fewest
+        unrouted (of those, the one with fewest vias);
         only on boards of at most :data:`BIG_WORK` nets x grid cells (a bigger board relies on
         the local re-order of the nets near an unrouted net's pads instead).
     polish : bool
@@ -364,6 +408,11 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
         Two-layer boards: price a via higher among other vias while nets negotiate, and after
         routing take out each via a net can do without at no more than
         :data:`router.viapass.VIA_TRADE` mm of extra trace per via (:mod:`router.viapass`).
+
+    fanout_first : bool
+        Fan the fine-pitch parts out before the first try as well (:mod:`router.fanout`); by
+        default the plan is made for the first other try only, in the first try's net order,
+        when the first try leaves nets unrouted.
 
     Returns
     -------
@@ -404,10 +453,19 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
             todo_names.append(n.name)
     start = b.copy()
     best = None
-    for attempt in range(1 + max(0, int(retries))):
-        out_board, lost, npass, shared_left, blind, work = _attempt(start, todo_names, seed, attempt, bend, via,
-                                                                    jump, passes, progress, polish, every_net,
-                                                                    fewer_vias)
+    tries = [(k, False) for k in range(1 + max(0, int(retries)))]
+    if fanout_first:
+        tries[0] = (0, True)
+    elif len(tries) > 1:
+        # the first other try: the same net order with the fine-pitch parts fanned out first
+        # (router.fanout); made only where the plain first order leaves nets unrouted
+        tries.insert(1, (0, True))
+    for attempt, plan in tries:
+        got = _attempt(start, todo_names, seed, attempt, bend, via, jump, passes, progress, polish, every_net,
+                       fewer_vias, plan=plan)
+        if got is None:
+            continue                 # nothing to plan: that try would route as the first did
+        out_board, lost, npass, shared_left, blind, work = got
         if best is None or (len(lost), len(out_board.vias)) < (len(best[1]), len(best[0].vias)):
             best = (out_board, lost, npass, shared_left)      # fewest unrouted, then fewest vias
         if not best[1] or set(best[1]) <= set(blind):
@@ -428,11 +486,14 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
 
 
 def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend: int, via: int, jump: int,
-             passes: int, progress: bool, polish: bool, every_net: bool = False, fewer: bool = True):
+             passes: int, progress: bool, polish: bool, every_net: bool = False, fewer: bool = True,
+             plan: bool = False):
     """One complete routing of `start`; attempt 0 takes nets shortest first, later attempts a
     shuffled order (each net's half-perimeter scaled by a random factor from the seed). Returns
     the board, the nets lost with their reasons, passes, nets sharing at the end of negotiation,
-    the blind nets and the board's work (nets x grid cells, :data:`BIG_WORK`)."""
+    the blind nets and the board's work (nets x grid cells, :data:`BIG_WORK`). With `plan`, the
+    fine-pitch parts are fanned out first (:meth:`_Negotiation.plan_fanout`); None when there
+    is nothing to plan (the try would route as one without)."""
     b = start.copy()
     grid = RoutingGrid(b)
     groups = _pad_groups(b, grid)
@@ -449,6 +510,10 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
         sizes = [s * math.exp(rng.normal(0.0, 0.35)) for s in sizes]
     order = [n for _, _, n in sorted(zip(sizes, ties, nets))]
     neg = _Negotiation(b, grid, order, groups, bend, via, jump, crowd=fewer)
+    if plan:                             # fine-pitch rows fanned out as one, before any net (router.fanout)
+        neg.plan_fanout()
+        if neg.fanout is None or not neg.fanout.chosen:
+            return None
     if seed:
         headings = [tuple(int(h) for h in rng.permutation(4)) for _ in nets]
         neg.ties = {n: headings[k] for k, n in enumerate(nets)}
