@@ -48,7 +48,13 @@ def test_crowded_row_routes_completely_and_clean():
     r = route_board(b)
     assert r.failed == {}
     assert [v for v in check(r.board) if v.rule != "open"] == []
-    items = copper_items(r.board)
+    assert_traces_keep(r.board, 0.2)
+
+
+def assert_traces_keep(board, gap: float) -> None:
+    """Every trace keeps `gap` mm from other nets' traces and vias on a layer they share, by
+    shapely's distance between the exact cores less both radii (outside reference: shapely)."""
+    items = copper_items(board)
     traces = [it for it in items if it.kind == "trace"]
     others = [it for it in items if it.kind in ("trace", "via")]
     for t in traces:
@@ -56,7 +62,7 @@ def test_crowded_row_routes_completely_and_clean():
             if o is t or o.net == t.net or not set(t.layers) & set(o.layers):
                 continue
             d = t.core.distance(o.core) - t.radius - o.radius
-            assert d >= 0.2 - TOL, (t.net, o.net, d)
+            assert d >= gap - TOL, (t.net, o.net, d)
 
 
 def _row_grid():

@@ -15,14 +15,13 @@ import pytest
 from shapely.geometry import LineString, Point
 
 from router.check import check
-from router.copper import copper_items
 from router.fanout import plan_row
 from router.grid import RoutingGrid
 from router.model import Board, Net, NetClass, Part, Rules
 from router.negotiate import _Negotiation, _pad_groups, route_board
 from router.realgen import _chip, _conn
 from router.units import TOL
-from test_exits import crowded_row
+from test_exits import assert_traces_keep, crowded_row
 
 
 def supply_mid_row() -> Board:
@@ -169,14 +168,7 @@ def test_planned_row_routes_completely_and_clean(make):
     r = route_board(make(), fanout_first=True, retries=0)
     assert r.failed == {}
     assert [v for v in check(r.board) if v.rule != "open"] == []
-    items = copper_items(r.board)
-    traces = [it for it in items if it.kind == "trace"]
-    others = [it for it in items if it.kind in ("trace", "via")]
-    for t in traces:
-        for o in others:
-            if o is t or o.net == t.net or not set(t.layers) & set(o.layers):
-                continue
-            assert t.core.distance(o.core) - t.radius - o.radius >= 0.2 - TOL, (t.net, o.net)
+    assert_traces_keep(r.board, 0.2)
 
 
 def test_pads_with_grid_points_are_not_planned():

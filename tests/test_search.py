@@ -338,6 +338,16 @@ def test_bad_costs_rejected():
         find_path(sp, [(0, 0, 9)], [(0, 0, 2)], bend=1, via=0)
 
 
+def _random_case(rng, L: int, density: float):
+    """A random space of 6 to 39 cells a side, two sources and 1 to 11 targets."""
+    ny, nx_ = int(rng.integers(6, 40)), int(rng.integers(6, 40))
+    sp = random_space(rng, L, ny, nx_, density=density)
+    src = np.stack([rng.integers(0, L, 2), rng.integers(0, ny, 2), rng.integers(0, nx_, 2)], axis=1)
+    k = int(rng.integers(1, 12))
+    tgt = np.stack([rng.integers(0, L, k), rng.integers(0, ny, k), rng.integers(0, nx_, k)], axis=1)
+    return sp, src, tgt
+
+
 @pytest.mark.parametrize("seed", range(40))
 def test_bound_keeps_the_path_or_says_over(seed):
     """find_path's ``bound``: at or above networkx's Dijkstra cost (the outside reference) the
@@ -346,11 +356,7 @@ def test_bound_keeps_the_path_or_says_over(seed):
     from router.search import OVER_BOUND
     rng = np.random.default_rng(500 + seed)
     L = 1 + seed % 2
-    ny, nx_ = int(rng.integers(6, 40)), int(rng.integers(6, 40))
-    sp = random_space(rng, L, ny, nx_, density=0.25)
-    src = np.stack([rng.integers(0, L, 2), rng.integers(0, ny, 2), rng.integers(0, nx_, 2)], axis=1)
-    k = int(rng.integers(1, 12))
-    tgt = np.stack([rng.integers(0, L, k), rng.integers(0, ny, k), rng.integers(0, nx_, k)], axis=1)
+    sp, src, tgt = _random_case(rng, L, 0.25)
     bend, via = int(rng.integers(0, 500)), int(rng.integers(0, 900))
     p, ref = _search_and_networkx(sp, src, tgt, bend=bend, via=via)
     if ref is None:
@@ -373,11 +379,7 @@ def test_costly_targets_same_path_as_plain(seed):
     import router.search as S
     rng = np.random.default_rng(900 + seed)
     L = 1 + seed % 2
-    ny, nx_ = int(rng.integers(6, 40)), int(rng.integers(6, 40))
-    sp = random_space(rng, L, ny, nx_, density=0.2)
-    src = np.stack([rng.integers(0, L, 2), rng.integers(0, ny, 2), rng.integers(0, nx_, 2)], axis=1)
-    k = int(rng.integers(1, 12))
-    tgt = np.stack([rng.integers(0, L, k), rng.integers(0, ny, k), rng.integers(0, nx_, k)], axis=1)
+    sp, src, tgt = _random_case(rng, L, 0.2)
     extra = sp.extra.copy()
     extra[tgt[:, 0], tgt[:, 1], tgt[:, 2]] += int(rng.integers(1, 5000))
     sp = SearchSpace(sp.open_cell, sp.open_h, sp.open_v, sp.via_ok, extra)
