@@ -633,8 +633,9 @@ def _price_exits(grid: RoutingGrid, space: SearchSpace, terms: list, first: int,
         for c, stub in t.cells.items():
             if stub:
                 price[c] = _exit_price(grid, space, c, stub, via, bend)
-            if hit is not None and hit(c):         # too close to another net's planned exit (router.fanout)
-                price[c] = price.get(c, 0) + hit(c)
+            extra = hit(c) if hit is not None else 0
+            if extra:                              # too close to another net's planned exit (router.fanout)
+                price[c] = price.get(c, 0) + extra
         if k == first and (hit is not None or any(price.values())):
             # (with a fan-out plan, every cell's own cost too: a source pays nothing, so an exit
             # that another net's planned exit makes dear (router.fanout) is left out, not priced)
