@@ -767,13 +767,27 @@ def _repair(neg: _Negotiation, lost: dict, rounds: int, order: Optional[list] = 
             neg.lay(n, routes[n])
         lost.clear()
         lost.update(was_lost)
-    # the obstacles that close a lost net's way (router.blockage), named once for the nets still
-    # lost (naming them at every failed reroute of a net in the way cost more than the reroutes)
-    for net in [n for n in neg.nets if n in unexplained and lost.get(n, "").endswith(UNNAMED)
-                and n not in neg.routes]:
+    _name_or_lay(neg, lost, [n for n in neg.nets if n in unexplained and lost.get(n, "").endswith(UNNAMED)
+                             and n not in neg.routes])
+
+
+def _name_or_lay(neg: _Negotiation, lost: dict, nets: list) -> None:
+    """The obstacles that close each lost net's way (router.blockage), named once for the nets
+    still lost at the end of repair (naming them at every failed reroute of a net in the way cost
+    more than the reroutes). The naming route is a strict one (other nets' copper as walls): when
+    it finds a way after all, because a later rip-up opened one, the net is laid and is no longer
+    lost."""
+    for net in nets:
         r = neg.route(net, strict=True)
         if r.failed:
             lost[net] = r.failed
+            continue
+        neg.lay(net, r)
+        if neg.conflicts(only=[net])[0].get(net):      # walls keep a strict route apart; checked all the same
+            neg.rip(net)
+            lost[net] = "no way past the other nets after rip-up and reroute"
+        else:
+            del lost[net]
 
 
 def _anchor_test(grid: RoutingGrid, net: str, r: NetRoute):
