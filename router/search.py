@@ -310,6 +310,7 @@ class _Workspace:
         self.parent = np.zeros(n_states, dtype=np.int32)
         self.stamp = 0
         self.tmask = None
+        self.seen = None                 # the cut-off floods' work arrays (_cut_off_sides), made on first use
         self.head = np.zeros(1 << 12, dtype=np.int32)
         # the queue's entries: a search that fills them is run again with twice as many (the same
         # result), so they start small and grow to what the board's searches need, not to the grid
@@ -623,6 +624,120 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_r
     return (-3 if cut else -1), expanded
 
 
+@njit(cache=True)
+def _cut_off(open_cell, open_h, open_v, via_ok, starts, other, seen, stamp, queue, forward):
+    """Whether the cells reachable from `starts` (forward: the moves a path makes from them;
+    else backward: the cells a path could come from into them) are all found within
+    ``queue.shape[0]`` cells and none of them is in `other` (then no path joins the two sets).
+    Steps and vias as :func:`_astar` makes them: a cell entered must be open; a source need not
+    be. Returns 1 when cut off, 0 when a cell of `other` was met or the flood outgrew the queue."""
+    L, ny, nx = open_cell.shape
+    most = queue.shape[0]
+    n = 0
+    for r in range(starts.shape[0]):
+        l = starts[r, 0]
+        j = starts[r, 1]
+        i = starts[r, 2]
+        c = (l * ny + j) * nx + i
+        if seen[c] == stamp:
+            continue
+        if not forward and open_cell[l, j, i] == 0:
+            continue            # a target that is not open is entered by no path
+        if n == most:
+            return 0
+        seen[c] = stamp
+        queue[n] = c
+        n += 1
+    k = 0
+    while k < n:
+        c = queue[k]
+        k += 1
+        i = c % nx
+        j = (c // nx) % ny
+        l = c // (nx * ny)
+        for move in range(5):
+            nl = l
+            ni = i
+            nj = j
+            if move == 0:
+                ni = i + 1
+                if ni >= nx or open_h[l, j, i] == 0:
+                    continue
+            elif move == 1:
+                nj = j + 1
+                if nj >= ny or open_v[l, j, i] == 0:
+                    continue
+            elif move == 2:
+                ni = i - 1
+                if ni < 0 or open_h[l, j, ni] == 0:
+                    continue
+            elif move == 3:
+                nj = j - 1
+                if nj < 0 or open_v[l, nj, i] == 0:
+                    continue
+            else:
+                if L != 2 or via_ok[j, i] == 0:
+                    continue
+                nl = 1 - l
+            t = (nl * ny + nj) * nx + ni
+            if seen[t] == stamp:
+                continue
+            if forward:
+                if open_cell[nl, nj, ni] == 0:
+                    continue            # a path enters only open cells
+                if other[nl, nj, ni]:
+                    return 0
+            else:
+                if other[nl, nj, ni]:
+                    return 0            # a source: a path may leave it whether open or not
+                if open_cell[nl, nj, ni] == 0:
+                    continue            # neither open nor a source: on no path
+            if n == most:
+                return 0
+            seen[t] = stamp
+            queue[n] = t
+            n += 1
+    return 1
+
+
+#: The most cells :func:`find_path` floods from each side before a search to find a side cut off
+#: (a pad walled in by other nets' copper: then no search runs; our choice: a walled-in pad's
+#: pocket is a few hundred cells, and a flood this size costs a small share of a search).
+CUT_FLOOD = 4096
+
+
+def _cut_off_sides(space: SearchSpace, src: np.ndarray, tgt: np.ndarray, tmask: np.ndarray, ws) -> bool:
+    """True when no path joins `src` to `tgt` in `space` (steps and vias, no jumpers), found by a
+    flood of at most :data:`CUT_FLOOD` cells from each side; False when not known."""
+    L, ny, nx = space.shape
+    if ws.seen is None or ws.smask.shape != (L, ny, nx):
+        ws.seen = np.zeros(L * ny * nx, dtype=np.int32)
+        ws.seen_stamp = 0
+        ws.smask = np.zeros((L, ny, nx), dtype=np.uint8)
+        ws.flood = np.empty(CUT_FLOOD, dtype=np.int32)
+    for side, other, forward in ((tgt, None, False), (src, tmask, True)):
+        if len(side) > CUT_FLOOD:
+            continue
+        ws.seen_stamp += 1
+        if ws.seen_stamp >= 2**31 - 2:
+            ws.seen[:] = 0
+            ws.seen_stamp = 1
+        if other is None:
+            other = ws.smask
+            other[src[:, 0], src[:, 1], src[:, 2]] = 1
+            try:
+                cut = _cut_off(space.open_cell, space.open_h, space.open_v, space.via_ok, side, other,
+                               ws.seen, ws.seen_stamp, ws.flood, False)
+            finally:
+                other[src[:, 0], src[:, 1], src[:, 2]] = 0
+        else:
+            cut = _cut_off(space.open_cell, space.open_h, space.open_v, space.via_ok, side, other,
+                           ws.seen, ws.seen_stamp, ws.flood, True)
+        if cut:
+            return True
+    return False
+
+
 _NO_I32_3 = np.zeros((1, 1, 1), np.int32)
 _NO_I64_3 = np.zeros((1, 1, 1), np.int64)
 _NO_I32_2 = np.zeros((1, 1), np.int32)
@@ -814,6 +929,18 @@ def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump
 
     limit = -1 if bound is None else max(0, int(bound))
     entry = _entry_cost(space, tgt, src)
+    if bound is None and not space.has_jumpers and not tmask[src[:, 0], src[:, 1], src[:, 2]].any():
+        # a side walled in (a pad in a pocket of other nets' copper): the search would sweep all the
+        # other side reaches to find nothing. (Unbounded searches only: a bounded one that finds
+        # nothing says whether its bound left states out, which the caller reads.)
+        try:
+            cut = _cut_off_sides(space, src, tgt, tmask, ws)
+        except BaseException:
+            tmask[tgt[:, 0], tgt[:, 1], tgt[:, 2]] = 0
+            raise
+        if cut:
+            tmask[tgt[:, 0], tgt[:, 1], tgt[:, 2]] = 0
+            return None
     try:
         if entry >= ENTRY_MIN:
             # every path pays at least `entry` on its last move (into a target cell): first the

@@ -395,3 +395,58 @@ def test_costly_targets_same_path_as_plain(seed):
         assert plain is None
     else:
         assert plain.cost == p.cost and plain.cells.tolist() == p.cells.tolist()
+
+
+def _ring(sp, l, j, i, r, gap):
+    """Close the cells at Chebyshev distance `r` around (j, i) on layer `l`, but `gap` of them."""
+    L, ny, nx_ = sp.shape
+    ring = [(jj, ii) for jj in range(j - r, j + r + 1) for ii in range(i - r, i + r + 1)
+            if max(abs(jj - j), abs(ii - i)) == r and 0 <= jj < ny and 0 <= ii < nx_]
+    for k, (jj, ii) in enumerate(ring):
+        if k not in gap:
+            sp.open_cell[l, jj, ii] = 0
+
+
+@pytest.mark.parametrize("seed", range(40))
+def test_walled_in_side_equals_networkx(seed):
+    # a source or target cell inside a ring of closed cells (sometimes with a gap, sometimes with
+    # a via place inside the ring) on a random grid: the flood that finds a side cut off
+    # (search._cut_off_sides) must agree with networkx's Dijkstra on the same state graph
+    rng = np.random.default_rng(1000 + seed)
+    L = 1 + seed % 2
+    ny, nx_ = int(rng.integers(9, 16)), int(rng.integers(9, 16))
+    sp = random_space(rng, L, ny, nx_, density=0.1)
+    j, i = int(rng.integers(2, ny - 2)), int(rng.integers(2, nx_ - 2))
+    inside = [(int(rng.integers(0, L)), j, i)]
+    for l in range(L):
+        _ring(sp, l, j, i, 2, {int(rng.integers(0, 16))} if seed % 3 == 0 else set())
+    outside = [(int(rng.integers(0, L)), int(rng.integers(0, ny)), 0), (0, 0, int(rng.integers(0, nx_)))]
+    outside = [c for c in outside if max(abs(c[1] - j), abs(c[2] - i)) > 2]
+    src, tgt = (inside, outside) if seed % 4 < 2 else (outside, inside)
+    _search_and_networkx(sp, np.array(src), np.array(tgt), bend=int(rng.integers(0, 300)),
+                         via=int(rng.integers(0, 500)))
+
+
+def test_walled_in_target_found_by_the_flood():
+    # a 60 x 60 open grid, the target walled in by a ring: the flood from the target meets no
+    # source within its few cells, so no search runs (hand-drawn; networkx agrees: no path)
+    from router import search as S
+    sp = space_from(["." * 60] * 60)
+    _ring(sp, 0, 30, 30, 2, set())
+    src, tgt = np.array([(0, 0, 0)]), np.array([(0, 30, 30)])
+    ws = S._workspace(60 * 60 * S.NDIR)
+
+    def cut(t):
+        tmask = ws.target_mask((1, 60, 60))
+        tmask[t[:, 0], t[:, 1], t[:, 2]] = 1
+        try:
+            return S._cut_off_sides(sp, src, t, tmask, ws)
+        finally:
+            tmask[t[:, 0], t[:, 1], t[:, 2]] = 0
+    assert cut(tgt)
+    assert not cut(np.array([(0, 59, 59)]))
+    _search_and_networkx(sp, src, tgt, bend=10, via=0)
+    # the same ring with one gap: a path exists, the flood does not say otherwise
+    sp.open_cell[0, 28, 30] = 1
+    p, ref = _search_and_networkx(sp, src, tgt, bend=10, via=0)
+    assert p is not None
