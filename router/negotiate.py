@@ -76,6 +76,11 @@ REORDER_WINDOW = 1.5
 #: (router.viapass.MOVE_NEAR). Smaller boards keep the fuller search (our choice, see
 #: DEVELOPERS.md for what each costs and gives).
 BIG_WORK = 20_000_000
+#: On a big board a net's searches at congestion cost keep to the grid within this many mm of the
+#: box around its pads, and search the whole board only when no way is found there (our choice:
+#: late in negotiation a shared cell costs hundreds of grid steps, and a search whose targets lie
+#: behind shared cells swept the whole board for a way round; see DEVELOPERS.md).
+WINDOW = 10.0
 
 
 @dataclass
@@ -123,6 +128,8 @@ class _Negotiation:
         self.spaces = NetSpaces(grid)              # search spaces from parts made once (router.spaces)
         self.fanout = None                         # fine-pitch parts' planned exits (router.fanout), plan_fanout()
         self.hist_top = None                       # the larger history of the layers, made once per pass
+        self.window = None                         # big boards: mm around a net's pads its searches keep to (WINDOW)
+        self._windows: dict = {}
 
     def zero_hist(self) -> np.ndarray:
         """A history of zeros shaped as ``hist`` (made once; never written)."""
@@ -195,13 +202,23 @@ class _Negotiation:
         extra = self.reserve.extra_for(net)
         if self.fanout is not None:
             extra = self.fanout.add_to(net, extra)
-        space, others = self.spaces.space(self, net, strict, extra)
-        if self.fanout is not None and self.fanout.own:
-            space.exit_free = lambda c, net=net: self.fanout.zone_cost(net, c)
-            space.exit_hit = lambda c, net=net: self.fanout.hit_cost(net, c)
-        r = route_net(grid, net, space, self.groups[net], bend=self.bend, via=self.via if via is None else via,
-                      jump=self.jump, others=others, cache=not strict, order=self.ties.get(net, (0, 1, 2, 3)),
-                      explain=explain and (strict or not grid.one_layer), budget=budget)     # two layers: found once
+        box = self.window_of(net) if (not strict and budget is None and via is None) else None
+        for box in ([box, None] if box is not None else [None]):
+            space, others = self.spaces.space(self, net, strict, extra)
+            if box is not None:          # the window first (WINDOW); the whole board when no way is found in it
+                j0, i0, j1, i1 = box
+                keep = space.open_cell[:, j0:j1, i0:i1].copy()
+                space.open_cell[:] = 0
+                space.open_cell[:, j0:j1, i0:i1] = keep
+            if self.fanout is not None and self.fanout.own:
+                space.exit_free = lambda c, net=net: self.fanout.zone_cost(net, c)
+                space.exit_hit = lambda c, net=net: self.fanout.hit_cost(net, c)
+            r = route_net(grid, net, space, self.groups[net], bend=self.bend, via=self.via if via is None else via,
+                          jump=self.jump, others=others, cache=not strict, order=self.ties.get(net, (0, 1, 2, 3)),
+                          explain=explain and (strict or not grid.one_layer) and box is None,     # two layers: found once
+                          budget=budget)
+            if not r.failed:
+                break
         if not strict:
             self.reserve.add(net, [p for g in self.groups[net] for p in g])
         if r.blind or (r.failed and not strict and not grid.one_layer and budget is None):
@@ -209,6 +226,26 @@ class _Negotiation:
             # is only a cost here): the fixed copper, the edge or keepouts close it; found once
             self.blind[net] = r.failed
         return r
+
+    def window_of(self, net: str) -> Optional[tuple]:
+        """(j0, i0, j1, i1), end exclusive: the grid cells within ``self.window`` mm of the box
+        around `net`'s pads, or None (no window, or the window holds the whole grid)."""
+        if self.window is None:
+            return None
+        got = self._windows.get(net)
+        if got is None:
+            grid = self.grid
+            pads = [p for g in self.groups[net] for p in g]
+            m = int(math.ceil(self.window / grid.pitch))
+            i0 = int(math.floor(min(p.x for p in pads) / grid.pitch)) - grid.i0 - m
+            i1 = int(math.ceil(max(p.x for p in pads) / grid.pitch)) - grid.i0 + m + 1
+            j0 = int(math.floor(min(p.y for p in pads) / grid.pitch)) - grid.j0 - m
+            j1 = int(math.ceil(max(p.y for p in pads) / grid.pitch)) - grid.j0 + m + 1
+            got = (max(j0, 0), max(i0, 0), min(j1, grid.ny), min(i1, grid.nx))
+            if got == (0, 0, grid.ny, grid.nx):
+                got = ()
+            self._windows[net] = got
+        return got or None
 
     def plan_fanout(self) -> None:
         """The fan-out plan of the board's fine-pitch parts (:class:`router.fanout.FanoutPlan`),
@@ -510,6 +547,8 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
         sizes = [s * math.exp(rng.normal(0.0, 0.35)) for s in sizes]
     order = [n for _, _, n in sorted(zip(sizes, ties, nets))]
     neg = _Negotiation(b, grid, order, groups, bend, via, jump, crowd=fewer)
+    if big:
+        neg.window = WINDOW
     if plan:                             # fine-pitch rows fanned out as one, before any net (router.fanout)
         neg.plan_fanout()
         if neg.fanout is None or not neg.fanout.chosen:
