@@ -44,7 +44,8 @@ from typing import Optional
 import numpy as np
 from numba import njit
 
-__all__ = ["STEP", "OVER_BOUND", "LazyCosts", "SearchSpace", "Path", "find_path", "target_boxes", "reference_graph", "path_cost"]
+__all__ = ["STEP", "OVER_BOUND", "LazyCosts", "SearchSpace", "Path", "find_path", "target_boxes", "reference_graph", "path_cost",
+           "states_expanded"]
 
 #: Cost of one grid step; penalties are in the same unit (a bend of B mm is round(STEP * B / pitch)).
 STEP = 100
@@ -840,6 +841,15 @@ def _entry_cost(space: SearchSpace, tgt: np.ndarray, src: np.ndarray) -> int:
     return int(e.min())
 
 
+_EXPANDED = [0]
+
+
+def states_expanded() -> int:
+    """States the searches of this process have expanded so far (a caller's budget of work:
+    the difference across its searches)."""
+    return _EXPANDED[0]
+
+
 def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump: int = 0,
               step: int = STEP, order=(0, 1, 2, 3), bound: Optional[int] = None) -> Optional[Path]:
     """The cheapest path from any source cell to any target cell, or None.
@@ -914,6 +924,11 @@ def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump
     head = ws.buckets(span)
     lazy_args = _lazy_args(space, L)
     def run(key_boxes, prune_boxes, bound, k_e=0, p_e=0):
+        out = _run(key_boxes, prune_boxes, bound, k_e, p_e)
+        _EXPANDED[0] += out[1]
+        return out
+
+    def _run(key_boxes, prune_boxes, bound, k_e, p_e):
         while True:
             stamp = ws.next_stamp()
             end, n = _astar(space.open_cell, space.open_h, space.open_v, space.via_ok, space.extra,

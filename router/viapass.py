@@ -22,7 +22,7 @@ from typing import Optional
 
 import numpy as np
 
-__all__ = ["VIA_TRADE", "CROWD_RADIUS", "CROWD_SHARE", "CROSS_PRICE", "MAX_MOVED", "MOVE_NEAR", "ViaCrowd", "fewer_vias",
+__all__ = ["VIA_TRADE", "CROWD_RADIUS", "CROWD_SHARE", "CROSS_PRICE", "MAX_MOVED", "MOVE_NEAR", "MOVE_SWEEPS", "ViaCrowd", "fewer_vias",
            "move_blockers"]
 
 #: The most a removed via may cost in extra trace, bends included, in mm (our choice: a via
@@ -41,6 +41,11 @@ MAX_MOVED = 6
 #: within this many mm of its cells (our choice: the same try with nothing near it moved mostly
 #: finds the same way).
 MOVE_NEAR = 3.0
+#: One net's try to move the nets in its way (:func:`move_blockers`) gives up when its searches have
+#: expanded more than this many times the board's search states (layers x cells x 5 headings):
+#: a try that sweeps the board more than once routes nets of many pads again as victims, and
+#: those tries cost seconds each and were not kept (our choice, measured in DEVELOPERS.md).
+MOVE_SWEEPS = 1.0
 #: Vias of other nets closer than this (mm, centre to centre) make a via dearer.
 CROWD_RADIUS = 1.5
 #: Each via near adds this share of the via penalty.
@@ -160,6 +165,9 @@ def _cells_box(routes) -> tuple:
 def _try_move(neg, net: str, trade: int, price: float, poured: set, before: dict, pure_cost) -> tuple:
     """One net's try (see :func:`move_blockers`); returns the vias removed (0: nothing changed) and the
     box of the cells of the nets changed, before and after (:func:`_cells_box`)."""
+    from .search import NDIR, states_expanded
+    g = neg.grid
+    most = states_expanded() + int(MOVE_SWEEPS * g.L * g.ny * g.nx * NDIR)      # the try's work (MOVE_SWEEPS)
     old = {net: neg.routes[net]}
     saved = neg.present, neg.hist, neg.blind.get(net)
     neg.rip(net)
@@ -187,7 +195,7 @@ def _try_move(neg, net: str, trade: int, price: float, poured: set, before: dict
     left = sum(pure_cost(neg, old[n]) + trade * len(old[n].vias) for n in [net] + victims) - 1
     left -= pure_cost(neg, new) + trade * len(new.vias)
     for v in victims:
-        if left < 0:
+        if left < 0 or states_expanded() > most:
             return _undo(neg, old), None
         rv = neg.route(v, strict=True, via=neg.via + trade, explain=False, budget=left)
         if rv.failed:

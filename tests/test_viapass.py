@@ -208,6 +208,21 @@ def test_moving_the_net_in_the_way_takes_out_vias_the_walled_pass_keeps():
     assert 0 < extra < 2 * (DEFAULT_VIA + VIA_TRADE) + 1e-6
 
 
+def test_a_move_that_outgrows_its_work_budget_puts_everything_back(monkeypatch):
+    # the move above with MOVE_SWEEPS 0: X's own search already spends the try's budget, so Y is
+    # not routed again and every route goes back as it was (hand-worked: the move needs Y's search)
+    from router import search, viapass
+    from router.negotiate import _cost
+    b, grid, neg, order = _staged(channel_board())
+    routes = dict(neg.routes)
+    monkeypatch.setattr(viapass, "MOVE_SWEEPS", 0.0)
+    s0 = search.states_expanded()
+    assert viapass.move_blockers(neg, order, _cost(VIA_TRADE, grid.pitch)) == (0, 0)
+    assert search.states_expanded() > s0
+    assert all(neg.routes[n] is routes[n] for n in order)
+    assert neg.conflicts()[0] == {}
+
+
 def test_moving_puts_everything_back_when_the_net_in_the_way_cannot_move():
     # the gap below X's lower pad closed on the top too: Y has no way round, so nothing changes
     from router.negotiate import _cost
