@@ -549,6 +549,7 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
     neg = _Negotiation(b, grid, order, groups, bend, via, jump, crowd=fewer)
     if big:
         neg.window = WINDOW
+        neg.any_tie = True               # one search where two would pick the plain search's tie (search.SearchSpace)
     if plan:                             # fine-pitch rows fanned out as one, before any net (router.fanout)
         neg.plan_fanout()
         if neg.fanout is None or not neg.fanout.chosen:

@@ -161,6 +161,10 @@ class SearchSpace:
     _wire_rows: Optional[np.ndarray] = field(default=None, repr=False, compare=False)
     _wire_cols: Optional[np.ndarray] = field(default=None, repr=False, compare=False)
     lazy: Optional[LazyCosts] = None
+    #: Among equally cheap paths, the one the first search finds: where :func:`find_path` searches
+    #: twice (far-apart targets, a dear entry), the second search, which only picks the plain
+    #: search's path among the equally cheap ones, is left out.
+    any_tie: bool = False
     _maxes: dict = field(default_factory=dict, repr=False, compare=False)
     _own_extra: bool = field(default=False, repr=False, compare=False)
 
@@ -964,7 +968,7 @@ def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump
             # without it, every state that cannot end within that cost left out (the same path)
             kb = boxes if len(boxes) > 1 else one
             end, expanded = run(kb, kb, limit, entry, entry)
-            if end >= 0:
+            if end >= 0 and not space.any_tie:
                 best = int(ws.g[end])
                 end, n = run(one, kb, best, 0, entry)
                 expanded += n
@@ -975,7 +979,7 @@ def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump
             end, expanded = run(one, one, limit)
         elif limit >= 0:
             end, expanded = run(boxes, boxes, limit)      # the least cost within the caller's bound
-            if end >= 0:
+            if end >= 0 and not space.any_tie:
                 best = int(ws.g[end])
                 end, n = run(one, boxes, best)
                 expanded += n
@@ -989,7 +993,7 @@ def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump
             # the clusters exceeds that cost left out: the same choice among equal paths as the
             # plain search, without its sweep of the whole box
             end, expanded = run(boxes, boxes, -1)
-            if end >= 0:
+            if end >= 0 and not space.any_tie:
                 best = int(ws.g[end])
                 end, n = run(one, boxes, best)
                 expanded += n

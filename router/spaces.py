@@ -152,4 +152,5 @@ class NetSpaces:
                              wire_block=(g.wire > 0).astype(np.uint8), jump_cells=g.jump_cells, lazy=lazy)
         else:
             sp = SearchSpace(cell, hm, vm, via, None, lazy=lazy)
+        sp.any_tie = bool(getattr(neg, "any_tie", False))     # big boards (router.negotiate)
         return sp, others

@@ -450,3 +450,28 @@ def test_walled_in_target_found_by_the_flood():
     sp.open_cell[0, 28, 30] = 1
     p, ref = _search_and_networkx(sp, src, tgt, bend=10, via=0)
     assert p is not None
+
+
+@pytest.mark.parametrize("seed", range(24))
+def test_any_tie_one_search_same_cost(seed):
+    """With ``any_tie`` (big boards), find_path keeps the first of its two searches' path: far-apart
+    target clusters and dear targets alike, the cost is networkx's Dijkstra's and the path joins
+    a source to a target at that cost (path_cost), found in fewer expanded states than two."""
+    rng = np.random.default_rng(2000 + seed)
+    L = 1 + seed % 2
+    ny, nx_ = int(rng.integers(36, 56)), int(rng.integers(36, 56))
+    sp = random_space(rng, L, ny, nx_, density=0.2)
+    k = int(rng.integers(2, 8))
+    tgt = np.stack([rng.integers(0, L, k), rng.integers(0, ny, k), rng.integers(0, nx_, k)], axis=1)
+    if seed % 2:                         # dear targets: the entry cost in the heuristic
+        sp.extra[tgt[:, 0], tgt[:, 1], tgt[:, 2]] += int(rng.integers(STEP, 5000))
+    src = np.stack([rng.integers(0, L, 3), rng.integers(0, ny, 3), rng.integers(0, nx_, 3)], axis=1)
+    bend, via = int(rng.integers(0, 500)), int(rng.integers(0, 900))
+    plain, ref = _search_and_networkx(sp, src, tgt, bend=bend, via=via)
+    sp.any_tie = True
+    p, ref2 = _search_and_networkx(sp, src, tgt, bend=bend, via=via)
+    assert ref2 == ref
+    if ref is not None:
+        assert path_cost(sp, p.cells, bend=bend, via=via) == ref
+        assert p.cells[0].tolist() in src.tolist() and p.cells[-1].tolist() in tgt.tolist()
+        assert p.expanded <= plain.expanded
