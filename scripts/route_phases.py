@@ -21,11 +21,12 @@ sys.path.insert(0, str(Path.cwd()))
 
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    ap.add_argument("--pads", type=int, default=1300)
+    ap.add_argument("--pads", type=int, default=1300, help="0: the generator's own count (as stress_real)")
     ap.add_argument("--nets", type=int, default=150)
     ap.add_argument("--seed", type=int, default=0)
     ap.add_argument("--enclosed", type=int, default=0)
     ap.add_argument("--retries", type=int, default=0)
+    ap.add_argument("--grid", type=float, default=None, help="route on this grid pitch in mm (as stress_real --grid)")
     args = ap.parse_args(argv)
     from router import negotiate
     from router.boardgen import generate_board
@@ -85,7 +86,9 @@ def main(argv=None) -> int:
         state["routed"] = True
         return route(self, *a, **kw)
     negotiate._Negotiation.route = routing
-    board = real_board(args.seed, args.nets, pads=args.pads, enclosed=args.enclosed)
+    board = real_board(args.seed, args.nets, pads=args.pads or None, enclosed=args.enclosed)
+    if args.grid is not None:
+        board.rules.grid = args.grid
     t0 = time.perf_counter()
     r = negotiate.route_board(board, seed=args.seed, retries=args.retries)
     t = r.figures["totals"]
