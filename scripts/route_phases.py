@@ -26,6 +26,9 @@ def main(argv=None) -> int:
     ap.add_argument("--seed", type=int, default=0)
     ap.add_argument("--enclosed", type=int, default=0)
     ap.add_argument("--retries", type=int, default=0)
+    ap.add_argument("--route-seed", type=int, default=None,
+                    help="route_board's seed (default: --seed; stress_real routes every board with 0)")
+    ap.add_argument("--angled", action="store_true", help="arc corners and 45-degree capacitors (as stress_real --angled)")
     ap.add_argument("--grid", type=float, default=None, help="route on this grid pitch in mm (as stress_real --grid)")
     args = ap.parse_args(argv)
     from router import negotiate
@@ -86,11 +89,13 @@ def main(argv=None) -> int:
         state["routed"] = True
         return route(self, *a, **kw)
     negotiate._Negotiation.route = routing
-    board = real_board(args.seed, args.nets, pads=args.pads or None, enclosed=args.enclosed)
+    board = real_board(args.seed, args.nets, pads=args.pads or None, enclosed=args.enclosed,
+                       angled=args.angled)
     if args.grid is not None:
         board.rules.grid = args.grid
     t0 = time.perf_counter()
-    r = negotiate.route_board(board, seed=args.seed, retries=args.retries)
+    r = negotiate.route_board(board, seed=args.seed if args.route_seed is None else args.route_seed,
+                              retries=args.retries)
     t = r.figures["totals"]
     print(f"router at {Path.cwd()}: {time.perf_counter() - t0:.1f} s wall, {t['routed']}/{len(board.nets)} "
           f"routed, {t['vias']} vias, {r.passes} passes")
