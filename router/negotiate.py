@@ -69,6 +69,13 @@ REPAIR_PRICE = 5.0
 #: unrouted, routes that net first and them after it (our choice: a fine-pitch pad's exit and
 #: the copper beside it, see _reorder_local).
 REORDER_WINDOW = 1.5
+#: Passes of the short negotiation among the nets the planned re-order rips up (our choice).
+LOCAL_PASSES = 12
+#: The planned re-order rips up the nets with a cell this near (mm) a lost pad (our choice: a fine-pitch
+#: part's fan-out and the first turns beyond it, about a 0.5 mm row's width of eight pads).
+PLAN_WINDOW = 5.0
+#: Nets of more pads are ripped up by the planned re-order only where they hold a planned exit (our choice).
+LOCAL_MOST_PADS = 4
 #: A board whose nets x grid cells exceed this is big: it is routed in one net order (no
 #: ``retries``: each order costs minutes there, 7 to 9 on our shared 2-core machine for 150 nets
 #: on 570,000 cells), its negotiation stops at a stall of less than STALL_FALL, its repair and
@@ -247,18 +254,20 @@ class _Negotiation:
             self._windows[net] = got
         return got or None
 
-    def plan_fanout(self) -> None:
+    def plan_fanout(self, refs=None) -> None:
         """The fan-out plan of the board's fine-pitch parts (:class:`router.fanout.FanoutPlan`),
         made once before the first pass from the exits of the pads of parts whose own pad gap is
         narrower than the widest class's trace plus two clearances (a trace cannot pass between
         two of their pads): those pads' access, on the board without routed copper, is the grid's
-        access cache that the first pass would fill."""
+        access cache that the first pass would fill. `refs`: plan only these parts (the local
+        re-order, :func:`_reorder_local`)."""
         from .escape import escape_access, own_gaps, pad_vias
         from .fanout import PLAN_DEEPER, PLAN_EXITS, FanoutPlan, scarce
         grid = self.grid
         profs = list(grid.profiles.values())
         wide = max(2 * p.half for p in profs) + 2 * max(v for p in profs for v in p.clearance_to.values())
-        fine = {ref for ref, (gap, _) in own_gaps(self.board, grid.pads).items() if gap < wide - TOL}
+        some = grid.pads if refs is None else [p for p in grid.pads if p.ref in set(refs)]
+        fine = {ref for ref, (gap, _) in own_gaps(self.board, some).items() if gap < wide - TOL}
         if not fine:
             return
         access, pads = {}, {}
@@ -621,6 +630,8 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
         _reorder_local(neg, lost, order)
     if lost:
         _repair(neg, lost, rounds=4 * len(lost) + 8, order=shuffle(list(lost)), priced=big)
+    if lost and big:
+        _reorder_local(neg, lost, order, plan=True)
     if polish:
         _polish(neg, order)
     if fewer and grid.L == 2:            # a pass that takes out vias a net can do without (router.viapass)
@@ -672,12 +683,13 @@ def _polish(neg: _Negotiation, order: list[str]) -> None:
         neg.lay(net, keep)
 
 
-def _window_nets(neg: _Negotiation, net: str, margin: float) -> list[str]:
-    """The routed nets (in negotiation order) with a cell within `margin` mm of a pad of `net`."""
+def _window_nets(neg: _Negotiation, net: str, margin: float, pads=None) -> list[str]:
+    """The routed nets (in negotiation order) with a cell within `margin` mm of a pad of `net`
+    (of `pads`, when given)."""
     grid = neg.grid
     m = int(math.ceil(margin / grid.pitch - 1e-9))
     mask = np.zeros((grid.ny, grid.nx), bool)
-    for group in neg.groups[net]:
+    for group in (neg.groups[net] if pads is None else [pads]):
         for p in group:
             c, rad = grid.layout.core_of(p)
             x0, y0, x1, y1 = box_of_core(c)
@@ -709,7 +721,7 @@ def _priced_route(neg: _Negotiation, net: str) -> NetRoute:
         neg.present, neg.hist = saved
 
 
-def _reorder_local(neg: _Negotiation, lost: dict, order: list[str]) -> None:
+def _reorder_local(neg: _Negotiation, lost: dict, order: list[str], plan: bool = False) -> None:
     """A local re-order for the nets left unrouted after the walls, instead of routing the whole
     board again in another order: the routed nets with copper within :data:`REORDER_WINDOW` of an
     unrouted net's pads (the ones that took its exits) are ripped up, the unrouted net is routed
@@ -717,7 +729,11 @@ def _reorder_local(neg: _Negotiation, lost: dict, order: list[str]) -> None:
     shares cells with are ripped up too, and all of them are routed again with walls in the
     negotiation order. Kept only when every one of them routes and no net shares more than
     before; otherwise every route goes back as it was. Nets no route reaches (``neg.blind``) are
-    left out."""
+    left out. With `plan` (after repair), the re-order with the fan-out plan of each fine-pitch
+    part where a lost net's pad has no exit left instead (:func:`_reorder_planned`)."""
+    if plan:
+        _reorder_planned(neg, lost)
+        return
     before = None
     for net in [n for n in order if n in lost and n not in neg.blind]:
         near = _window_nets(neg, net, REORDER_WINDOW)
@@ -753,6 +769,154 @@ def _reorder_local(neg: _Negotiation, lost: dict, order: list[str]) -> None:
             neg.rip(n)
         for n in sorted(old, key=neg.nets.index):
             neg.lay(n, old[n])
+
+
+def _plan_hits(neg: _Negotiation, plan) -> list[str]:
+    """The routed nets (in negotiation order) with a grid point or via within reach of another
+    net's planned exit (:class:`router.fanout.FanoutPlan`'s zones)."""
+    out = []
+    for n in neg.nets:
+        r = neg.routes.get(n)
+        if r is None or r.failed:
+            continue
+        cells, _, holes, _ = neg.own_at[n]
+        mine = plan.own.get(n)
+        hit = False
+        if len(cells):
+            c = plan.cost[cells[:, 0], cells[:, 1], cells[:, 2]]
+            if mine is not None:
+                own = {tuple(x) for x in mine[0].tolist()}
+                c = c - plan.unit * np.array([tuple(x) in own for x in cells.tolist()], np.int64)
+            hit = bool((c > 0).any())
+        if not hit and len(r.vias):
+            v = np.array(r.vias, np.int64)
+            c = plan.via_cost[v[:, 0], v[:, 1]]
+            if mine is not None:
+                own = {tuple(x) for x in mine[1].tolist()}
+                c = c - plan.unit * np.array([tuple(x) in own for x in v.tolist()], np.int64)
+            hit = bool((c > 0).any())
+        if hit:
+            out.append(n)
+    return out
+
+
+def _negotiate_local(neg: _Negotiation, names: list[str], passes: int) -> None:
+    """A short negotiation among `names` only (the other nets' routes stay as they are, soft):
+    each pass routes the nets that share or failed, the present factor grows, and the shared
+    cells' history grows in a history of its own (the board's is left as it was)."""
+    saved = neg.present, neg.hist, neg.hist_top
+    neg.present, neg.hist, neg.hist_top = 0.5, np.zeros_like(neg.hist), None
+    try:
+        todo = list(names)
+        for _ in range(passes):
+            for n in todo:
+                neg.rip(n)
+                neg.lay(n, neg.route(n))
+            shared, cells = neg.conflicts()
+            todo = [n for n in names if shared.get(n, 0) > 0 or neg.routes[n].failed]
+            if not todo:
+                break
+            for c in cells:
+                if len(c):
+                    neg.hist[c[:, 0], c[:, 1], c[:, 2]] += STEP
+            neg.hist_top = None
+            neg.present *= 1.8
+    finally:
+        neg.present, neg.hist, neg.hist_top = saved
+
+
+def _closed_pads(neg: _Negotiation, net: str) -> list:
+    """The pads of `net` left without an exit to the grid by the other nets' routed copper (walls)."""
+    space, others = neg.spaces.space(neg, net, True, None)
+    pads = [p for g in neg.groups[net] for p in g]
+    return [t.pads[0] for t in terminals(neg.grid, space, net, [[p] for p in pads], others) if not t.cells]
+
+
+def _reorder_planned(neg: _Negotiation, lost: dict) -> None:
+    """The local re-order with the fan-out plan (:mod:`router.fanout`), for the nets of at most
+    :data:`LOCAL_MOST_PADS` pads still lost because other nets' routed copper took every exit of
+    a pad of a fine-pitch part: per such part, that part's fan-out alone is planned, and the
+    routed nets with copper within reach of another net's planned exit or within
+    :data:`PLAN_WINDOW` of the lost pads (then, if that gains nothing, of all the lost nets'
+    pads) are ripped up; the part's lost nets and the ripped-up ones negotiate among themselves
+    for :data:`LOCAL_PASSES` passes paying the plan's price near other nets' planned exits
+    (:func:`_negotiate_local`), and what still shares is routed with walls. Kept only when more
+    nets route than before (a ripped-up net that then finds no way counts against), no net
+    shares more and no many-pad net is lost; otherwise every route goes back as it was."""
+    by_part: dict = defaultdict(list)       # part -> (lost net, its pad there that has no exit)
+    for net in [n for n in neg.nets if n in lost and n not in neg.blind
+                and sum(len(g) for g in neg.groups[n]) <= LOCAL_MOST_PADS]:      # a lost supply: too dear
+        for p in _closed_pads(neg, net):
+            by_part[p.ref].append((net, p))
+    saved = neg.fanout
+    try:
+        for ref in sorted(by_part, key=lambda r: (-len(by_part[r]), r)):      # the parts with most lost nets first
+            nets = sorted({n for n, _ in by_part[ref] if n in lost}, key=neg.nets.index)
+            if not nets:
+                continue
+            neg.fanout = None
+            neg.plan_fanout(refs=[ref])
+            plan = neg.fanout
+            if plan is None or not any(k[0] in nets for k in plan.chosen):
+                continue
+            for whole in (False, True):
+                pads = {n: (None if whole else [p for m, p in by_part[ref] if m == n]) for n in nets}
+                if _planned_try(neg, lost, nets, plan, pads):
+                    break
+    finally:
+        neg.fanout = saved
+
+
+def _planned_try(neg: _Negotiation, lost: dict, nets: list, plan, pads: dict) -> bool:
+    """One try of :func:`_reorder_planned` at one part (``neg.fanout`` is its plan): `nets` the
+    part's lost nets, `pads` the pads each is windowed by (None: all of its pads)."""
+    before, _ = neg.conflicts()
+    snap = dict(neg.routes)
+    near = set(_plan_hits(neg, plan))
+    for net in nets:
+        # many-pad nets (supplies) only where they hold a planned exit: routing them again is dear
+        near.update(n for n in _window_nets(neg, net, PLAN_WINDOW, pads[net])
+                    if sum(len(g) for g in neg.groups[n]) <= LOCAL_MOST_PADS)
+    near -= set(nets)
+    old = {n: neg.routes[n] for n in sorted(near, key=neg.nets.index)}
+    for n in old:
+        neg.rip(n)
+    # the lost nets first, then the nets with planned exits on the part (its fan-out), then the rest
+    fan = {k[0] for k in plan.chosen}
+    again = list(nets) + sorted(old, key=lambda n: (n not in fan, neg.nets.index(n)))
+    _negotiate_local(neg, again, LOCAL_PASSES)
+    shared, _ = neg.conflicts()
+    for n in [n for n in again if n in neg.routes and (shared.get(n, 0) > 0 or neg.routes[n].failed)]:
+        neg.rip(n)
+    failed: dict = {}
+    for n in [n for n in again if n not in neg.routes]:
+        rn = neg.route(n, strict=True, explain=False)
+        if rn.failed:
+            failed[n] = rn.failed
+            continue
+        neg.lay(n, rn)
+    got = [n for n in nets if n not in failed]
+    dropped = {n: w for n, w in failed.items() if n not in nets}
+    if got and dropped and len(got) <= len(dropped):
+        # the ripped-up nets left without a way: rip-up and reroute for them (they, not the lost nets, move)
+        _repair(neg, dropped, rounds=4 * len(dropped) + 4, priced=True)
+        got = [n for n in nets if n in neg.routes and not neg.routes[n].failed]
+        dropped = {n: w for n, w in dropped.items() if n not in nets}
+    shared, _ = neg.conflicts()
+    ok = (len(got) > len(dropped) and not any(k > before.get(n, 0) for n, k in shared.items())
+          and all(sum(len(g) for g in neg.groups[n]) <= LOCAL_MOST_PADS for n in dropped))
+    if ok:
+        for n in got:
+            del lost[n]
+        lost.update(dropped)
+        return True
+    moved = [n for n in neg.nets if neg.routes.get(n) is not snap.get(n)]
+    for n in moved:
+        neg.rip(n)
+    for n in moved:
+        if n in snap:
+            neg.lay(n, snap[n])
+    return False
 
 
 def _repair(neg: _Negotiation, lost: dict, rounds: int, order: Optional[list] = None,
