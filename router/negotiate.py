@@ -151,6 +151,15 @@ class _Negotiation:
             self.hist_top = (self.hist, self.hist.max(axis=0))
         return self.hist_top[1]
 
+    def raise_prices(self, cells: list) -> None:
+        """The end of a negotiation pass: one grid step of history at each shared cell (`cells`, as
+        :meth:`conflicts` gives them), and the present factor grows."""
+        for c in cells:
+            if len(c):
+                self.hist[c[:, 0], c[:, 1], c[:, 2]] += STEP
+        self.hist_top = None
+        self.present *= 1.8
+
     def width(self, net: str) -> float:
         return self.grid.profile_of(net).width
 
@@ -598,11 +607,7 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
             best_left, best_at = left_now, npass
         elif npass - best_at >= STALL and npass >= 2 * STALL:
             break
-        for c in cells:
-            if len(c):
-                neg.hist[c[:, 0], c[:, 1], c[:, 2]] += STEP
-        neg.hist_top = None
-        neg.present *= 1.8
+        neg.raise_prices(cells)
         todo = [n for n in order if n not in neg.blind and (every_net or n in shared or neg.routes[n].failed)]
         todo = shuffle(todo)             # the rip-up order of this pass (the seed's; 0: the first pass's)
     if bar is not None:
@@ -816,11 +821,7 @@ def _negotiate_local(neg: _Negotiation, names: list[str], passes: int) -> None:
             todo = [n for n in names if shared.get(n, 0) > 0 or neg.routes[n].failed]
             if not todo:
                 break
-            for c in cells:
-                if len(c):
-                    neg.hist[c[:, 0], c[:, 1], c[:, 2]] += STEP
-            neg.hist_top = None
-            neg.present *= 1.8
+            neg.raise_prices(cells)
     finally:
         neg.present, neg.hist, neg.hist_top = saved
 
