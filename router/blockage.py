@@ -251,7 +251,7 @@ def pad_closed_by(grid, net: str, space: SearchSpace, pad) -> str:
     reach = rad + 2 * grid.pitch
     near = (bx[0] - reach, bx[1] - reach, bx[2] + reach, bx[3] + reach)
     relax = _Relax(grid, net, space, near=near)
-    ia, ib, ja, jb = grid._window(bx, reach)
+    ia, ib, ja, jb = grid.index_box(bx, reach)
     layers = [grid.layer_index(l) for l in pad.layers if l in grid.layers]
     X, Y = grid.xs[ia:ib], grid.ys[ja:jb]
     gx = np.maximum(np.maximum(bx[0] - X, 0.0), X - bx[2])

@@ -393,7 +393,7 @@ def _escape_via_places(grid, net: str, pad: PlacedPad, la: int, most: int) -> li
     prof = grid.profile_of(net)
     vr = grid.via_d / 2
     reach = rad + max(nl, vr)
-    ia, ib, ja, jb = grid._window((x0, y0, x1, y1), reach)
+    ia, ib, ja, jb = grid.index_box((x0, y0, x1, y1), reach)
     if ia >= ib or ja >= jb:
         return []
     X, Y = grid.xs[ia:ib], grid.ys[ja:jb]

@@ -210,14 +210,16 @@ class RoutingGrid:
     def profile_of(self, net: str) -> ClassProfile:
         return self.profiles[self.net_class.get(net, "default")]
 
-    def _window(self, box: Box, grow: float):
-        """Index ranges of the grid points within `grow` of `box` (one extra step for steps)."""
+    def index_box(self, box: Box, grow: float, cells: int = 1):
+        """(ia, ib, ja, jb), end exclusive and clipped to the grid: the index ranges of the grid
+        points within `grow` mm of `box`, widened by `cells` more steps on every side (one by
+        default, for steps). The one place a box in mm becomes a box of grid indices."""
         g = self.pitch
         bx0, by0, bx1, by1 = box
-        ia = max(0, int(math.floor((bx0 - grow) / g)) - self.i0 - 1)
-        ib = min(self.nx, int(math.ceil((bx1 + grow) / g)) - self.i0 + 2)
-        ja = max(0, int(math.floor((by0 - grow) / g)) - self.j0 - 1)
-        jb = min(self.ny, int(math.ceil((by1 + grow) / g)) - self.j0 + 2)
+        ia = max(0, int(math.floor((bx0 - grow) / g)) - self.i0 - cells)
+        ib = max(0, min(self.nx, int(math.ceil((bx1 + grow) / g)) - self.i0 + cells + 1))
+        ja = max(0, int(math.floor((by0 - grow) / g)) - self.j0 - cells)
+        jb = max(0, min(self.ny, int(math.ceil((by1 + grow) / g)) - self.j0 + cells + 1))
         return ia, ib, ja, jb
 
     def near_points(self, a, b, layer: int) -> list:
@@ -226,7 +228,7 @@ class RoutingGrid:
         g = self.pitch
         x0, x1 = sorted((a[0], b[0]))
         y0, y1 = sorted((a[1], b[1]))
-        ia, ib, ja, jb = self._window((x0, y0, x1, y1), g / 2)
+        ia, ib, ja, jb = self.index_box((x0, y0, x1, y1), g / 2)
         out = []
         for j in range(ja, jb):
             for i in range(ia, ib):
@@ -309,7 +311,7 @@ class RoutingGrid:
     def _stamp_points(self, box: Box, need: float, sign: int, arr2d: np.ndarray, core=None, at=None) -> None:
         """Add `sign` at the grid points within `need` of `box`; `at` = (i, j) of arr2d's first
         element when it holds only a window of the grid."""
-        ia, ib, ja, jb = self._window(box, need)
+        ia, ib, ja, jb = self.index_box(box, need)
         if ia >= ib or ja >= jb:
             return
         X, Y = self.xs[ia:ib], self.ys[ja:jb]
@@ -342,7 +344,7 @@ class RoutingGrid:
         lim = need - TOL
         if lim <= 0:
             return
-        ia, ib, ja, jb = self._window(ob.box, need)
+        ia, ib, ja, jb = self.index_box(ob.box, need)
         if ia >= ib or ja >= jb:
             return
         g = self.pitch
@@ -502,7 +504,7 @@ class RoutingGrid:
         bad_c = np.zeros((ny, nx), bool)
         bad_h = np.zeros((ny, nx), bool)
         bad_v = np.zeros((ny, nx), bool)
-        ia, ib, ja, jb = self._window(tuple(poly.bounds), half + g)
+        ia, ib, ja, jb = self.index_box(tuple(poly.bounds), half + g)
         if ia >= ib or ja >= jb:
             return bad_c, bad_h, bad_v
         shapely.prepare(poly)

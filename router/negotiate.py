@@ -253,11 +253,10 @@ class _Negotiation:
             grid = self.grid
             pads = [p for g in self.groups[net] for p in g]
             m = int(math.ceil(self.window / grid.pitch))
-            i0 = int(math.floor(min(p.x for p in pads) / grid.pitch)) - grid.i0 - m
-            i1 = int(math.ceil(max(p.x for p in pads) / grid.pitch)) - grid.i0 + m + 1
-            j0 = int(math.floor(min(p.y for p in pads) / grid.pitch)) - grid.j0 - m
-            j1 = int(math.ceil(max(p.y for p in pads) / grid.pitch)) - grid.j0 + m + 1
-            got = (max(j0, 0), max(i0, 0), min(j1, grid.ny), min(i1, grid.nx))
+            box = (min(p.x for p in pads), min(p.y for p in pads),
+                   max(p.x for p in pads), max(p.y for p in pads))
+            i0, i1, j0, j1 = grid.index_box(box, 0.0, cells=m)
+            got = (j0, i0, j1, i1)
             if got == (0, 0, grid.ny, grid.nx):
                 got = ()
             self._windows[net] = got
@@ -697,12 +696,8 @@ def _window_nets(neg: _Negotiation, net: str, margin: float, pads=None) -> list[
     for group in (neg.groups[net] if pads is None else [pads]):
         for p in group:
             c, rad = grid.layout.core_of(p)
-            x0, y0, x1, y1 = box_of_core(c)
-            i0 = int(math.floor((x0 - rad) / grid.pitch)) - grid.i0 - m
-            i1 = int(math.ceil((x1 + rad) / grid.pitch)) - grid.i0 + m
-            j0 = int(math.floor((y0 - rad) / grid.pitch)) - grid.j0 - m
-            j1 = int(math.ceil((y1 + rad) / grid.pitch)) - grid.j0 + m
-            mask[max(j0, 0):max(j1 + 1, 0), max(i0, 0):max(i1 + 1, 0)] = True
+            i0, i1, j0, j1 = grid.index_box(box_of_core(c), rad, cells=m)
+            mask[j0:j1, i0:i1] = True
     out = []
     for n in neg.nets:
         r = neg.routes.get(n)

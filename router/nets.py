@@ -132,7 +132,7 @@ def _plain_access(grid: RoutingGrid, space: SearchSpace, net: str, pad, others=N
     out: dict = {}
     layers = [grid.layer_index(l) for l in pad.layers if l in grid.layers]
     reach = rad + 2 * g
-    ia, ib, ja, jb = grid._window(bx, reach)
+    ia, ib, ja, jb = grid.index_box(bx, reach)
     X, Y = grid.xs[ia:ib], grid.ys[ja:jb]
     gx = np.maximum(np.maximum(bx[0] - X, 0.0), X - bx[2])
     gy = np.maximum(np.maximum(bx[1] - Y, 0.0), Y - bx[3])
@@ -281,7 +281,7 @@ def _block_hole(grid: RoutingGrid, space: SearchSpace, at, drill: float) -> None
     own = grid.jump_drill if grid.one_layer else grid.via_drill
     need = drill / 2 + own / 2 + grid.rules.min_hole_spacing + grid.jump_slack
     box = (at[0], at[1], at[0], at[1])
-    ia, ib, ja, jb = grid._window(box, need)       # only the window near the hole changes
+    ia, ib, ja, jb = grid.index_box(box, need)       # only the window near the hole changes
     if ia >= ib or ja >= jb:
         return
     arr = np.zeros((jb - ja, ib - ia), np.int32)
