@@ -698,6 +698,10 @@ def _step() -> int:
     return STEP
 
 
+#: Exit segments measured together in :func:`exit_conflicts` (neighbours in x; our choice).
+_EXIT_RUN = 32
+
+
 def exit_conflicts(grid, routes: dict, soft: dict) -> tuple[dict, list]:
     """Exits (stubs and necks, off the grid) that come too close to other nets' routed copper,
     measured exactly: net -> how many of its exit segments do, and the grid points near them.
@@ -735,26 +739,41 @@ def exit_conflicts(grid, routes: dict, soft: dict) -> tuple[dict, list]:
         prof = grid.profiles[a] if a in grid.profiles else grid.profiles["default"]
         for b in classes:
             clear[cid[a], cid[b]] = prof.clearance_to.get(b, prof.clearance_to["default"])
+    # a broad phase before the exact measure: the segments in runs of nearby x (sorted by their
+    # left end), each run measured only against the items whose box reaches the run's box grown by
+    # the largest need (exact: a pair farther apart than that is never too close). Plain numpy: the
+    # items change with every route laid, so a spatial index would be built again for every call.
+    sb_all = np.array([(min(a[0], b[0]), min(a[1], b[1]), max(a[0], b[0]), max(a[1], b[1]))
+                       for _, _, a, b, _ in segs], dtype=np.float64)
+    sw_all = np.array([w for *_, w in segs], dtype=np.float64)
+    reach = float(sw_all.max() / 2 + rads.max(initial=0.0) + clear.max(initial=0.0)) + TOL
+    bad_seg = np.zeros(len(segs), bool)
+    by_x = np.argsort(sb_all[:, 0], kind="stable")
+    for s0 in range(0, len(segs), _EXIT_RUN):
+        run = by_x[s0:s0 + _EXIT_RUN]
+        sb = sb_all[run]
+        near_it = np.nonzero((boxes[:, 0] <= sb[:, 2].max() + reach) & (boxes[:, 2] >= sb[:, 0].min() - reach)
+                             & (boxes[:, 1] <= sb[:, 3].max() + reach) & (boxes[:, 3] >= sb[:, 1].min() - reach))[0]
+        if not len(near_it):
+            continue
+        bx = boxes[near_it]
+        sl = np.array([segs[q][1] for q in run], dtype=np.int64)
+        sn = np.array([nid[segs[q][0]] for q in run])
+        sc = np.array([cid[grid.net_class.get(segs[q][0], "default")] for q in run])
+        gx = np.maximum(np.maximum(bx[None, :, 0] - sb[:, None, 2], 0.0), sb[:, None, 0] - bx[None, :, 2])
+        gy = np.maximum(np.maximum(bx[None, :, 1] - sb[:, None, 3], 0.0), sb[:, None, 1] - bx[None, :, 3])
+        need = sw_all[run][:, None] / 2 + rads[near_it][None, :] + clear[sc[:, None], icls[near_it][None, :]]
+        bad = ((np.hypot(gx, gy) < need - TOL) & ((lmask[near_it][None, :] >> sl[:, None]) & 1).astype(bool)
+               & (inet[near_it][None, :] != sn[:, None]))
+        bad_seg[run] = bad.any(axis=1)
     shared: dict[str, int] = {}
     cells = []
-    for s0 in range(0, len(segs), 256):
-        chunk = segs[s0:s0 + 256]
-        sb = np.array([(min(a[0], b[0]), min(a[1], b[1]), max(a[0], b[0]), max(a[1], b[1])) for _, _, a, b, _ in chunk])
-        sl = np.array([l for _, l, _, _, _ in chunk], dtype=np.int64)
-        sw = np.array([w for *_, w in chunk])
-        sn = np.array([nid[s[0]] for s in chunk])
-        sc = np.array([cid[grid.net_class.get(s[0], "default")] for s in chunk])
-        gx = np.maximum(np.maximum(boxes[None, :, 0] - sb[:, None, 2], 0.0), sb[:, None, 0] - boxes[None, :, 2])
-        gy = np.maximum(np.maximum(boxes[None, :, 1] - sb[:, None, 3], 0.0), sb[:, None, 1] - boxes[None, :, 3])
-        need = sw[:, None] / 2 + rads[None, :] + clear[sc[:, None], icls[None, :]]
-        bad = ((np.hypot(gx, gy) < need - TOL) & ((lmask[None, :] >> sl[:, None]) & 1).astype(bool)
-               & (inet[None, :] != sn[:, None]))
-        for q in np.nonzero(bad.any(axis=1))[0]:
-            net, l, a, b, _ = chunk[q]
-            shared[net] = shared.get(net, 0) + 1
-            near = grid.near_points(a, b, l)
-            if near:
-                cells.append(np.array(near, dtype=np.int64))
+    for q in np.nonzero(bad_seg)[0]:          # in the segments' own order, as before
+        net, l, a, b, _ = segs[q]
+        shared[net] = shared.get(net, 0) + 1
+        near = grid.near_points(a, b, l)
+        if near:
+            cells.append(np.array(near, dtype=np.int64))
     return shared, cells
 
 

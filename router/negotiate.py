@@ -181,17 +181,24 @@ class _Negotiation:
 
     def lay(self, net: str, r: NetRoute) -> None:
         grid = self.grid
-        items = grid.soft_items(net, self.merged_segments(r), r.via_points(grid), r.jumpers)
+        got = r.__dict__.get("_laid")
+        if got is None or got[0] is not grid or got[1] != net:
+            # what a route lays is made once per route: a route laid again (put back after a try
+            # that was not kept, the polish's old route) reuses it
+            items = grid.soft_items(net, self.merged_segments(r), r.via_points(grid), r.jumpers)
+            g = grid.pitch
+            off = [ob for ob in items if not all(abs(v / g - round(v / g)) < 1e-6 for v in ob.box)]
+            got = r._laid = (grid, net, items, _own_counts(grid, net, r, items), off)
+        items = got[2]
         grid.add_soft(items, +1)
         for a, b in r.jumpers:
             grid.add_wire(a, b, +1)
         self.routes[net] = r
         self.soft[net] = items
-        self.own_at[net] = _own_counts(grid, net, r, items)
+        self.own_at[net] = got[3]
         if self.crowd is not None:
             self.crowd.add(r.vias, +1)
-        g = grid.pitch
-        self.off_grid[net] = [ob for ob in items if not all(abs(v / g - round(v / g)) < 1e-6 for v in ob.box)]
+        self.off_grid[net] = list(got[4])
         self.spaces.lay(net, items, self.off_grid[net], +1)
 
     def rip(self, net: str) -> None:
@@ -357,6 +364,10 @@ def _hole_cells(grid: RoutingGrid, r: NetRoute) -> np.ndarray:
     return np.array(out, dtype=np.int64).reshape(-1, 2)
 
 
+#: Cells measured together in :func:`_own_counts` (neighbours in x; our choice).
+_OWN_RUN = 256
+
+
 def _own_counts(grid: RoutingGrid, net: str, r: NetRoute, items) -> tuple:
     """A route's own contribution to its class's soft maps at its cells (and near cells) and at
     its hole places, computed with the same arithmetic as :meth:`RoutingGrid.stamp`, so that the
@@ -372,12 +383,24 @@ def _own_counts(grid: RoutingGrid, net: str, r: NetRoute, items) -> tuple:
     lmask = np.array([sum(1 << l for l in ob.layers) for ob in items], dtype=np.int64)
     if len(cells):
         need = np.array([grid._need(ob, prof, prof.half) for ob in items]) - TOL
-        X = grid.xs[cells[:, 2]][:, None]
-        Y = grid.ys[cells[:, 1]][:, None]
-        dx = np.maximum(np.maximum(boxes[None, :, 0] - X, 0.0), X - boxes[None, :, 2])
-        dy = np.maximum(np.maximum(boxes[None, :, 1] - Y, 0.0), Y - boxes[None, :, 3])
-        on = ((lmask[None, :] >> cells[:, 0:1]) & 1).astype(bool)
-        own_c = ((dy ** 2 + dx ** 2 < need[None, :] ** 2) & on & (need[None, :] > 0)).sum(axis=1)
+        reach = max(float(need.max()), 0.0)
+        xs, ys = grid.xs[cells[:, 2]], grid.ys[cells[:, 1]]
+        # the cells in runs of nearby x, each measured only against the items whose box comes within
+        # the largest need of the run's box (exact: no other item reaches a cell of the run); the
+        # whole cells x items at once cost most of laying a route of many pads
+        by_x = np.argsort(xs, kind="stable")
+        for s0 in range(0, len(cells), _OWN_RUN):
+            run = by_x[s0:s0 + _OWN_RUN]
+            X, Y = xs[run], ys[run]
+            it = np.nonzero((boxes[:, 0] <= X.max() + reach) & (boxes[:, 2] >= X.min() - reach)
+                            & (boxes[:, 1] <= Y.max() + reach) & (boxes[:, 3] >= Y.min() - reach))[0]
+            if not len(it):
+                continue
+            bx, nd = boxes[it], need[it]
+            dx = np.maximum(np.maximum(bx[None, :, 0] - X[:, None], 0.0), X[:, None] - bx[None, :, 2])
+            dy = np.maximum(np.maximum(bx[None, :, 1] - Y[:, None], 0.0), Y[:, None] - bx[None, :, 3])
+            on = ((lmask[it][None, :] >> cells[run, 0:1]) & 1).astype(bool)
+            own_c[run] = ((dy ** 2 + dx ** 2 < nd[None, :] ** 2) & on & (nd[None, :] > 0)).sum(axis=1)
     if len(holes):
         half = (grid.jump_d / 2 + grid.jump_slack) if grid.one_layer else grid.via_d / 2
         drill = grid.jump_drill if grid.one_layer else grid.via_drill

@@ -143,3 +143,43 @@ def test_exits_taken_by_routed_copper_are_named_so():
     neg.lay("S6", wall)
     r = neg.route("VCC", strict=True)
     assert r.failed and "taken by other nets' routed copper" in r.failed, r.failed
+
+
+def test_exit_conflicts_match_shapely_on_many_exits():
+    """Exits spread over a board in runs (the broad phase measures each run against the items near
+    it only): every exit segment counted as too close is one whose shapely distance to another
+    net's copper item, less half widths and radius, is below the class clearance, and no other
+    (outside reference: shapely)."""
+    import numpy as np
+    b, grid = _row_grid()
+    rng = np.random.default_rng(7)
+    routes, soft = {}, {}
+    for k in range(60):
+        net = f"N{k}"
+        x, y = (float(v) for v in rng.uniform(3.0, 33.0, 2))
+        dx, dy = (0.3, 0.0) if k % 2 else (0.0, 0.3)
+        stubs = [((x, y), (round(x + dx, 3), round(y + dy, 3)), int(k % 3 == 0))]
+        routes[net] = NetRoute(net, stubs=stubs)
+        tx, ty = (float(v) for v in rng.uniform(3.0, 33.0, 2))
+        soft[net] = grid.soft_items(net, [(p, q, l, 0.25) for p, q, l in stubs]
+                                    + [((tx, ty), (tx + 2.0, ty), 0, 0.25)], [], [])
+    shared, _ = exit_conflicts(grid, routes, soft)
+    want = {}
+    for net, r in routes.items():
+        for p, q, l in r.stubs:
+            seg = LineString([p, q])
+            for other, items in soft.items():
+                if other == net:
+                    continue
+                for ob in items:
+                    if l not in ob.layers:
+                        continue
+                    x0, y0, x1, y1 = ob.box
+                    core = LineString([(x0, y0), (x1, y1)]) if (x0, y0) != (x1, y1) else Point(x0, y0)
+                    if seg.distance(core) - 0.125 - ob.radius < 0.2 - TOL:
+                        want[net] = want.get(net, 0) + 1
+                        break
+                else:
+                    continue
+                break
+    assert want and shared == want

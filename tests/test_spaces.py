@@ -272,3 +272,32 @@ def test_raised_cells_lazy_equal_the_arrays(seed):
     if p is not None:
         ref = nx.dijkstra_path_length(reference_graph(lazy_sp, src, tgt, bend=120, via=300), "S", "T")
         assert p.cost == q.cost == ref and p.cells.tolist() == q.cells.tolist()
+
+
+def test_a_net_alone_shares_nothing_with_its_own_copper():
+    """The own counts of a laid route (negotiate._own_counts, measured in runs of nearby cells) are
+    exactly what the route adds to its class's soft maps at its cells and hole places: laid alone on
+    the grid, every net of a real-looking board (a supply of many pads among them) shares no cell,
+    and the counts are the soft maps' own values there (outside reference: none; the grid's stamp
+    is the arithmetic the counts must repeat, common practice)."""
+    from router.negotiate import _cost
+    b = real_board(1, 57)
+    grid = RoutingGrid(b)
+    groups = _pad_groups(b, grid)
+    nets = sorted((n for n in groups if len(groups[n]) > 1), key=lambda n: -sum(len(g) for g in groups[n]))[:6]
+    neg = _Negotiation(b, grid, nets, groups, _cost(1.0, grid.pitch), _cost(2.0, grid.pitch), _cost(5.0, grid.pitch))
+    assert max(sum(len(g) for g in groups[n]) for n in nets) > 10
+    sizes = []
+    for net in nets:
+        r = neg.route(net, strict=True)
+        assert not r.failed
+        sizes.append(len(r.cells))
+        neg.lay(net, r)
+        k = grid.profile_of(net).index
+        cells, own_c, holes, own_h = neg.own_at[net]
+        assert (grid.soft_cell[k][cells[:, 0], cells[:, 1], cells[:, 2]] == own_c).all()
+        assert (grid.soft_via[k][holes[:, 0], holes[:, 1]] == own_h).all()
+        assert neg.conflicts()[0] == {}
+        neg.rip(net)
+        assert not grid.soft_cell[k].any()
+    assert max(sizes) > 256             # more than one run of cells (negotiate._OWN_RUN)
