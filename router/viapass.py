@@ -22,7 +22,7 @@ from typing import Optional
 
 import numpy as np
 
-__all__ = ["VIA_TRADE", "CROWD_RADIUS", "CROWD_SHARE", "CROSS_PRICE", "MAX_MOVED", "MOVE_NEAR", "MOVE_SWEEPS", "ViaCrowd", "fewer_vias",
+__all__ = ["VIA_TRADE", "CROWD_RADIUS", "CROWD_SHARE", "CROSS_PRICE", "MAX_MOVED", "MOVE_NEAR", "MOVE_SWEEPS", "MOVE_DEAR", "ViaCrowd", "fewer_vias",
            "move_blockers"]
 
 #: The most a removed via may cost in extra trace, bends included, in mm (our choice: a via
@@ -46,6 +46,11 @@ MOVE_NEAR = 3.0
 #: a try that sweeps the board more than once routes nets of many pads again as victims, and
 #: those tries cost seconds each and were not kept (our choice, measured in DEVELOPERS.md).
 MOVE_SWEEPS = 1.0
+#: With ``near``, a try that changed nothing after expanding more than this many times the board's
+#: search states is not made again in a later sweep, near change or not (our choice: on a board of
+#: 150 nets such tries moved a supply or had one in the way, cost about a second each, and none
+#: was kept in a later sweep; see DEVELOPERS.md).
+MOVE_DEAR = 0.1
 #: Vias of other nets closer than this (mm, centre to centre) make a via dearer.
 CROWD_RADIUS = 1.5
 #: Each via near adds this share of the via penalty.
@@ -111,8 +116,10 @@ def move_blockers(neg, order: list[str], trade: int, rounds: int = 3,
     out. Otherwise every route is put back as it was. Up to `rounds` sweeps over the nets with
     vias (most vias first), while a sweep still changes something; with `near` (mm), a net whose
     try changed nothing is tried again only when a change kept since came within `near` of its
-    cells (:data:`MOVE_NEAR`). Returns (nets that gave up vias, vias removed)."""
+    cells (:data:`MOVE_NEAR`), and a try that changed nothing after more than :data:`MOVE_DEAR` times
+    the board's search states is not made again. Returns (nets that gave up vias, vias removed)."""
     from .negotiate import _pure_cost
+    from .search import NDIR, states_expanded
     grid = neg.grid
     poured = {p.net for p in neg.board.pours}
     price = max(1.0, CROSS_PRICE / grid.pitch)        # neg.present counts grid steps per shared cell
@@ -121,6 +128,8 @@ def move_blockers(neg, order: list[str], trade: int, rounds: int = 3,
     reach = None if near is None else int(math.ceil(near / grid.pitch))
     moved: list = []                     # the box (j0, i0, j1, i1) of the cells each kept change touched
     tried: dict = {}                     # net -> len(moved) when its last try changed nothing
+    dear: set = set()                    # nets whose try changed nothing at more than MOVE_DEAR (with near)
+    dear_states = int(MOVE_DEAR * grid.L * grid.ny * grid.nx * NDIR)
     for _ in range(rounds):
         progress = False
         cands = [n for n in order if n in neg.routes and not neg.routes[n].failed and neg.routes[n].vias
@@ -130,6 +139,8 @@ def move_blockers(neg, order: list[str], trade: int, rounds: int = 3,
             old = neg.routes.get(net)
             if old is None or old.failed or not old.vias:
                 continue
+            if net in dear:
+                continue
             if reach is not None and net in tried:       # again only when a change since came near it
                 j0, i0, j1, i1 = _cells_box([old])
                 if not any(b[0] <= j1 + reach and j0 - reach <= b[2] and b[1] <= i1 + reach and i0 - reach <= b[3]
@@ -137,7 +148,10 @@ def move_blockers(neg, order: list[str], trade: int, rounds: int = 3,
                     continue
             if before is None:           # sharing the legal routing already has (pads closer than the class asks)
                 before, _ = neg.conflicts()
+            e0 = states_expanded()
             dv, box = _try_move(neg, net, trade, price, poured, before, _pure_cost)
+            if not dv and reach is not None and states_expanded() - e0 > dear_states:
+                dear.add(net)
             if dv:
                 changed += 1
                 removed += dv
@@ -186,6 +200,9 @@ def _try_move(neg, net: str, trade: int, price: float, poured: set, before: dict
     victims = [n for n in sorted(shared) if n != net and shared[n] > before.get(n, 0)]
     if len(victims) > MAX_MOVED or any(v in poured for v in victims):
         return _undo(neg, old), None
+    # the nets of fewest pads first: a victim that finds no way ends the try, and those are the
+    # cheap searches (a supply in the way costs a second; it comes last)
+    victims.sort(key=lambda n: (sum(len(g) for g in neg.groups[n]), n))
     for v in victims:
         old[v] = neg.routes[v]
         neg.rip(v)

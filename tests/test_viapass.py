@@ -268,3 +268,31 @@ def test_moving_never_leaves_a_net_unrouted_nor_shares_more(monkeypatch):
         assert not r.failed
     assert seen and all(all(s[:3]) for s in seen)
     assert sum(s[3] for s in seen) > 0          # the pass took out vias on these boards (seed 4: five)
+
+
+def test_a_dear_try_that_changed_nothing_is_not_made_again(monkeypatch):
+    # the sweeps' bookkeeping alone, the tries stood in for (hand-worked): X's try takes out a via
+    # in the first two sweeps and nothing in the third; Y's changes nothing, cheaply or after more
+    # than MOVE_DEAR times the board's states. With `near`, X's change near Y brings Y back in the
+    # second sweep unless its try was dear; in the third nothing new came near Y.
+    from router import search, viapass
+    from router.negotiate import _cost
+    b, grid, neg, order = _staged(channel_board())
+    neg.routes["Y"].vias.append((1, 1))                 # Y a candidate too (never laid: bookkeeping only)
+    board_states = grid.L * grid.ny * grid.nx * search.NDIR
+    for dear, want in ((False, ["X", "Y", "X", "Y", "X"]), (True, ["X", "Y", "X", "X"])):
+        calls = []
+        left = {"X": 2}
+
+        def fake(neg_, net, *a, dear=dear, **kw):
+            calls.append(net)
+            if net == "X" and left["X"]:
+                left["X"] -= 1
+                return 1, (0, 0, grid.ny, grid.nx)      # a change over the whole board: near Y
+            if net == "Y" and dear:
+                search._EXPANDED[0] += int(viapass.MOVE_DEAR * board_states) + 1
+            return 0, None
+
+        monkeypatch.setattr(viapass, "_try_move", fake)
+        viapass.move_blockers(neg, order, _cost(VIA_TRADE, grid.pitch), near=viapass.MOVE_NEAR)
+        assert calls == want, (dear, calls)
