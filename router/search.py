@@ -802,21 +802,37 @@ def target_boxes(targets: np.ndarray, most: int = MAX_BOXES, gap: int = MERGE_GA
         if len(groups) <= 64:
             break
         tile *= 2
-    boxes = np.empty((len(groups), 4), dtype=np.int64)
-    for g in range(len(groups)):
-        m = inv == g
-        boxes[g] = (t[m, 2].min(), t[m, 1].min(), t[m, 2].max(), t[m, 1].max())
-    while len(boxes) > 1:
-        x0, y0, x1, y1 = (boxes[:, k] for k in range(4))
-        d = (np.maximum(0, np.maximum(x0[:, None] - x1[None, :], x0[None, :] - x1[:, None]))
-             + np.maximum(0, np.maximum(y0[:, None] - y1[None, :], y0[None, :] - y1[:, None])))
-        np.fill_diagonal(d, np.iinfo(np.int64).max)
+    # each tile's bounds at once: the targets sorted by tile, reduced between the tiles' starts
+    by = np.argsort(inv.ravel(), kind="stable")
+    starts = np.searchsorted(inv.ravel()[by], np.arange(len(groups)))
+    xs, ys = t[by, 2], t[by, 1]
+    boxes = np.stack([np.minimum.reduceat(xs, starts), np.minimum.reduceat(ys, starts),
+                      np.maximum.reduceat(xs, starts), np.maximum.reduceat(ys, starts)], axis=1).astype(np.int64)
+    x0, y0, x1, y1 = (boxes[:, k] for k in range(4))
+    d = (np.maximum(0, np.maximum(x0[:, None] - x1[None, :], x0[None, :] - x1[:, None]))
+         + np.maximum(0, np.maximum(y0[:, None] - y1[None, :], y0[None, :] - y1[:, None])))
+    far = np.iinfo(np.int64).max
+    np.fill_diagonal(d, far)
+    # a box joined into another is taken out by its row and column set to `far` (in place of
+    # deleting it: the boxes left keep their order, so the first nearest pair is the same)
+    alive = np.ones(len(boxes), bool)
+    left = len(boxes)
+    while left > 1:
         a, b = divmod(int(np.argmin(d)), len(boxes))       # the first nearest pair: a fixed choice
-        if d[a, b] >= gap and len(boxes) <= most:
+        if d[a, b] >= gap and left <= most:
             break
-        boxes[a] = (min(x0[a], x0[b]), min(y0[a], y0[b]), max(x1[a], x1[b]), max(y1[a], y1[b]))
-        boxes = np.delete(boxes, b, axis=0)
-    return boxes
+        boxes[a, :2] = np.minimum(boxes[a, :2], boxes[b, :2])
+        boxes[a, 2:] = np.maximum(boxes[a, 2:], boxes[b, 2:])
+        alive[b] = False
+        left -= 1
+        row = (np.maximum(0, np.maximum(x0[a] - x1, x0 - x1[a])) + np.maximum(0, np.maximum(y0[a] - y1, y0 - y1[a])))
+        row[~alive] = far
+        row[a] = far
+        d[a, :] = row
+        d[:, a] = row
+        d[b, :] = far
+        d[:, b] = far
+    return boxes[alive]
 
 
 #: The least cost of entering a target (search units) above which :func:`find_path` puts it in

@@ -231,6 +231,45 @@ def test_target_boxes_hold_every_target_and_are_few():
     assert target_boxes(t).tolist() == [[2, 2, 31, 21]]
 
 
+def _boxes_by_hand(t, most=MAX_BOXES, gap=8):
+    """target_boxes' rule written plainly (lists and dicts; common practice): tile bounds, then the
+    first nearest pair (row by row) joined while nearer than `gap` or more than `most` boxes."""
+    xs, ys = [int(v) for v in t[:, 2]], [int(v) for v in t[:, 1]]
+    if (max(xs) - min(xs)) + (max(ys) - min(ys)) <= 64:
+        return [[min(xs), min(ys), max(xs), max(ys)]]
+    tile = gap
+    while len({(y // tile, x // tile) for x, y in zip(xs, ys)}) > 64:
+        tile *= 2
+    tiles = {}
+    for x, y in zip(xs, ys):
+        b = tiles.setdefault((y // tile, x // tile), [x, y, x, y])
+        b[:] = [min(b[0], x), min(b[1], y), max(b[2], x), max(b[3], y)]
+    boxes = [tiles[k] for k in sorted(tiles)]
+    while len(boxes) > 1:
+        def gap_of(p, q):
+            return max(0, p[0] - q[2], q[0] - p[2]) + max(0, p[1] - q[3], q[1] - p[3])
+        a, b = min(((a, b) for a in range(len(boxes)) for b in range(len(boxes)) if a != b),
+                   key=lambda ab: gap_of(boxes[ab[0]], boxes[ab[1]]))
+        if gap_of(boxes[a], boxes[b]) >= gap and len(boxes) <= most:
+            break
+        p, q = boxes[a], boxes[b]
+        boxes[a] = [min(p[0], q[0]), min(p[1], q[1]), max(p[2], q[2]), max(p[3], q[3])]
+        del boxes[b]
+    return boxes
+
+
+def test_target_boxes_follow_the_rule_written_plainly():
+    rng = np.random.default_rng(9)
+    for k in range(150):
+        n = int(rng.integers(1, 300))
+        t = np.stack([rng.integers(0, 2, n), rng.integers(0, 400, n), rng.integers(0, 400, n)], axis=1)
+        if k % 2:                        # clusters far apart
+            c = rng.integers(0, 400, (5, 2))
+            w = rng.integers(0, 5, n)
+            t[:, 1], t[:, 2] = c[w, 0] + rng.integers(0, 7, n), c[w, 1] + rng.integers(0, 7, n)
+        assert target_boxes(t).tolist() == _boxes_by_hand(t)
+
+
 @pytest.mark.parametrize("seed", range(12))
 def test_clustered_targets_cost_equals_networkx_dijkstra(seed):
     """Targets in clusters far apart (the heuristic is the least over several boxes, and with
