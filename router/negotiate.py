@@ -76,6 +76,11 @@ LOCAL_PASSES = 12
 PLAN_WINDOW = 5.0
 #: Nets of more pads are ripped up by the planned re-order only where they hold a planned exit (our choice).
 LOCAL_MOST_PADS = 4
+#: In repair at REPAIR_PRICE (big boards), a lost net whose way through the others expanded more than
+#: this many times the board's search states (layers x cells x headings) gets no other such way when
+#: lost again (our choice: on a board of 150 nets only a 17-pad bus across the board did, 1 to 3 s a
+#: way, and was lost again each time; see DEVELOPERS.md).
+REPAIR_DEAR = 0.5
 #: A board whose nets x grid cells exceed this is big: it is routed in one net order (no
 #: ``retries``: each order costs minutes there, 7 to 9 on our shared 2-core machine for 150 nets
 #: on 570,000 cells), its negotiation stops at a stall of less than STALL_FALL, its repair and
@@ -943,21 +948,29 @@ def _repair(neg: _Negotiation, lost: dict, rounds: int, order: Optional[list] = 
     """Rip-up and reroute for the nets still unrouted: each takes its way through the others
     (at congestion cost; with `priced`, at :data:`REPAIR_PRICE` per cell of theirs and no history,
     :func:`_priced_route`), the nets it then shares cells with are ripped up and rerouted with
-    walls, and whatever fails queues up again. The best state seen (fewest unrouted) is kept."""
+    walls, and whatever fails queues up again (with `priced`, not a net whose way through the others
+    cost more than :data:`REPAIR_DEAR` times the board's search states). The best state seen (fewest
+    unrouted) is kept."""
     def snapshot():
         return dict(neg.routes), dict(lost)
 
+    from .search import NDIR, states_expanded
     best = (len(lost), snapshot())
     queue = list(lost) if order is None else list(order)
     hopeless = set()
+    g = neg.grid
+    dear_states, dear = int(REPAIR_DEAR * g.L * g.ny * g.nx * NDIR), set()
     unexplained: set = set()             # nets lost here whose reason names no obstacle yet
     for _ in range(rounds):
         if not queue:
             break
         net = queue.pop(0)
-        if net not in lost:
+        if net not in lost or net in dear:
             continue
+        e0 = states_expanded()
         r = _priced_route(neg, net) if priced else neg.route(net)
+        if priced and states_expanded() - e0 > dear_states:
+            dear.add(net)                # one dear way through the others is enough (REPAIR_DEAR)
         if r.failed:
             hopeless.add(net)
             continue

@@ -71,3 +71,34 @@ def test_a_closed_net_stays_lost_with_a_named_obstacle():
     _name_or_lay(neg, lost, [net])
     assert net in lost and net not in neg.routes
     assert not lost[net].endswith(UNNAMED)
+
+
+def test_a_dear_way_through_the_others_is_tried_once(monkeypatch):
+    # generated board 4 of 18 nets, routed once with walls: N15 and N16 are lost, and repair at
+    # REPAIR_PRICE routes each of them through the others six times (each lost again). With every
+    # such way counted dear (REPAIR_DEAR 0), each gets one; the best state is kept either way, so
+    # no more nets are lost than before repair (hand-checked, common practice)
+    import router.negotiate as negotiate
+    from collections import Counter
+
+    def run(dear):
+        monkeypatch.setattr(negotiate, "REPAIR_DEAR", dear)
+        grid, neg, names = _setup(4, 18)
+        lost = {n: "lost" for n in names if n not in neg.routes}
+        n0 = len(lost)
+        calls = Counter()
+        real = negotiate._priced_route
+
+        def counted(neg_, net):
+            calls[net] += 1
+            return real(neg_, net)
+
+        monkeypatch.setattr(negotiate, "_priced_route", counted)
+        negotiate._repair(neg, lost, rounds=4 * len(lost) + 8, priced=True)
+        monkeypatch.setattr(negotiate, "_priced_route", real)
+        assert len(lost) <= n0
+        return calls
+
+    assert max(run(negotiate.REPAIR_DEAR).values()) > 1
+    assert set(run(0.0).values()) == {1}
+
