@@ -62,6 +62,10 @@ STALL = 4
 #: this share below its best (our choice: on a board of 150 nets the last passes took the shared cells down by 1 to 3 %
 #: each, at 15 to 25 s a pass).
 STALL_FALL = 0.1
+#: On a big board the negotiation stops after this many passes without such a fall (our choice: on
+#: the board of 150 nets passes 10 to 13 took the shared cells from 160 to 151, 2 s each, and the
+#: board routed the same nets with the same vias when it stopped after pass 11; see DEVELOPERS.md).
+STALL_BIG = 2
 #: In repair, an unrouted net's way through the other nets pays this much (mm of trace) for each
 #: grid cell of theirs it takes (our choice: several mm, so it crosses rather than runs along).
 REPAIR_PRICE = 5.0
@@ -583,6 +587,7 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
     work = len(nets) * grid.L * grid.ny * grid.nx
     big = work > BIG_WORK
     fall = STALL_FALL if big else 0.0
+    stall = STALL_BIG if big else STALL
     rng = np.random.default_rng([seed, attempt])
     ties = rng.random(len(nets))
     sizes = [_hpwl([p for g in groups[n] for p in g]) for n in nets]
@@ -627,12 +632,13 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
             break
         if npass == passes:
             break
-        # stalled: the sharing has not fallen below its best (big boards: by STALL_FALL) for STALL passes (the rest is left to
+        # stalled: the sharing has not fallen below its best (big boards: by STALL_FALL) for STALL passes (big boards:
+        # STALL_BIG; the rest is left to
         # the walls and rip-up below, which settle what negotiation cannot)
         left_now = sum(shared.values()) + len(still_failed)
         if left_now < best_left and left_now <= best_left * (1.0 - fall):
             best_left, best_at = left_now, npass
-        elif npass - best_at >= STALL and npass >= 2 * STALL:
+        elif npass - best_at >= stall and npass >= 2 * stall:
             break
         neg.raise_prices(cells)
         todo = [n for n in order if n not in neg.blind and (every_net or n in shared or neg.routes[n].failed)]
