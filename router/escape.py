@@ -625,6 +625,11 @@ SCARCE = 3
 #: units (:data:`router.search.STEP` per grid step): our choice, two grid steps, so a neighbour
 #: takes another exit when that costs it less than a short detour.
 RESERVE_STEPS = 2
+#: The extra cost, per via place, of another net's via in the lane straight out of the outer end
+#: of a fine-pitch row pad that holds grid points of its own (:meth:`ExitReserve.add` with
+#: ``lanes``), in grid steps. Our choice: as the fan-out plan's price (router.fanout.PLAN_STEPS),
+#: far dearer than moving a via a millimetre out, not a wall.
+LANE_STEPS = 25
 
 
 class ExitReserve:
@@ -638,15 +643,27 @@ class ExitReserve:
     steps more, so neighbours' exits are soft obstacles that move aside where they have
     another way, and stay where they have none. The reservation is a price only: the
     routes' legality is judged as before (conflicts, walls, the exact check).
+
+    With `lanes`, a pad inside a fine-pitch row that holds grid points of its own (on a fine
+    grid it holds many, and does not count as scarce) has the lane straight out of its outer
+    end reserved against other nets' vias too (:data:`LANE_STEPS`, :meth:`_lane`): a via
+    there, beside the pad's neighbour, closes the pad's only way out. Used by one try of
+    :func:`router.negotiate.route_board` only (priced on every board, such lanes cost the
+    0.25 mm real-looking boards nets: the vias a row needs a little way out land in its
+    neighbours' lanes).
     """
 
-    def __init__(self, grid):
+    def __init__(self, grid, lanes: bool = False):
         self.grid = grid
+        self.lanes = lanes                        # also the lanes out of row pads' outer ends (_lane)
         self.cost = np.zeros((grid.L, grid.ny, grid.nx), np.int64)
         self.via_cost = np.zeros((grid.ny, grid.nx), np.int64)
-        self.own: dict[str, tuple] = {}          # net -> (cells (l, j, i), via places (j, i))
+        self.own: dict[str, tuple] = {}          # net -> (cells (l, j, i), via places (j, i), lane via places (j, i))
         self.unit = RESERVE_STEPS * _step()
+        self.lane_unit = LANE_STEPS * _step()
         self.thin = min(p.half for p in grid.profiles.values())
+        self._hemmed_at: dict = {}
+        self._by_ref: dict = defaultdict(list)
 
     def add(self, net: str, pads) -> None:
         """Reserve the exits of `net`'s scarce pads, once, from the grid's access cache
@@ -675,21 +692,78 @@ class ExitReserve:
                 box = (min(a[0], b[0]), min(a[1], b[1]), max(a[0], b[0]), max(a[1], b[1]))
                 grid._stamp_points(box, width / 2 + clear + self.thin, 1, cells[layer])
                 grid._stamp_points(box, width / 2 + clear + grid.via_d / 2, 1, vias)
-        mine = (np.argwhere(cells > 0), np.argwhere(vias > 0))
+        lane = np.zeros((grid.ny, grid.nx), np.int32)
+        if self.lanes:
+            for p in pads:
+                box = self._lane(net, p, store.get((net, p.ref, p.index)))
+                if box is not None:
+                    grid._stamp_points(box, grid.profile_of(net).width / 2 + clear + grid.via_d / 2, 1, lane)
+        mine = (np.argwhere(cells > 0), np.argwhere(vias > 0), np.argwhere(lane > 0))
         self.own[net] = mine
         self.cost[mine[0][:, 0], mine[0][:, 1], mine[0][:, 2]] += self.unit
         self.via_cost[mine[1][:, 0], mine[1][:, 1]] += self.unit
+        self.via_cost[mine[2][:, 0], mine[2][:, 1]] += self.lane_unit
+
+    def _lane(self, net: str, pad, acc) -> Optional[tuple]:
+        """The box of the lane straight out of `pad`'s outer end (away from its part's body),
+        ``neck_length`` long, when the pad sits inside a fine-pitch row (:meth:`_hemmed`: no
+        trace passes between it and its neighbours) and holds grid points of its own (its
+        access is inside its copper, so its exits are not seen as such: on a fine grid it may
+        hold many and not count as scarce): every way out of it leaves along that lane or the
+        one out of its inner end, and another net's via there (beside the pad's neighbour)
+        closes it. Else None."""
+        grid = self.grid
+        if not acc or any(v is not None for v in acc.values()) or pad.angle or not self._hemmed(pad):
+            return None
+        centre = _body_centre(grid.board, pad.ref)
+        if centre is None:
+            return None
+        core, rad = grid.layout.core_of(pad)
+        x0, y0, x1, y1 = (float(v) for v in core.bounds)
+        _, dx, dy = max(((dx * (pad.x - centre[0]) + dy * (pad.y - centre[1]), dx, dy)
+                         for dx, dy in ((1, 0), (-1, 0), (0, 1), (0, -1))), key=lambda t: t[0])
+        _, nl = neck_of(grid.board, grid.board.net_class(net))
+        if dx:
+            s = (x1 + rad if dx > 0 else x0 - rad, (y0 + y1) / 2)
+        else:
+            s = ((x0 + x1) / 2, y1 + rad if dy > 0 else y0 - rad)
+        e = (s[0] + dx * nl, s[1] + dy * nl)
+        return (min(s[0], e[0]), min(s[1], e[1]), max(s[0], e[0]), max(s[1], e[1]))
+
+    def _hemmed(self, pad) -> bool:
+        """Whether two or more other pads of `pad`'s part lie so close beside it that the
+        narrowest class's trace cannot pass between them and it (a pad inside a fine-pitch
+        row), measured exactly (shapely core distances, radii taken off); found once per pad."""
+        key = (pad.ref, pad.index)
+        got = self._hemmed_at.get(key)
+        if got is None:
+            grid = self.grid
+            gap = 2 * self.thin + 2 * max(v for p in grid.profiles.values() for v in p.clearance_to.values())
+            core, rad = grid.layout.core_of(pad)
+            n = 0
+            if not self._by_ref:
+                for q in grid.pads:
+                    self._by_ref[q.ref].append(q)
+            for q in self._by_ref[pad.ref]:
+                if q.index == pad.index or not set(q.layers) & set(pad.layers):
+                    continue
+                qc, qr = grid.layout.core_of(q)
+                if shapely.distance(core, qc) - rad - qr < gap - TOL:
+                    n += 1
+            got = self._hemmed_at[key] = n >= 2
+        return got
 
     def extra_for(self, net: str):
         """(per grid point, per via place) reservation cost `net` pays (other nets' exits
         only), or None when nothing is reserved."""
-        if not self.own or not any(len(c) for c, _ in self.own.values()):
+        if not self.own or not any(len(m[0]) or len(m[2]) for m in self.own.values()):
             return None
         cells, vias = self.cost.copy(), self.via_cost.copy()
         mine = self.own.get(net)
         if mine is not None:
             cells[mine[0][:, 0], mine[0][:, 1], mine[0][:, 2]] -= self.unit
             vias[mine[1][:, 0], mine[1][:, 1]] -= self.unit
+            vias[mine[2][:, 0], mine[2][:, 1]] -= self.lane_unit
         return cells, vias
 
 

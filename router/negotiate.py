@@ -127,7 +127,7 @@ def _cost(mm: float, pitch: float) -> int:
 
 class _Negotiation:
     def __init__(self, board: Board, grid: RoutingGrid, nets: list[str], groups: dict, bend: int, via: int,
-                 jump: int, crowd: bool = True):
+                 jump: int, crowd: bool = True, lanes: bool = False):
         self.board, self.grid, self.nets, self.groups = board, grid, nets, groups
         self.bend, self.via, self.jump = bend, via, jump
         self.routes: dict[str, NetRoute] = {}
@@ -140,7 +140,7 @@ class _Negotiation:
         self.ties: dict[str, tuple] = {}           # net -> the order its searches try headings in (the seed's ties)
         self.own_at: dict[str, tuple] = {}         # net -> its own soft counts at its cells and holes (conflicts)
         self.crowd = ViaCrowd(grid) if grid.L == 2 and crowd else None
-        self.reserve = ExitReserve(grid)          # scarce pads' exits cost other nets more (router.escape)
+        self.reserve = ExitReserve(grid, lanes)   # scarce pads' exits cost other nets more (router.escape)
         self.spaces = NetSpaces(grid)              # search spaces from parts made once (router.spaces)
         self.fanout = None                         # fine-pitch parts' planned exits (router.fanout), plan_fanout()
         self.hist_top = None                       # the larger history of the layers, made once per pass
@@ -481,8 +481,10 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
     retries : int
         When nets stay unrouted, route the board again from scratch up to this many times in
         other net orders (drawn from the seed), before them once in the same order with the
-        fine-pitch parts fanned out (`fanout_first`), and keep the routing that leaves fewest
-        unrouted (of those, the one with fewest vias);
+        fine-pitch parts fanned out (`fanout_first`) and after them once in the same order with
+        the lanes out of fine-pitch row pads' outer ends priced for other nets' vias
+        (:class:`router.escape.ExitReserve` with ``lanes``), and keep the routing that leaves
+        fewest unrouted (of those, the one with fewest vias);
         only on boards of at most :data:`BIG_WORK` nets x grid cells (a bigger board relies on
         the local re-order of the nets near an unrouted net's pads instead).
     polish : bool
@@ -539,16 +541,19 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
             todo_names.append(n.name)
     start = b.copy()
     best = None
-    tries = [(k, False) for k in range(1 + max(0, int(retries)))]
+    tries = [(k, False, False) for k in range(1 + max(0, int(retries)))]
     if fanout_first:
-        tries[0] = (0, True)
+        tries[0] = (0, True, False)
     elif len(tries) > 1:
         # the first other try: the same net order with the fine-pitch parts fanned out first
-        # (router.fanout); made only where the plain first order leaves nets unrouted
-        tries.insert(1, (0, True))
-    for attempt, plan in tries:
+        # (router.fanout); made only where the plain first order leaves nets unrouted; the last: the
+        # same order with the lanes out of row pads' outer ends kept free of other nets' vias
+        # (ExitReserve lanes), made only where every other try leaves nets unrouted
+        tries.insert(1, (0, True, False))
+        tries.append((0, False, True))
+    for attempt, plan, lanes in tries:
         got = _attempt(start, todo_names, seed, attempt, bend, via, jump, passes, progress, polish, every_net,
-                       fewer_vias, plan=plan)
+                       fewer_vias, plan=plan, lanes=lanes)
         if got is None:
             continue                 # nothing to plan: that try would route as the first did
         out_board, lost, npass, shared_left, blind, work = got
@@ -573,13 +578,14 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
 
 def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend: int, via: int, jump: int,
              passes: int, progress: bool, polish: bool, every_net: bool = False, fewer: bool = True,
-             plan: bool = False):
+             plan: bool = False, lanes: bool = False):
     """One complete routing of `start`; attempt 0 takes nets shortest first, later attempts a
     shuffled order (each net's half-perimeter scaled by a random factor from the seed). Returns
     the board, the nets lost with their reasons, passes, nets sharing at the end of negotiation,
     the blind nets and the board's work (nets x grid cells, :data:`BIG_WORK`). With `plan`, the
     fine-pitch parts are fanned out first (:meth:`_Negotiation.plan_fanout`); None when there
-    is nothing to plan (the try would route as one without)."""
+    is nothing to plan (the try would route as one without). With `lanes`, the lanes out of
+    fine-pitch row pads' outer ends cost other nets' vias more (:class:`router.escape.ExitReserve`)."""
     b = start.copy()
     grid = RoutingGrid(b)
     groups = _pad_groups(b, grid)
@@ -596,7 +602,7 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
     elif seed:
         sizes = [s * math.exp(rng.normal(0.0, 0.35)) for s in sizes]
     order = [n for _, _, n in sorted(zip(sizes, ties, nets))]
-    neg = _Negotiation(b, grid, order, groups, bend, via, jump, crowd=fewer)
+    neg = _Negotiation(b, grid, order, groups, bend, via, jump, crowd=fewer, lanes=lanes)
     if big:
         neg.window = WINDOW
         neg.any_tie = True               # one search where two would pick the plain search's tie (search.SearchSpace)

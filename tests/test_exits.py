@@ -183,3 +183,41 @@ def test_exit_conflicts_match_shapely_on_many_exits():
                     continue
                 break
     assert want and shared == want
+
+
+def test_lane_of_a_row_pad_holding_grid_points_costs_other_nets_vias():
+    """A pad inside a 0.5 mm row that holds grid points of its own (on a fine grid many, so it
+    does not count as scarce by its access) leaves only along the lane straight out of its outer
+    end: with lanes (ExitReserve(lanes=True)), another net's via within the lane's reach (the
+    pad's class width plus clearance plus the via's radius from the lane, measured by shapely)
+    costs LANE_STEPS grid steps; the pad's own net pays nothing, traces pay nothing, a pad beside
+    which traces pass (a passive's) gets no lane, and without lanes nothing is priced."""
+    from router.escape import LANE_STEPS, SCARCE
+    from router.search import STEP
+    b, grid = _row_grid()
+    pad = next(p for p in grid.pads if p.ref == "U1" and p.pin == "4")       # S4, x = 17.875
+    chip = next(p for p in grid.pads if p.ref == "C7" and p.pin == "2")      # S4's 0402
+    j = int(round(13.5 / grid.pitch)) - grid.j0
+    inside = {(0, j, int(round(x / grid.pitch)) - grid.i0): None for x in (17.75, 18.0)}
+    # more than SCARCE grid points in the pad's copper (as on a 0.1 mm grid)
+    many = {(0, j + k, c[2]): None for c in inside for k in range(3)}
+    assert len(many) > SCARCE
+    grid._access_cache = {("S4", "U1", pad.index): many, ("S4", "C7", chip.index): dict(many)}
+    res = ExitReserve(grid)
+    res.add("S4", [pad, chip])
+    assert res.extra_for("S3") is None
+    res = ExitReserve(grid, lanes=True)
+    res.add("S4", [pad, chip])
+    cells, vias = res.extra_for("S3")
+    assert cells.max() == 0 and vias.max() > 0
+    own = res.extra_for("S4")
+    assert own[0].max() == 0 and own[1].max() == 0
+    lane = LineString([(17.875, 13.225), (17.875, 12.225)])      # out of the row, neck_length (1 mm) long
+    reach = 0.125 + 0.2 + 0.3                                    # half the class width, clearance, via radius
+    unit = LANE_STEPS * STEP
+    for jj in range(grid.ny):
+        for ii in range(grid.nx):
+            x, y = grid.point(jj, ii)
+            d = Point(x, y).distance(lane)
+            if abs(d - reach) > 1e-3:
+                assert (vias[jj, ii] == unit) == (d < reach), (x, y, d)
