@@ -190,14 +190,14 @@ class _Negotiation:
 
     def lay(self, net: str, r: NetRoute) -> None:
         grid = self.grid
-        got = r.__dict__.get("_laid")
+        got = r.laid
         if got is None or got[0] is not grid or got[1] != net:
             # what a route lays is made once per route: a route laid again (put back after a try
             # that was not kept, the polish's old route) reuses it
             items = grid.soft_items(net, self.merged_segments(r), r.via_points(grid), r.jumpers)
             g = grid.pitch
             off = [ob for ob in items if not all(abs(v / g - round(v / g)) < 1e-6 for v in ob.box)]
-            got = r._laid = (grid, net, items, _own_counts(grid, net, r, items), off)
+            got = r.laid = (grid, net, items, _own_counts(grid, net, r, items), off)
         items = got[2]
         grid.add_soft(items, +1)
         for a, b in r.jumpers:

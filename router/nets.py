@@ -64,6 +64,9 @@ class NetRoute:
     failed: Optional[str] = None
     blind: bool = False                          # failed because a pad has no way to the grid at all
     necks: list = field(default_factory=list)    # (points, layer index, width): pad exits narrower than the class (router.escape)
+    # what the negotiation laid for this route on a grid (negotiate._Negotiation.lay): (grid, net, soft items,
+    # own counts, off-grid items), made once; a route is not changed once made, so it is laid again as it was
+    laid: Optional[tuple] = field(default=None, repr=False, compare=False)
 
     def segments(self, grid: RoutingGrid, width: float, necks: bool = True):
         for (l, j, i), (_, j2, i2) in sorted(self.edges):
