@@ -38,6 +38,7 @@ References
 """
 from __future__ import annotations
 
+from contextlib import contextmanager
 from dataclasses import dataclass, field
 from typing import Optional
 
@@ -45,7 +46,7 @@ import numpy as np
 from numba import njit
 
 __all__ = ["STEP", "OVER_BOUND", "LazyCosts", "SearchSpace", "Path", "find_path", "target_boxes", "reference_graph", "path_cost",
-           "states_expanded"]
+           "states_expanded", "work_limit"]
 
 #: Cost of one grid step; penalties are in the same unit (a bend of B mm is round(STEP * B / pitch)).
 STEP = 100
@@ -461,9 +462,10 @@ def _hole_extra(j, i, hole_extra, lz, soft_via, hist_top, pf, crowd, cprice, cap
 def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_rows, wire_cols, jump_cells,
            sources, tmask, boxes, pboxes, bound, kE, pE, tlayer, step, bend, via, jump, order, nds,
            stamp_of, gbest, parent, stamp, head, ent_state, ent_g, ent_next,
-           lz, soft, hist, soft_via, hist_top, pf, crowd, cprice, cap, add_cell, add_hole, has_add):
+           lz, soft, hist, soft_via, hist_top, pf, crowd, cprice, cap, add_cell, add_hole, has_add, most):
     """Dial's bucket queue over integer f = g + h; returns (end state, or -1 when no path, -3 when no
-    path within `bound` (a state was left out for it), -2 when the pool is full; expanded).
+    path within `bound` (a state was left out for it), -2 when the pool is full, -4 when `most`
+    states (>= 0; -1: no limit) were expanded without reaching a target; expanded).
 
     `order` is the order in which the four step headings are tried (ties among equal paths);
     `nds` the states per cell and layer (5, or 9 with jumpers); `lz` how cell and hole costs
@@ -530,6 +532,8 @@ def _astar(open_cell, open_h, open_v, via_ok, extra, hole_extra, jump_ok, wire_r
         expanded += 1
         if tmask[l, j, i]:
             return s, expanded
+        if most >= 0 and expanded >= most:
+            return -4, expanded     # the caller's work is spent (work_limit)
         for move in range(6):
             # moves 0..3: a grid step (in the order given); 4: a via; 5: jumpers (handled below)
             if move < 4:
@@ -862,12 +866,26 @@ def _entry_cost(space: SearchSpace, tgt: np.ndarray, src: np.ndarray) -> int:
 
 
 _EXPANDED = [0]
+_LIMIT = [-1]                            # states_expanded() at which searches stop (work_limit); -1: none
 
 
 def states_expanded() -> int:
     """States the searches of this process have expanded so far (a caller's budget of work:
     the difference across its searches)."""
     return _EXPANDED[0]
+
+
+@contextmanager
+def work_limit(most: Optional[int]):
+    """Within it, a search stops once :func:`states_expanded` reaches `most` (None: no limit) and
+    :func:`find_path` answers OVER_BOUND, as if no path lay within the caller's bound: a caller
+    whose whole try has a budget of work stops inside a search, not only between searches."""
+    was = _LIMIT[0]
+    _LIMIT[0] = -1 if most is None else max(0, int(most))
+    try:
+        yield
+    finally:
+        _LIMIT[0] = was
 
 
 def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump: int = 0,
@@ -944,11 +962,14 @@ def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump
     head = ws.buckets(span)
     lazy_args = _lazy_args(space, L)
     def run(key_boxes, prune_boxes, bound, k_e=0, p_e=0):
-        out = _run(key_boxes, prune_boxes, bound, k_e, p_e)
+        most = -1 if _LIMIT[0] < 0 else _LIMIT[0] - _EXPANDED[0]
+        if _LIMIT[0] >= 0 and most <= 0:
+            return -4, 0
+        out = _run(key_boxes, prune_boxes, bound, k_e, p_e, most)
         _EXPANDED[0] += out[1]
         return out
 
-    def _run(key_boxes, prune_boxes, bound, k_e, p_e):
+    def _run(key_boxes, prune_boxes, bound, k_e, p_e, most):
         while True:
             stamp = ws.next_stamp()
             end, n = _astar(space.open_cell, space.open_h, space.open_v, space.via_ok, space.extra,
@@ -957,7 +978,7 @@ def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump
                             int(k_e), int(p_e),
                             tlayer, int(step), int(bend), int(via), int(jump), order, nds,
                             ws.stamp_of, ws.g, ws.parent, stamp, head, ws.ent_state, ws.ent_g, ws.ent_next,
-                            *lazy_args)
+                            *lazy_args, int(most))
             if end != -2:
                 return end, n
             ws.grow_pool(2 * ws.ent_state.shape[0])
@@ -1018,7 +1039,7 @@ def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump
                     expanded += n
     finally:
         tmask[tgt[:, 0], tgt[:, 1], tgt[:, 2]] = 0
-    if end == -3 and limit >= 0:
+    if (end == -3 and limit >= 0) or end == -4:
         return OVER_BOUND
     if end < 0:
         return None

@@ -179,9 +179,17 @@ def _cells_box(routes) -> tuple:
 def _try_move(neg, net: str, trade: int, price: float, poured: set, before: dict, pure_cost) -> tuple:
     """One net's try (see :func:`move_blockers`); returns the vias removed (0: nothing changed) and the
     box of the cells of the nets changed, before and after (:func:`_cells_box`)."""
-    from .search import NDIR, states_expanded
+    from .search import NDIR, states_expanded, work_limit
     g = neg.grid
     most = states_expanded() + int(MOVE_SWEEPS * g.L * g.ny * g.nx * NDIR)      # the try's work (MOVE_SWEEPS)
+    with work_limit(most):               # a search stops inside once the try's work is spent
+        return _try_move_within(neg, net, trade, price, poured, before, pure_cost, most)
+
+
+def _try_move_within(neg, net: str, trade: int, price: float, poured: set, before: dict, pure_cost,
+                     most: int) -> tuple:
+    """:func:`_try_move` within its work limit `most` (:func:`router.search.work_limit`)."""
+    from .search import states_expanded
     old = {net: neg.routes[net]}
     saved = neg.present, neg.hist, neg.blind.get(net)
     neg.rip(net)

@@ -410,6 +410,32 @@ def test_bound_keeps_the_path_or_says_over(seed):
         assert q is OVER_BOUND and not q
 
 
+@pytest.mark.parametrize("seed", range(20))
+def test_work_limit_keeps_the_path_or_says_over(seed):
+    """search.work_limit: with room for every state the search expands, the same path at
+    networkx's Dijkstra cost (the outside reference); with less, OVER_BOUND, and the searches
+    together expand no more states than the limit allows."""
+    from router.search import OVER_BOUND, states_expanded, work_limit
+    rng = np.random.default_rng(900 + seed)
+    L = 1 + seed % 2
+    sp, src, tgt = _random_case(rng, L, 0.25)
+    bend, via = int(rng.integers(0, 500)), int(rng.integers(0, 900))
+    p, ref = _search_and_networkx(sp, src, tgt, bend=bend, via=via)
+    if ref is None or p.expanded < 2:
+        return
+    s0 = states_expanded()
+    with work_limit(s0 + p.expanded):
+        q = find_path(sp, src, tgt, bend=bend, via=via)
+    assert q and q.cost == ref and q.cells.tolist() == p.cells.tolist()
+    s0 = states_expanded()
+    with work_limit(s0 + p.expanded // 2):
+        q = find_path(sp, src, tgt, bend=bend, via=via)
+        assert q is OVER_BOUND and not q
+        assert states_expanded() - s0 <= p.expanded // 2
+        assert find_path(sp, src, tgt, bend=bend, via=via) is OVER_BOUND     # nothing left
+    assert find_path(sp, src, tgt, bend=bend, via=via).cost == ref           # no limit outside
+
+
 @pytest.mark.parametrize("seed", range(40))
 def test_costly_targets_same_path_as_plain(seed):
     """Targets whose every cell is dear to enter (the entry cost goes into the heuristic,
