@@ -64,7 +64,7 @@ STALL = 4
 STALL_FALL = 0.1
 #: On a big board the negotiation stops after this many passes without such a fall (our choice: on
 #: the board of 150 nets passes 10 to 13 took the shared cells from 160 to 151, 2 s each, and the
-#: board routed the same nets with the same vias when it stopped after pass 11; see DEVELOPERS.md).
+#: board routed the same nets with the same vias when it stopped after pass 11; see docs/measurements.md).
 STALL_BIG = 2
 #: In repair, an unrouted net's way through the other nets pays this much (mm of trace) for each
 #: grid cell of theirs it takes (our choice: several mm, so it crosses rather than runs along).
@@ -83,19 +83,19 @@ LOCAL_MOST_PADS = 4
 #: In repair at REPAIR_PRICE (big boards), a lost net whose way through the others expanded more than
 #: this many times the board's search states (layers x cells x headings) gets no other such way when
 #: lost again (our choice: on a board of 150 nets only a 17-pad bus across the board did, 1 to 3 s a
-#: way, and was lost again each time; see DEVELOPERS.md).
+#: way, and was lost again each time; see docs/measurements.md).
 REPAIR_DEAR = 0.5
 #: A board whose nets x grid cells exceed this is big: it is routed in one net order (no
 #: ``retries``: each order costs minutes there, 7 to 9 on our shared 2-core machine for 150 nets
 #: on 570,000 cells), its negotiation stops at a stall of less than STALL_FALL, its repair and
 #: local re-order route at REPAIR_PRICE, and its via pass tries a net again only near a change
 #: (router.viapass.MOVE_NEAR). Smaller boards keep the fuller search (our choice, see
-#: DEVELOPERS.md for what each costs and gives).
+#: docs/measurements.md for what each costs and gives).
 BIG_WORK = 20_000_000
 #: On a big board a net's searches at congestion cost keep to the grid within this many mm of the
 #: box around its pads, and search the whole board only when no way is found there (our choice:
 #: late in negotiation a shared cell costs hundreds of grid steps, and a search whose targets lie
-#: behind shared cells swept the whole board for a way round; see DEVELOPERS.md).
+#: behind shared cells swept the whole board for a way round; see docs/measurements.md).
 WINDOW = 10.0
 
 

@@ -27,7 +27,7 @@ __all__ = ["VIA_TRADE", "CROWD_RADIUS", "CROWD_SHARE", "CROSS_PRICE", "MAX_MOVED
 
 #: The most a removed via may cost in extra trace, bends included, in mm (our choice: a via
 #: is worth about this much length to a designer, above the ordinary via penalty; measured in
-#: DEVELOPERS.md: 6 mm takes out 16 % of the vias on generated boards for 1.5 % more length,
+#: docs/measurements.md: 6 mm takes out 16 % of the vias on generated boards for 1.5 % more length,
 #: where 3 mm kept them and 10 mm paid 4 % more length and 9 % more bends for 30 %).
 VIA_TRADE = 6.0
 #: While a net looks for a way with fewer vias through the nets in its way, each grid cell of
@@ -44,12 +44,12 @@ MOVE_NEAR = 3.0
 #: One net's try to move the nets in its way (:func:`move_blockers`) gives up when its searches have
 #: expanded more than this many times the board's search states (layers x cells x 5 headings):
 #: a try that sweeps the board more than once routes nets of many pads again as victims, and
-#: those tries cost seconds each and were not kept (our choice, measured in DEVELOPERS.md).
+#: those tries cost seconds each and were not kept (our choice, measured in docs/measurements.md).
 MOVE_SWEEPS = 1.0
 #: With ``near``, a try that changed nothing after expanding more than this many times the board's
 #: search states is not made again in a later sweep, near change or not (our choice: on a board of
 #: 150 nets such tries moved a supply or had one in the way, cost about a second each, and none
-#: was kept in a later sweep; see DEVELOPERS.md).
+#: was kept in a later sweep; see docs/measurements.md).
 MOVE_DEAR = 0.1
 #: Vias of other nets closer than this (mm, centre to centre) make a via dearer.
 CROWD_RADIUS = 1.5
