@@ -985,58 +985,45 @@ def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump
 
     limit = -1 if bound is None else max(0, int(bound))
     entry = _entry_cost(space, tgt, src)
-    if bound is None and not space.has_jumpers and not tmask[src[:, 0], src[:, 1], src[:, 2]].any():
-        # a side walled in (a pad in a pocket of other nets' copper): the search would sweep all the
-        # other side reaches to find nothing. (Unbounded searches only: a bounded one that finds
-        # nothing says whether its bound left states out, which the caller reads.)
-        try:
-            cut = _cut_off_sides(space, src, tgt, tmask, ws)
-        except BaseException:
-            tmask[tgt[:, 0], tgt[:, 1], tgt[:, 2]] = 0
-            raise
-        if cut:
-            tmask[tgt[:, 0], tgt[:, 1], tgt[:, 2]] = 0
-            return None
+    def pick_tie(end, expanded, prune, p_e=0):
+        # the least cost found (`end`), the plain search's choice among the equally cheap paths:
+        # the search keyed by the one box around all targets, every state that cannot end within
+        # that cost left out by the `prune` boxes (skipped with any_tie)
+        if end >= 0 and not space.any_tie:
+            best = int(ws.g[end])
+            end, n = run(one, prune, best, 0, p_e)
+            expanded += n
+            if end < 0:                  # not expected (the bound is admissible); the plain search then
+                end, n = run(one, one, limit)
+                expanded += n
+        return end, expanded
+
     try:
+        if (bound is None and not space.has_jumpers and not tmask[src[:, 0], src[:, 1], src[:, 2]].any()
+                and _cut_off_sides(space, src, tgt, tmask, ws)):
+            # a side walled in (a pad in a pocket of other nets' copper): the search would sweep all
+            # the other side reaches to find nothing. (Unbounded searches only: a bounded one that
+            # finds nothing says whether its bound left states out, which the caller reads.)
+            return None
         if entry >= ENTRY_MIN:
             # every path pays at least `entry` on its last move (into a target cell): first the
             # least cost with that in the heuristic (sharper: the search no longer sweeps every
             # state cheaper than the congestion at the targets), then the search keyed as below
             # without it, every state that cannot end within that cost left out (the same path)
             kb = boxes if len(boxes) > 1 else one
-            end, expanded = run(kb, kb, limit, entry, entry)
-            if end >= 0 and not space.any_tie:
-                best = int(ws.g[end])
-                end, n = run(one, kb, best, 0, entry)
-                expanded += n
-                if end < 0:              # not expected (the bound is admissible); the plain search then
-                    end, n = run(one, one, limit)
-                    expanded += n
+            end, expanded = pick_tie(*run(kb, kb, limit, entry, entry), kb, entry)
         elif len(boxes) == 1:
             end, expanded = run(one, one, limit)
         elif limit >= 0:
-            end, expanded = run(boxes, boxes, limit)      # the least cost within the caller's bound
-            if end >= 0 and not space.any_tie:
-                best = int(ws.g[end])
-                end, n = run(one, boxes, best)
-                expanded += n
-                if end < 0:
-                    end, n = run(one, one, limit)
-                    expanded += n
+            # the least cost within the caller's bound
+            end, expanded = pick_tie(*run(boxes, boxes, limit), boxes)
         else:
             # targets in clusters far apart: first the least cost, with the heuristic the least over
             # the clusters' boxes (sharp, so the search stays near the clusters); then the search
             # keyed by the one box around all targets as before, with every state whose bound over
             # the clusters exceeds that cost left out: the same choice among equal paths as the
             # plain search, without its sweep of the whole box
-            end, expanded = run(boxes, boxes, -1)
-            if end >= 0 and not space.any_tie:
-                best = int(ws.g[end])
-                end, n = run(one, boxes, best)
-                expanded += n
-                if end < 0:              # not expected (the bound is admissible); the plain search then
-                    end, n = run(one, one, -1)
-                    expanded += n
+            end, expanded = pick_tie(*run(boxes, boxes, -1), boxes)
     finally:
         tmask[tgt[:, 0], tgt[:, 1], tgt[:, 2]] = 0
     if (end == -3 and limit >= 0) or end == -4:
