@@ -16,7 +16,7 @@ boards are checked by today's ``check`` (one judge for both). One line per board
 
     seed  nets  pads  | routed  violations  vias  bound  v1  necks  esc  seconds | baseline routed  violations  vias  seconds | both  vias  base
 
-(bound: the vias the nets' pad layers force, ``figures.vias_lower_bound``; v1: today's vias on nets
+(bound: the vias the nets' pad layers force, ``bounds.vias_lower_bound``; v1: today's vias on nets
 whose pads all lie on one layer, which could route with none; esc: escape vias beside surface pads,
 ``figures`` ``escape_vias``; both: the nets both routers routed,
 with today's and the baseline's vias on just those nets, as a router that leaves hard nets unrouted

@@ -19,11 +19,10 @@ from router.boardfile import load_board, loads_board, save_board
 from router.check import check
 from router.cli import main
 from router.connectivity import routed
-from router.figures import (
-    FIELDS, TOTAL_FIELDS, bend_points, board_figures, bends_lower_bound, compare_figures,
-    format_compare, format_report, hpwl, length_lower_bound, path_bends_lower_bound,
-    rect_distance, rmst_length,
+from router.bounds import (
+    bends_lower_bound, hpwl, length_lower_bound, path_bends_lower_bound, rect_distance, rmst_length,
 )
+from router.figures import FIELDS, TOTAL_FIELDS, bend_points, board_figures, compare_figures, format_compare, format_report
 from router.geometry import placed_pads
 
 ROOT = Path(__file__).resolve().parent.parent

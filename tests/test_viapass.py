@@ -11,7 +11,8 @@ from shapely.geometry import LineString
 
 from router.boardfile import loads_board
 from router.check import check
-from router.figures import board_figures, vias_lower_bound
+from router.bounds import vias_lower_bound
+from router.figures import board_figures
 from router.grid import RoutingGrid
 from router.negotiate import DEFAULT_BEND, DEFAULT_VIA, route_board
 from router.viapass import CROWD_RADIUS, VIA_TRADE, ViaCrowd
