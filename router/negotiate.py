@@ -558,11 +558,13 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
         tries.append((0, False, True))
     for attempt, plan, lanes in tries:
         got = _attempt(start, todo_names, seed, attempt, bend, via, jump, passes, progress, polish, every_net,
-                       fewer_vias, plan=plan, lanes=lanes)
+                       fewer_vias, plan=plan, lanes=lanes, beat=None if best is None else len(best[1]))
         if got is None:
             continue                 # nothing to plan: that try would route as the first did
         out_board, lost, npass, shared_left, blind, work = got
-        if best is None or (len(lost), len(out_board.vias)) < (len(best[1]), len(best[0].vias)):
+        if out_board is None:
+            pass                     # more nets lost than the best try: not finished (it cannot be kept)
+        elif best is None or (len(lost), len(out_board.vias)) < (len(best[1]), len(best[0].vias)):
             best = (out_board, lost, npass, shared_left)      # fewest unrouted, then fewest vias
         if not best[1] or set(best[1]) <= set(blind):
             break                    # complete, or only pads no exit reaches are left: another order cannot help
@@ -583,14 +585,17 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
 
 def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend: int, via: int, jump: int,
              passes: int, progress: bool, polish: bool, every_net: bool = False, fewer: bool = True,
-             plan: bool = False, lanes: bool = False):
+             plan: bool = False, lanes: bool = False, beat: Optional[int] = None):
     """One complete routing of `start`; attempt 0 takes nets shortest first, later attempts a
     shuffled order (each net's half-perimeter scaled by a random factor from the seed). Returns
     the board, the nets lost with their reasons, passes, nets sharing at the end of negotiation,
     the blind nets and the board's work (nets x grid cells, :data:`BIG_WORK`). With `plan`, the
     fine-pitch parts are fanned out first (:meth:`_Negotiation.plan_fanout`); None when there
     is nothing to plan (the try would route as one without). With `lanes`, the lanes out of
-    fine-pitch row pads' outer ends cost other nets' vias more (:class:`router.escape.ExitReserve`)."""
+    fine-pitch row pads' outer ends cost other nets' vias more (:class:`router.escape.ExitReserve`).
+    `beat`: the fewest nets an earlier try lost; a try that loses more after repair and the swap
+    cannot be kept (the steps after them never route a lost net, the exact check only loses more),
+    so it stops there and returns None for the board."""
     b = start.copy()
     grid = RoutingGrid(b)
     groups = _pad_groups(b, grid)
@@ -683,6 +688,8 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
         _reorder_local(neg, lost, order, plan=True)
     if lost:
         _swap(neg, lost)
+    if beat is not None and len(lost) > beat:
+        return None, lost, npass, shared_left, set(neg.blind), work
     if polish:
         _polish(neg, order)
     if fewer and grid.L == 2:            # a pass that takes out vias a net can do without (router.viapass)

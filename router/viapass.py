@@ -114,7 +114,8 @@ def move_blockers(neg, order: list[str], trade: int, rounds: int = 3,
     no net shares more cells than before, the vias of these nets fall, and their cost without
     congestion (:func:`router.negotiate._pure_cost`) rises by less than `trade` for each via taken
     out. Otherwise every route is put back as it was. Up to `rounds` sweeps over the nets with
-    vias (most vias first), while a sweep still changes something; with `near` (mm), a net whose
+    vias (most vias first), while a sweep still changes something; a net whose try changed nothing
+    is not tried again before another change was kept (the same state: the same try); with `near` (mm), a net whose
     try changed nothing is tried again only when a change kept since came within `near` of its
     cells (:data:`MOVE_NEAR`), and a try that changed nothing after more than :data:`MOVE_DEAR` times
     the board's search states is not made again. Returns (nets that gave up vias, vias removed)."""
@@ -141,6 +142,8 @@ def move_blockers(neg, order: list[str], trade: int, rounds: int = 3,
                 continue
             if net in dear:
                 continue
+            if tried.get(net) == len(moved):
+                continue                 # nothing kept since its try changed nothing: the same try again
             if reach is not None and net in tried:       # again only when a change since came near it
                 j0, i0, j1, i1 = _cells_box([old])
                 if not any(b[0] <= j1 + reach and j0 - reach <= b[2] and b[1] <= i1 + reach and i0 - reach <= b[3]
