@@ -298,3 +298,27 @@ def test_a_dear_try_that_changed_nothing_is_not_made_again(monkeypatch):
         monkeypatch.setattr(viapass, "_try_move", fake)
         viapass.move_blockers(neg, order, _cost(VIA_TRADE, grid.pitch), near=viapass.MOVE_NEAR)
         assert calls == want, (dear, calls)
+
+
+def test_a_try_that_changed_nothing_waits_for_a_kept_change(monkeypatch):
+    # the sweeps' bookkeeping without `near` (hand-worked, the tries stood in for as above): a net
+    # whose try changed nothing is tried again only after another net's change was kept since (the
+    # same routes, the same try otherwise). X takes out a via in the first `kept` sweeps, Y never.
+    from router import viapass
+    from router.negotiate import _cost
+    b, grid, neg, order = _staged(channel_board())
+    neg.routes["Y"].vias.append((1, 1))                 # Y a candidate too (never laid: bookkeeping only)
+    for kept, want in ((1, ["X", "Y", "X"]), (2, ["X", "Y", "X", "Y", "X"])):
+        calls = []
+        left = {"X": kept}
+
+        def fake(neg_, net, *a, **kw):
+            calls.append(net)
+            if net == "X" and left["X"]:
+                left["X"] -= 1
+                return 1, (0, 0, grid.ny, grid.nx)
+            return 0, None
+
+        monkeypatch.setattr(viapass, "_try_move", fake)
+        viapass.move_blockers(neg, order, _cost(VIA_TRADE, grid.pitch))
+        assert calls == want, (kept, calls)
