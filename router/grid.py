@@ -688,11 +688,23 @@ class RoutingGrid:
         need = self.rules.edge_clearance + half - TOL
         if edge_distance(self.board, [line], upto=need)[0] < need:
             return False
-        for ko in self.board.keepouts:
-            if layer not in [self.layers.index(l) for l in ko.layers_on(self.layers) if l in self.layers]:
+        for layers, poly, inner in self._keepout_shapes():
+            if layer not in layers:
                 continue
-            poly = Polygon(ko.polygon)
-            inner = poly.buffer(-TOL, join_style="mitre")
             if (not inner.is_empty and inner.intersects(line)) or (half > 0 and poly.distance(line) < half - TOL):
                 return False
         return True
+
+    def _keepout_shapes(self) -> list:
+        """Per keepout of the board: its layer indices, its polygon and the polygon shrunk by TOL
+        (what copper may not enter), made once per grid (the board's keepouts do not change while it
+        routes; :meth:`segment_clear` made them again for every segment)."""
+        shapes = self.__dict__.get("_ko_shapes")
+        if shapes is None:
+            shapes = []
+            for ko in self.board.keepouts:
+                poly = Polygon(ko.polygon)
+                shapes.append(({self.layers.index(l) for l in ko.layers_on(self.layers) if l in self.layers},
+                               poly, poly.buffer(-TOL, join_style="mitre")))
+            self._ko_shapes = shapes
+        return shapes

@@ -83,3 +83,60 @@ def test_generator_pads_and_enclosed():
     # the default board is unchanged by the new options
     a, c = real_board(3, 60), real_board(3, 60, pads=None, enclosed=0)
     assert [(p.ref, p.at) for p in a.parts] == [(p.ref, p.at) for p in c.parts]
+
+
+KEPT_OUT = '''format = 1
+[board]
+name = "kept-out"
+size = [30.0, 20.0]
+copper_layers = 2
+[rules]
+grid = 0.25
+[[parts]]
+ref = "R1"
+footprint = "chip-0603"
+at = [3.0, 3.0]
+[[keepouts]]
+layers = ["bottom"]
+polygon = [[8.0, 6.0], [14.0, 6.0], [13.0, 9.0], [8.0, 9.5]]
+[[keepouts]]
+polygon = [[18.0, 8.0], [25.0, 10.0], [20.0, 15.0]]
+[[nets]]
+name = "A"
+pins = ["R1.1", "R1.2"]
+'''
+
+
+def test_segment_clear_keepouts_against_shapely():
+    """`RoutingGrid.segment_clear` keeps traces out of polygon keepouts on their layers (the keepout
+    shapes are made once per grid; copper may touch them, not enter): each random segment away from the pads and the edge is clear exactly
+    when shapely finds it outside every keepout of its layer by more than half the width (interior
+    not entered, distance measured by shapely), and the answer is the same asked twice."""
+    import random
+
+    from shapely.geometry import LineString
+
+    from router.grid import RoutingGrid
+    from router.units import TOL
+
+    b = loads_board(KEPT_OUT)
+    grid = RoutingGrid(b)
+    shapes = [(set(range(2)) if ko.layers is None else {grid.layers.index(l) for l in ko.layers},
+               Polygon(ko.polygon)) for ko in b.keepouts]
+    rnd = random.Random(7)
+    seen = {True: 0, False: 0}
+    for _ in range(400):
+        a = (round(rnd.uniform(6.0, 28.0), 3), round(rnd.uniform(5.0, 18.0), 3))
+        c = (round(a[0] + rnd.uniform(-4.0, 4.0), 3), round(a[1] + rnd.uniform(-4.0, 4.0), 3))
+        c = (min(max(c[0], 6.0), 28.0), min(max(c[1], 5.0), 18.0))
+        if a == c:
+            continue
+        layer, width = rnd.randrange(2), rnd.choice([0.0, 0.25, 0.5])
+        line = LineString([a, c])
+        want = not any(layer in ls and (poly.buffer(-TOL).intersects(line) or poly.distance(line) < width / 2 - TOL)
+                       for ls, poly in shapes)
+        got = grid.segment_clear("A", a, c, layer, width)
+        assert got == want, (a, c, layer, width)
+        assert grid.segment_clear("A", a, c, layer, width) == got
+        seen[got] += 1
+    assert seen[True] > 50 and seen[False] > 50
