@@ -875,6 +875,12 @@ def _negotiate_local(neg: _Negotiation, names: list[str], passes: int) -> None:
         neg.present, neg.hist, neg.hist_top = saved
 
 
+def _few_pads(neg: _Negotiation, net: str) -> bool:
+    """Whether `net` has at most :data:`LOCAL_MOST_PADS` pads: a net the local steps (the planned
+    re-order, the swap) may rip up and route again; a supply or ground is too dear to."""
+    return sum(len(g) for g in neg.groups[net]) <= LOCAL_MOST_PADS
+
+
 def _closed_pads(neg: _Negotiation, net: str) -> list:
     """The pads of `net` left without an exit to the grid by the other nets' routed copper (walls)."""
     space, others = neg.spaces.space(neg, net, True, None)
@@ -895,7 +901,7 @@ def _reorder_planned(neg: _Negotiation, lost: dict) -> None:
     shares more and no many-pad net is lost; otherwise every route goes back as it was."""
     by_part: dict = defaultdict(list)       # part -> (lost net, its pad there that has no exit)
     for net in [n for n in neg.nets if n in lost and n not in neg.blind
-                and sum(len(g) for g in neg.groups[n]) <= LOCAL_MOST_PADS]:      # a lost supply: too dear
+                and _few_pads(neg, n)]:      # a lost supply: too dear
         for p in _closed_pads(neg, net):
             by_part[p.ref].append((net, p))
     saved = neg.fanout
@@ -926,7 +932,7 @@ def _planned_try(neg: _Negotiation, lost: dict, nets: list, plan, pads: dict) ->
     for net in nets:
         # many-pad nets (supplies) only where they hold a planned exit: routing them again is dear
         near.update(n for n in _window_nets(neg, net, PLAN_WINDOW, pads[net])
-                    if sum(len(g) for g in neg.groups[n]) <= LOCAL_MOST_PADS)
+                    if _few_pads(neg, n))
     near -= set(nets)
     old = {n: neg.routes[n] for n in sorted(near, key=neg.nets.index)}
     for n in old:
@@ -954,7 +960,7 @@ def _planned_try(neg: _Negotiation, lost: dict, nets: list, plan, pads: dict) ->
         dropped = {n: w for n, w in dropped.items() if n not in nets}
     shared, _ = neg.conflicts()
     ok = (len(got) > len(dropped) and not any(k > before.get(n, 0) for n, k in shared.items())
-          and all(sum(len(g) for g in neg.groups[n]) <= LOCAL_MOST_PADS for n in dropped))
+          and all(_few_pads(neg, n) for n in dropped))
     if ok:
         for n in got:
             del lost[n]
@@ -981,13 +987,10 @@ def _swap(neg: _Negotiation, lost: dict) -> None:
     move several nets at once and route the lost net through the others first, and lose a
     neighbour where moving one net alone would have done (see docs/measurements.md). Lost nets
     are tried again while one of them comes back."""
-    def small(n):
-        return sum(len(g) for g in neg.groups[n]) <= LOCAL_MOST_PADS
-
     again = True
     while again:
         again = False
-        for net in [n for n in neg.nets if n in lost and n not in neg.blind and small(n)]:
+        for net in [n for n in neg.nets if n in lost and n not in neg.blind and _few_pads(neg, n)]:
             if net in neg.routes:
                 continue
             way = _priced_route(neg, net)
@@ -999,7 +1002,7 @@ def _swap(neg: _Negotiation, lost: dict) -> None:
                 ways = [n for n in neg.nets if n != net and shared.get(n)]
             closed = _closed_pads(neg, net)
             near = _window_nets(neg, net, REORDER_WINDOW, closed or None)
-            tried = [n for n in dict.fromkeys(ways + near) if n not in lost and small(n)][:SWAP_MOST]
+            tried = [n for n in dict.fromkeys(ways + near) if n not in lost and _few_pads(neg, n)][:SWAP_MOST]
             for n in tried:
                 old = neg.routes[n]
                 neg.rip(n)
