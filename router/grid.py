@@ -658,21 +658,34 @@ class RoutingGrid:
         """True when a trace segment a-b of `net` keeps every required distance (hard and edge,
         and from `others`, :meth:`obstacle_arrays` of copper laid for other nets). `base`, when
         given, replaces the per-obstacle centre distances (a pad escape's relaxed rule, router.escape)."""
-        prof = self.profile_of(net)
         half = width / 2
         bx = (min(a[0], b[0]), min(a[1], b[1]), max(a[0], b[0]), max(a[1], b[1]))
-        boxes, rads, lmask, nets, kinds, owners = self._obstacle_arrays()
-        if base is None:
-            base = self._base_need(prof)
-        gx = np.maximum(np.maximum(boxes[:, 0] - bx[2], 0.0), bx[0] - boxes[:, 2])
-        gy = np.maximum(np.maximum(boxes[:, 1] - bx[3], 0.0), bx[1] - boxes[:, 3])
-        hit = (np.hypot(gx, gy) < base + half - TOL) & ((lmask >> layer) & 1).astype(bool)
+        # the fixed copper, edge and keepouts do not change on one grid: their answer is kept per
+        # segment (the same segments are measured again for every strict route of a net)
+        memo = self.__dict__.setdefault("_fixed_clear", {})
+        key = (net, a if type(a) is tuple else tuple(a), b if type(b) is tuple else tuple(b), layer, width,
+               None if base is None else id(base))      # the array itself is kept with the answer
+        got = memo.get(key)
+        if got is None or got[0] is not base:
+            got = memo[key] = (base, self._fixed_clear_of(net, a, b, layer, half, bx, base))
+        if not got[1]:
+            return False
         if others is not None:
             oboxes, omask, oneed = others
             ox = np.maximum(np.maximum(oboxes[:, 0] - bx[2], 0.0), bx[0] - oboxes[:, 2])
             oy = np.maximum(np.maximum(oboxes[:, 1] - bx[3], 0.0), bx[1] - oboxes[:, 3])
             if np.any((np.hypot(ox, oy) < oneed + half - TOL) & ((omask >> layer) & 1).astype(bool)):
                 return False
+        return True
+
+    def _fixed_clear_of(self, net: str, a, b, layer: int, half: float, bx, base) -> bool:
+        """:meth:`segment_clear` against the grid's fixed obstacles, the outline and the keepouts only."""
+        boxes, rads, lmask, nets, kinds, owners = self._obstacle_arrays()
+        if base is None:
+            base = self._base_need(self.profile_of(net))
+        gx = np.maximum(np.maximum(boxes[:, 0] - bx[2], 0.0), bx[0] - boxes[:, 2])
+        gy = np.maximum(np.maximum(boxes[:, 1] - bx[3], 0.0), bx[1] - boxes[:, 3])
+        hit = (np.hypot(gx, gy) < base + half - TOL) & ((lmask >> layer) & 1).astype(bool)
         line = shapely.linestrings([a, b]) if a != b else shapely.points(a)
         for k in np.nonzero(hit)[0]:
             ob = self.obstacles[k]

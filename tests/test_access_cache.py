@@ -1,0 +1,177 @@
+"""What the router keeps between routes gives what a fresh computation gives (common practice for a
+cache: the kept answer must equal the answer worked out again from nothing):
+
+- a pad's access for strict routes (other nets' copper as walls), kept with what it was worked out
+  from near the pad (router.nets._access_inputs): after copper changes near the pad it is worked out
+  again, after changes far from it the kept access is used, and both equal a fresh computation;
+- segment_clear's answer against the fixed copper, kept per segment on the grid;
+- the soft items of each net as arrays for exit_conflicts, kept while the net's items are the same.
+"""
+from __future__ import annotations
+
+import random
+
+import numpy as np
+
+from router.grid import RoutingGrid
+from router.negotiate import _Negotiation, _pad_groups
+from router.nets import _access, terminals
+from router.realgen import real_board
+from router.search import STEP
+
+
+def _negotiation(seed: int = 2, nets: int = 30):
+    b = real_board(seed, nets)                    # 0.5 mm pitch parts: stubs, necks and escapes off the grid
+    grid = RoutingGrid(b)
+    groups = _pad_groups(b, grid)
+    names = [n for n in groups if len(groups[n]) > 1]
+    neg = _Negotiation(b, grid, names, groups, bend=STEP, via=2 * STEP, jump=5 * STEP)
+    return b, grid, groups, names, neg
+
+
+def _fresh(grid, space, net, pad, others) -> dict:
+    """The pad's access worked out with nothing kept on the grid."""
+    kept = {k: grid.__dict__.pop(k) for k in ("_fixed_clear", "_strict_access") if k in grid.__dict__}
+    try:
+        return _access(grid, space, net, pad, others)
+    finally:
+        grid.__dict__.pop("_fixed_clear", None)
+        grid.__dict__.pop("_strict_access", None)
+        grid.__dict__.update(kept)
+
+
+def _same(a: dict, b: dict) -> bool:
+    return list(a) == list(b) and all(tuple(a[c] or ()) == tuple(b[c] or ()) for c in a)
+
+
+def _with_item(others, box, need):
+    """`others` (boxes, layer bits, centre distances) with one more item on both layers."""
+    boxes, mask, needs = others
+    return (np.vstack([boxes, np.array([box], np.float64)]), np.append(mask, np.int64(3)),
+            np.append(needs, np.float64(need)))
+
+
+def test_strict_access_kept_equals_fresh_after_near_and_far_changes():
+    b, grid, groups, names, neg = _negotiation()
+    for net in names[: len(names) // 2]:             # half the nets laid: the others' copper are walls
+        neg.lay(net, neg.route(net))
+    net = next(n for n in names[len(names) // 2:] if any(p.ref.startswith("U") for g in groups[n] for p in g))
+    space, others = neg.spaces.space(neg, net, True, None)
+    assert others is not None
+    pads = [p for g in groups[net] for p in g]
+    terminals(grid, space, net, [[p] for p in pads], others)
+    store = grid._strict_access
+    kept = {p: store[(net, p.ref, p.index)][1] for p in pads}
+    for p in pads:
+        assert _same(kept[p], _fresh(grid, space, net, p, others))
+    pad = next(p for p in pads if p.ref.startswith("U"))
+    # far: another net's via in a corner of the board, nowhere near any pad of the net
+    xs = [q.x for q in pads]
+    ys = [q.y for q in pads]
+    far_x = grid.xs[0] if abs(grid.xs[0] - min(xs)) > abs(grid.xs[-1] - max(xs)) else grid.xs[-1]
+    far_y = grid.ys[0] if abs(grid.ys[0] - min(ys)) > abs(grid.ys[-1] - max(ys)) else grid.ys[-1]
+    if min(abs(far_x - x) for x in xs) + min(abs(far_y - y) for y in ys) < 8.0:
+        raise AssertionError("the board should leave a corner far from the net's pads")
+    far = _with_item(others, (far_x, far_y, far_x, far_y), 0.6)
+    got = terminals(grid, space, net, [[p] for p in pads], far)
+    for p, t in zip(pads, got):
+        assert store[(net, p.ref, p.index)][1] is kept[p]          # the kept access was used
+        assert _same(t.cells, _fresh(grid, space, net, p, far))
+    # near: another net's copper over the pad's access (its open grid points closed, an item on them)
+    acc = kept[pad]
+    assert acc
+    closed = space.open_cell.copy()
+    for (l, j, i) in acc:
+        space.open_cell[l, j, i] = 0
+    x, y = grid.point(*next(iter(acc))[1:])
+    near = _with_item(far, (x, y, x, y), 0.45)
+    got = terminals(grid, space, net, [[pad]], near)
+    new = store[(net, pad.ref, pad.index)][1]
+    assert new is not kept[pad] and not _same(new, acc)           # worked out again, and different
+    assert _same(got[0].cells, _fresh(grid, space, net, pad, near))
+    space.open_cell[:] = closed                                   # and back: the same access as at first
+    got = terminals(grid, space, net, [[pad]], far)
+    assert _same(got[0].cells, acc)
+
+
+def test_segment_clear_kept_equals_fresh():
+    b = real_board(2, 30)
+    grid, fresh = RoutingGrid(b), RoutingGrid(b)
+    rnd = random.Random(5)
+    x0, y0, x1, y1 = grid.xs[0], grid.ys[0], grid.xs[-1], grid.ys[-1]
+    items = grid.soft_items("GND", [((x0 + 5.0, y0 + 5.0), (x1 - 5.0, y0 + 5.0), 0, 0.5)], [], [])
+    others = grid.obstacle_arrays(items, grid.profile_of("S1"))
+    nets = [n.name for n in b.nets][:6]
+    seen = {True: 0, False: 0}
+    segs = []
+    for _ in range(300):
+        a = (round(rnd.uniform(x0, x1), 3), round(rnd.uniform(y0, y1), 3))
+        c = (round(a[0] + rnd.choice([0.0, rnd.uniform(-2, 2)]), 3), a[1]) if rnd.random() < 0.5 else \
+            (a[0], round(a[1] + rnd.uniform(-2, 2), 3))
+        segs.append((rnd.choice(nets), a, c, rnd.randrange(2), rnd.choice([0.15, 0.25, 0.6])))
+    for rounds in range(2):                          # the second time every answer is a kept one
+        for net, a, c, layer, width in segs:
+            for oth in (None, others):
+                got = grid.segment_clear(net, a, c, layer, width, oth)
+                want = fresh.segment_clear(net, a, c, layer, width, oth)
+                fresh.__dict__.pop("_fixed_clear", None)
+                assert got == want, (net, a, c, layer, width)
+                seen[got] += 1
+    assert seen[True] > 50 and seen[False] > 50
+
+
+def test_exit_conflicts_kept_rows_follow_the_items():
+    from router.escape import exit_conflicts
+    from router.nets import NetRoute
+    b = real_board(2, 30)
+    grid = RoutingGrid(b)
+    rng = np.random.default_rng(3)
+    x0, y0, x1, y1 = grid.xs[0] + 2, grid.ys[0] + 2, grid.xs[-1] - 2, grid.ys[-1] - 2
+    routes, soft = {}, {}
+    clashes = 0
+    for k in range(40):
+        net = f"N{k}"
+        x, y = round(float(rng.uniform(x0, x1)), 3), round(float(rng.uniform(y0, y1)), 3)
+        stubs = [((x, y), (round(x + 0.3, 3), y), k % 2)]
+        routes[net] = NetRoute(net, stubs=stubs)
+        soft[net] = grid.soft_items(net, [(p, q, l, 0.25) for p, q, l in stubs], [], [])
+    for step in range(4):
+        got = exit_conflicts(grid, routes, soft)
+        fresh = RoutingGrid(b)
+        want = exit_conflicts(fresh, routes, soft)
+        assert got[0] == want[0]
+        assert [c.tolist() for c in got[1]] == [c.tolist() for c in want[1]]
+        clashes += len(got[0])
+        for k in range(step, 40, 4):                 # some nets' copper moved onto others' exits
+            net, other = f"N{k}", f"N{(k * 7 + step) % 40}"
+            (p, q, l), = routes[other].stubs
+            soft[net] = grid.soft_items(net, [((p[0], p[1] + 0.3), (q[0], q[1] + 0.3), l, 0.25)], [], [])
+    assert clashes > 0
+
+
+def test_cost_maxima_kept_through_raises_equal_fresh():
+    """LazyCosts.maxima keeps its parts and add_cell's largest entry through SearchSpace.raise_cell:
+    the same bounds as measured on the whole arrays afresh after every raise."""
+    from router.search import LazyCosts, SearchSpace
+    rng = np.random.default_rng(11)
+    for case in range(24):
+        L, ny, nx_ = 2, int(rng.integers(3, 9)), int(rng.integers(3, 9))
+        soft = rng.integers(0, 4, (L, ny, nx_)).astype(np.int32)
+        hist = (rng.integers(0, 5, (L, ny, nx_)) * STEP).astype(np.int64)
+        soft_via = rng.integers(0, 3, (ny, nx_)).astype(np.int32)
+        given = case % 3 != 0
+        add_cell = rng.integers(0, 900, (L, ny, nx_)).astype(np.int64) if given else None
+        add_hole = rng.integers(0, 900, (ny, nx_)).astype(np.int64) if given else None
+        crowd = rng.integers(0, 3, (ny, nx_)).astype(np.int32) if case % 2 else None
+        lz = LazyCosts(soft, hist, soft_via, hist.max(axis=0), float(rng.uniform(10, 5000)), strict=case % 4 == 0,
+                       crowd=crowd, crowd_price=1, add_cell=add_cell, add_hole=add_hole, cap=int(rng.choice([3000, 2**24])))
+        ones = np.ones((L, ny, nx_), np.uint8)
+        sp = SearchSpace(ones, ones, ones, np.ones((ny, nx_), np.uint8), None, lazy=lz)
+        for k in range(6):
+            if k % 2 == 0:
+                sp.extra_max()               # asked before and between raises
+            c = (int(rng.integers(0, L)), int(rng.integers(0, ny)), int(rng.integers(0, nx_)))
+            sp.raise_cell(c, int(rng.integers(0, 3000)))
+            fresh = LazyCosts(soft, hist, soft_via, hist.max(axis=0), lz.pf, strict=lz.strict, crowd=crowd,
+                              crowd_price=1, add_cell=lz.add_cell.copy(), add_hole=lz.add_hole.copy(), cap=lz.cap)
+            assert lz.maxima() == fresh.maxima()
