@@ -89,6 +89,8 @@ class LazyCosts:
     add_cell: Optional[np.ndarray] = None    # int64 [L, ny, nx]: added last to a cell's cost (capped)
     add_hole: Optional[np.ndarray] = None    # int64 [ny, nx]: added last to a hole's cost (capped)
     _own_add: bool = False                   # add_cell and add_hole are this object's own copies
+    _base_max: Optional[tuple] = None        # maxima() without add_cell and add_hole (they do not change)
+    _add_max: Optional[list] = None          # [add_cell.max(), add_hole.max()], kept by raise_cell
 
     def cell_cost(self, l: int, j: int, i: int) -> int:
         e = 0
@@ -111,18 +113,28 @@ class LazyCosts:
     def maxima(self) -> tuple[int, int]:
         """Upper bounds of the cell and hole costs (for the bucket queue's span)."""
         if self.bounds is None:
-            if self.strict:
-                e = h = 0
-            else:
-                e = int(min(self.pf * float(self.soft.max(initial=0)) + float(self.hist.max(initial=0)), self.cap))
-                h = int(min(self.pf * float(self.soft_via.max(initial=0)) + float(self.hist_top.max(initial=0)),
-                            self.cap))
-            if self.crowd is not None:
-                h = min(h + int(self.crowd.max(initial=0)) * int(self.crowd_price), self.cap)
+            # (the parts are kept: a raised cell changes only add_cell's largest entry, which
+            # SearchSpace.raise_cell keeps; measuring whole grids again after each raise cost more
+            # than many searches)
+            if self._base_max is None:
+                if self.strict:
+                    e = h = 0
+                else:
+                    e = int(min(self.pf * float(self.soft.max(initial=0)) + float(self.hist.max(initial=0)),
+                                self.cap))
+                    h = int(min(self.pf * float(self.soft_via.max(initial=0)) + float(self.hist_top.max(initial=0)),
+                                self.cap))
+                if self.crowd is not None:
+                    h = min(h + int(self.crowd.max(initial=0)) * int(self.crowd_price), self.cap)
+                self._base_max = (e, h)
+            e, h = self._base_max
+            if self._add_max is None:
+                self._add_max = [None if self.add_cell is None else int(self.add_cell.max(initial=0)),
+                                 None if self.add_hole is None else int(self.add_hole.max(initial=0))]
             if self.add_cell is not None:
-                e = min(e + int(self.add_cell.max(initial=0)), self.cap)
+                e = min(e + self._add_max[0], self.cap)
             if self.add_hole is not None:
-                h = min(h + int(self.add_hole.max(initial=0)), self.cap)
+                h = min(h + self._add_max[1], self.cap)
             self.bounds = (e, h)
         return self.bounds
 
@@ -229,12 +241,17 @@ class SearchSpace:
             lz = self.lazy
             if not lz._own_add:
                 L, ny, nx = self.shape
+                known = lz._add_max or [None, None]
+                most = [0 if lz.add_cell is None else known[0], 0 if lz.add_hole is None else known[1]]
+                lz._add_max = None if None in most else most      # zeros' largest entry is 0; a copy's, the same
                 lz.add_cell = (np.zeros((L, ny, nx), np.int64) if lz.add_cell is None
                                else np.array(lz.add_cell, dtype=np.int64))
                 lz.add_hole = (np.zeros((ny, nx), np.int64) if lz.add_hole is None
                                else np.array(lz.add_hole, dtype=np.int64))
                 lz._own_add = True
             lz.add_cell[c] += int(v)          # min(min(e + a, cap) + v, cap) = min(e + a + v, cap)
+            if lz._add_max is not None:       # entries only grow: the largest is the old or this one
+                lz._add_max[0] = max(lz._add_max[0], int(lz.add_cell[c]))
             lz.bounds = None
             return
         if not self._own_extra:
@@ -317,7 +334,7 @@ class _Workspace:
         self.stamp = 0
         self.tmask = None
         self.seen = None                 # the cut-off floods' work arrays (_cut_off_sides), made on first use
-        self.head = np.zeros(1 << 12, dtype=np.int32)
+        self.heads: dict[int, np.ndarray] = {}     # bucket arrays by size (buckets)
         # the queue's entries: a search that fills them is run again with twice as many (the same
         # result), so they start small and grow to what the board's searches need, not to the grid
         self.grow_pool(max(1 << 16, min(n_states, 1 << 20)))
@@ -328,13 +345,17 @@ class _Workspace:
         self.ent_next = np.empty(size, dtype=np.int32)
 
     def buckets(self, span: int) -> np.ndarray:
-        """A bucket array of a power-of-two size above `span` (the largest key step of one move)."""
-        nb = self.head.shape[0]
+        """A bucket array of the least power-of-two size (at least 4,096) above `span` (the largest
+        key step of one move). The search clears all of it first, so a search of a small span does
+        not take the array a dearer one needed (late negotiation passes: 2 million buckets, 8 MB
+        cleared per search); any size above the span pops the states in the same order."""
+        nb = 1 << 12
         while nb <= span:
             nb *= 2
-        if nb != self.head.shape[0]:
-            self.head = np.zeros(nb, dtype=np.int32)
-        return self.head
+        head = self.heads.get(nb)
+        if head is None:
+            head = self.heads[nb] = np.zeros(nb, dtype=np.int32)
+        return head
 
     def target_mask(self, shape) -> np.ndarray:
         """A zeroed uint8 array of `shape` for the targets of one search; the caller clears
