@@ -772,6 +772,22 @@ def _step() -> int:
     return STEP
 
 
+def _item_rows(grid, net: str, items: list) -> tuple:
+    """One net's soft items (:meth:`RoutingGrid.soft_items`) as arrays for :func:`exit_conflicts`:
+    (items, boxes, radii, layer bits, class index per item, its classes), kept on the grid while
+    the net's laid items are the same list (a route's items are made once and not changed)."""
+    cache = grid.__dict__.setdefault("_exit_rows", {})
+    got = cache.get(net)
+    if got is None or got[0] is not items:
+        classes = sorted({ob.cls for ob in items})
+        at = {c: k for k, c in enumerate(classes)}
+        got = cache[net] = (items, np.array([ob.box for ob in items], dtype=np.float64).reshape(-1, 4),
+                            np.array([ob.radius for ob in items], dtype=np.float64),
+                            np.array([sum(1 << l for l in ob.layers) for ob in items], dtype=np.int64),
+                            np.array([at[ob.cls] for ob in items], dtype=np.int64), classes)
+    return got
+
+
 #: Exit segments measured together in :func:`exit_conflicts` (neighbours in x; our choice).
 _EXIT_RUN = 32
 
@@ -795,18 +811,18 @@ def exit_conflicts(grid, routes: dict, soft: dict) -> tuple[dict, list]:
         for pts, l, nw in r.necks:
             for a, b in zip(pts, pts[1:]):
                 segs.append((net, l, a, b, nw))
-    items = [(n, ob) for n in sorted(soft) for ob in soft[n]]
-    if not segs or not items:
+    laid = [(n, _item_rows(grid, n, soft[n])) for n in sorted(soft) if soft[n]]
+    if not segs or not laid:
         return {}, []
     nets = sorted(set(routes) | set(soft))
     nid = {n: k for k, n in enumerate(nets)}
-    classes = sorted({ob.cls for _, ob in items} | {grid.net_class.get(s[0], "default") for s in segs})
+    classes = sorted({c for _, rows in laid for c in rows[5]} | {grid.net_class.get(s[0], "default") for s in segs})
     cid = {c: k for k, c in enumerate(classes)}
-    boxes = np.array([ob.box for _, ob in items], dtype=np.float64)
-    rads = np.array([ob.radius for _, ob in items])
-    lmask = np.array([sum(1 << l for l in ob.layers) for _, ob in items], dtype=np.int64)
-    inet = np.array([nid[n] for n, _ in items])
-    icls = np.array([cid[ob.cls] for _, ob in items])
+    boxes = np.concatenate([rows[1] for _, rows in laid])
+    rads = np.concatenate([rows[2] for _, rows in laid])
+    lmask = np.concatenate([rows[3] for _, rows in laid])
+    inet = np.concatenate([np.full(len(rows[1]), nid[n]) for n, rows in laid])
+    icls = np.concatenate([np.array([cid[c] for c in rows[5]], dtype=np.int64)[rows[4]] for _, rows in laid])
     # required clearance between each pair of classes
     clear = np.zeros((len(classes), len(classes)))
     for a in classes:

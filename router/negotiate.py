@@ -703,7 +703,18 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
 def _route_bends(grid: RoutingGrid, r: NetRoute) -> int:
     """Bends of a route's grid copper as the search prices them and the contract counts them: a
     grid point where exactly two arms meet at a right angle, the arms of both layers counted
-    together at a via and a jumper wire counted as an arm at its ends (stubs left out)."""
+    together at a via and a jumper wire counted as an arm at its ends (stubs left out). Kept on
+    the route (a route is not changed once made; its costs are asked for again in every via try)."""
+    got = r.__dict__.get("_bends")
+    if got is not None and got[0] is grid and got[1] == (len(r.edges), len(r.vias), len(r.jumpers)):
+        return got[2]
+    n = _count_bends(grid, r)
+    r.__dict__["_bends"] = (grid, (len(r.edges), len(r.vias), len(r.jumpers)), n)
+    return n
+
+
+def _count_bends(grid: RoutingGrid, r: NetRoute) -> int:
+    """:func:`_route_bends` counted."""
     arms: dict = defaultdict(list)
     vias = set(r.vias)
     for a, c in r.edges:
