@@ -224,7 +224,16 @@ class RoutingGrid:
 
     def near_points(self, a, b, layer: int) -> list:
         """Grid points (layer, j, i) within half a pitch of the axis segment a-b: the cells an
-        off-grid stub or pad exit occupies for the negotiation."""
+        off-grid stub or pad exit occupies for the negotiation. Kept per segment on the grid (the
+        same exits are priced again for every route of their net); the caller does not change it."""
+        memo = self.__dict__.setdefault("_near_memo", {})
+        key = (a[0], a[1], b[0], b[1], layer)
+        got = memo.get(key)
+        if got is None:
+            got = memo[key] = self._near_points(a, b, layer)
+        return got
+
+    def _near_points(self, a, b, layer: int) -> list:
         g = self.pitch
         x0, x1 = sorted((a[0], b[0]))
         y0, y1 = sorted((a[1], b[1]))
