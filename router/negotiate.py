@@ -184,7 +184,7 @@ class _Negotiation:
             per_layer[l].append(((i, j), (i2, j2)))
         out = []
         for l in sorted(per_layer):
-            for line in polylines(per_layer[l]):
+            for line in polylines(per_layer[l], whole=True):
                 pts = [grid.point(int(j), int(i)) for i, j in line]
                 out.extend((a, b, l, self.width(r.net)) for a, b in zip(pts, pts[1:]))
         for a, b, l in r.stubs:

@@ -865,13 +865,18 @@ def target_boxes(targets: np.ndarray, most: int = MAX_BOXES, gap: int = MERGE_GA
 ENTRY_MIN = STEP
 
 
-def _entry_cost(space: SearchSpace, tgt: np.ndarray, src: np.ndarray) -> int:
-    """The least extra cost of entering any target cell (0 when a source is a target)."""
+def _entry_cost(space: SearchSpace, tgt: np.ndarray, src: np.ndarray, tmask: Optional[np.ndarray] = None) -> int:
+    """The least extra cost of entering any target cell (0 when a source is a target). `tmask`:
+    the targets marked on the grid (find_path's), read at the sources instead of sorting them."""
     L, ny, nx = space.shape
-    key_t = (tgt[:, 0] * ny + tgt[:, 1]) * nx + tgt[:, 2]
-    key_s = (src[:, 0] * ny + src[:, 1]) * nx + src[:, 2]
-    if np.isin(key_s, key_t).any():
-        return 0
+    if tmask is not None:
+        if tmask[src[:, 0], src[:, 1], src[:, 2]].any():
+            return 0
+    else:
+        key_t = (tgt[:, 0] * ny + tgt[:, 1]) * nx + tgt[:, 2]
+        key_s = (src[:, 0] * ny + src[:, 1]) * nx + src[:, 2]
+        if np.isin(key_s, key_t).any():
+            return 0
     at = (tgt[:, 0], tgt[:, 1], tgt[:, 2])
     lz = space.lazy
     if lz is None:
@@ -1005,7 +1010,7 @@ def find_path(space: SearchSpace, sources, targets, *, bend: int, via: int, jump
             ws.grow_pool(2 * ws.ent_state.shape[0])
 
     limit = -1 if bound is None else max(0, int(bound))
-    entry = _entry_cost(space, tgt, src)
+    entry = _entry_cost(space, tgt, src, tmask)
     def pick_tie(end, expanded, prune, p_e=0):
         # the least cost found (`end`), the plain search's choice among the equally cheap paths:
         # the search keyed by the one box around all targets, every state that cannot end within

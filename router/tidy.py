@@ -47,15 +47,21 @@ def trim_dangling(segments, anchored) -> list:
         segs -= bad
 
 
-def polylines(segments) -> list[list]:
-    """Few polylines covering axis-parallel segments, collinear steps merged.
+def polylines(segments, whole: bool = False) -> list[list]:
+    """Few polylines covering axis-parallel segments, collinear steps merged. `whole`: the
+    points are whole numbers (grid indices), which rounding leaves as they are.
 
     Examples
     --------
     >>> polylines([((0, 0), (1, 0)), ((1, 0), (2, 0)), ((2, 0), (2, 1))])
     [[(0.0, 0.0), (2.0, 0.0), (2.0, 1.0)]]
+    >>> polylines([((0, 0), (1, 0)), ((1, 0), (2, 0)), ((2, 0), (2, 1))], whole=True)
+    [[(0.0, 0.0), (2.0, 0.0), (2.0, 1.0)]]
     """
-    segs = [(_key(a), _key(b)) for a, b in segments if _key(a) != _key(b)]
+    if whole:
+        segs = [(a, b) for a, b in segments if a != b]
+    else:
+        segs = [(_key(a), _key(b)) for a, b in segments if _key(a) != _key(b)]
     segs = sorted({(min(a, b), max(a, b)) for a, b in segs})
     adj = defaultdict(list)
     for k, (a, b) in enumerate(segs):
