@@ -687,18 +687,35 @@ class ExitReserve:
         cells = np.zeros((grid.L, grid.ny, grid.nx), np.int32)
         vias = np.zeros((grid.ny, grid.nx), np.int32)
         clear = max(grid.profile_of(net).clearance_to.values())
+        win = [grid.nx, 0, grid.ny, 0]            # the index box of every grid point stamped
+
+        def stamp(box, need, arr):
+            ia, ib, ja, jb = grid.index_box(box, need)
+            win[:] = [min(win[0], ia), max(win[1], ib), min(win[2], ja), max(win[3], jb)]
+            grid._stamp_points(box, need, 1, arr)
+
         for layer, pts, width in paths:
             for a, b in zip(pts, pts[1:] or pts):
                 box = (min(a[0], b[0]), min(a[1], b[1]), max(a[0], b[0]), max(a[1], b[1]))
-                grid._stamp_points(box, width / 2 + clear + self.thin, 1, cells[layer])
-                grid._stamp_points(box, width / 2 + clear + grid.via_d / 2, 1, vias)
+                stamp(box, width / 2 + clear + self.thin, cells[layer])
+                stamp(box, width / 2 + clear + grid.via_d / 2, vias)
         lane = np.zeros((grid.ny, grid.nx), np.int32)
         if self.lanes:
             for p in pads:
                 box = self._lane(net, p, store.get((net, p.ref, p.index)))
                 if box is not None:
-                    grid._stamp_points(box, grid.profile_of(net).width / 2 + clear + grid.via_d / 2, 1, lane)
-        mine = (np.argwhere(cells > 0), np.argwhere(vias > 0), np.argwhere(lane > 0))
+                    stamp(box, grid.profile_of(net).width / 2 + clear + grid.via_d / 2, lane)
+
+        def where(arr):                           # np.argwhere(arr > 0), looked for in the stamped box only
+            ia, ib, ja, jb = win
+            if ia >= ib or ja >= jb:
+                return np.zeros((0, arr.ndim), np.int64)
+            out = np.argwhere(arr[..., ja:jb, ia:ib] > 0).astype(np.int64)
+            out[:, -2] += ja
+            out[:, -1] += ia
+            return out
+
+        mine = (where(cells), where(vias), where(lane))
         self.own[net] = mine
         self.cost[mine[0][:, 0], mine[0][:, 1], mine[0][:, 2]] += self.unit
         self.via_cost[mine[1][:, 0], mine[1][:, 1]] += self.unit
