@@ -51,16 +51,38 @@ class NetSpaces:
         return got
 
     def _own_open(self, net: str, own: list) -> tuple:
-        """Flat indices of the cells, steps and via places that `net`'s own copper opens."""
+        """Flat indices of the cells, steps and via places that `net`'s own copper opens: the
+        class's hard counts less the net's own obstacles (as ``space_for`` stamps them) against the
+        class's open places, compared only near each own obstacle (a stamp changes nothing
+        farther than its reach; the whole grid compared once per net cost more than its routes)."""
         got = self._own.get(net)
         if got is None:
             g = self.grid
-            k = g.profile_of(net).index
-            sp = g.space_for(net, None, soft_block=False, own=own)
+            prof = g.profile_of(net)
+            k = prof.index
+            cell, hm, vm, via = g.hard_cell[k].copy(), g.hard_h[k].copy(), g.hard_v[k].copy(), g.hard_via[k].copy()
+            for ob in own:
+                g.stamp(ob, -1, only=prof, cell=cell, hmap=hm, vmap=vm, viamap=via)
             base = self._class_open(k)
-            holes = sp.jump_ok if g.one_layer else sp.via_ok      # one layer: jumper ends stand for vias
-            got = tuple(np.flatnonzero(new.ravel() != old.ravel())
-                        for new, old in zip((sp.open_cell, sp.open_h, sp.open_v, holes), base))
+            L, ny, nx = cell.shape
+            # farther than any need of RoutingGrid.stamp (class half width or a hole's, clearance, hole spacing)
+            reach = (max(prof.half, g.via_d / 2, g.jump_d / 2 + g.jump_slack) + max(prof.clearance_to.values())
+                     + max(g.via_drill, g.jump_drill) + g.rules.min_hole_spacing + 2 * g.jump_slack
+                     + g.rules.edge_clearance + g.pitch)
+            found: list = [[], [], [], []]
+            for ob in own:
+                ia, ib, ja, jb = g.index_box(ob.box, ob.radius + reach, cells=2)
+                if ia >= ib or ja >= jb:
+                    continue
+                for q, (arr, open_, old) in enumerate(((cell, g.base_cell[k], base[0]), (hm, g.base_h[k], base[1]),
+                                                       (vm, g.base_v[k], base[2]))):
+                    new = ((arr[:, ja:jb, ia:ib] == 0) & open_[:, ja:jb, ia:ib]).astype(np.uint8)
+                    ls, js, is_ = np.nonzero(new != old[:, ja:jb, ia:ib])
+                    found[q].append((ls * ny + js + ja) * nx + is_ + ia)
+                new = ((via[ja:jb, ia:ib] == 0) & g.base_via[ja:jb, ia:ib]).astype(np.uint8)
+                js, is_ = np.nonzero(new != base[3][ja:jb, ia:ib])
+                found[3].append((js + ja) * nx + is_ + ia)
+            got = tuple(np.unique(np.concatenate(f)).astype(np.intp) if f else np.zeros(0, np.intp) for f in found)
             self._own[net] = got
         return got
 

@@ -175,3 +175,25 @@ def test_cost_maxima_kept_through_raises_equal_fresh():
             fresh = LazyCosts(soft, hist, soft_via, hist.max(axis=0), lz.pf, strict=lz.strict, crowd=crowd,
                               crowd_price=1, add_cell=lz.add_cell.copy(), add_hole=lz.add_hole.copy(), cap=lz.cap)
             assert lz.maxima() == fresh.maxima()
+
+
+def test_own_openings_near_each_obstacle_equal_the_whole_grid():
+    """NetSpaces._own_open compares the net's space with the class's open places only near each of
+    the net's own obstacles: the same places as the whole grids compared (RoutingGrid.space_for)."""
+    from router.boardgen import generate_board
+    from router.spaces import NetSpaces
+    boards = [real_board(2, 30), real_board(0, 30, angled=True),
+              generate_board(4, nets=12, size=(30.0, 25.0), layers=1, max_pins=4, offgrid=True, grid=0.5)]
+    for b in boards:
+        grid = RoutingGrid(b)
+        spaces = NetSpaces(grid)
+        for n in b.nets:
+            own = grid.own_obstacles(n.name)
+            got = spaces._own_open(n.name, own)
+            sp = grid.space_for(n.name, None, soft_block=False, own=own)
+            base = spaces._class_open(grid.profile_of(n.name).index)
+            holes = sp.jump_ok if grid.one_layer else sp.via_ok
+            want = [np.flatnonzero(new.ravel() != old.ravel())
+                    for new, old in zip((sp.open_cell, sp.open_h, sp.open_v, holes), base)]
+            assert all(np.array_equal(x, y) for x, y in zip(got, want)), (b.name, n.name)
+            assert any(len(x) for x in got)
