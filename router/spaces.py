@@ -60,31 +60,43 @@ class NetSpaces:
             g = self.grid
             prof = g.profile_of(net)
             k = prof.index
-            cell, hm, vm, via = g.hard_cell[k].copy(), g.hard_h[k].copy(), g.hard_v[k].copy(), g.hard_via[k].copy()
+            # the net's own obstacles taken out of the class's hard counts in place and put back
+            # below (whole counts: exactly as they were), instead of copying four whole grids
+            cell, hm, vm, via = g.hard_cell[k], g.hard_h[k], g.hard_v[k], g.hard_via[k]
+            base = self._class_open(k)
             for ob in own:
                 g.stamp(ob, -1, only=prof, cell=cell, hmap=hm, vmap=vm, viamap=via)
-            base = self._class_open(k)
-            L, ny, nx = cell.shape
-            # farther than any need of RoutingGrid.stamp (class half width or a hole's, clearance, hole spacing)
-            reach = (max(prof.half, g.via_d / 2, g.jump_d / 2 + g.jump_slack) + max(prof.clearance_to.values())
-                     + max(g.via_drill, g.jump_drill) + g.rules.min_hole_spacing + 2 * g.jump_slack
-                     + g.rules.edge_clearance + g.pitch)
-            found: list = [[], [], [], []]
-            for ob in own:
-                ia, ib, ja, jb = g.index_box(ob.box, ob.radius + reach, cells=2)
-                if ia >= ib or ja >= jb:
-                    continue
-                for q, (arr, open_, old) in enumerate(((cell, g.base_cell[k], base[0]), (hm, g.base_h[k], base[1]),
-                                                       (vm, g.base_v[k], base[2]))):
-                    new = ((arr[:, ja:jb, ia:ib] == 0) & open_[:, ja:jb, ia:ib]).astype(np.uint8)
-                    ls, js, is_ = np.nonzero(new != old[:, ja:jb, ia:ib])
-                    found[q].append((ls * ny + js + ja) * nx + is_ + ia)
-                new = ((via[ja:jb, ia:ib] == 0) & g.base_via[ja:jb, ia:ib]).astype(np.uint8)
-                js, is_ = np.nonzero(new != base[3][ja:jb, ia:ib])
-                found[3].append((js + ja) * nx + is_ + ia)
-            got = tuple(np.unique(np.concatenate(f)).astype(np.intp) if f else np.zeros(0, np.intp) for f in found)
+            try:
+                got = self._own_found(g, prof, own, cell, hm, vm, via, base)
+            finally:
+                for ob in own:
+                    g.stamp(ob, +1, only=prof, cell=cell, hmap=hm, vmap=vm, viamap=via)
             self._own[net] = got
         return got
+
+    def _own_found(self, g, prof, own, cell, hm, vm, via, base) -> tuple:
+        """:meth:`_own_open`'s comparison near each own obstacle, with `cell`, `hm`, `vm` and `via`
+        the hard counts less the net's own obstacles."""
+        k = prof.index
+        L, ny, nx = cell.shape
+        # farther than any need of RoutingGrid.stamp (class half width or a hole's, clearance, hole spacing)
+        reach = (max(prof.half, g.via_d / 2, g.jump_d / 2 + g.jump_slack) + max(prof.clearance_to.values())
+                 + max(g.via_drill, g.jump_drill) + g.rules.min_hole_spacing + 2 * g.jump_slack
+                 + g.rules.edge_clearance + g.pitch)
+        found: list = [[], [], [], []]
+        for ob in own:
+            ia, ib, ja, jb = g.index_box(ob.box, ob.radius + reach, cells=2)
+            if ia >= ib or ja >= jb:
+                continue
+            for q, (arr, open_, old) in enumerate(((cell, g.base_cell[k], base[0]), (hm, g.base_h[k], base[1]),
+                                                   (vm, g.base_v[k], base[2]))):
+                new = ((arr[:, ja:jb, ia:ib] == 0) & open_[:, ja:jb, ia:ib]).astype(np.uint8)
+                ls, js, is_ = np.nonzero(new != old[:, ja:jb, ia:ib])
+                found[q].append((ls * ny + js + ja) * nx + is_ + ia)
+            new = ((via[ja:jb, ia:ib] == 0) & g.base_via[ja:jb, ia:ib]).astype(np.uint8)
+            js, is_ = np.nonzero(new != base[3][ja:jb, ia:ib])
+            found[3].append((js + ja) * nx + is_ + ia)
+        return tuple(np.unique(np.concatenate(f)).astype(np.intp) if f else np.zeros(0, np.intp) for f in found)
 
     # ------------------------------------------------------------------ laid copper
     def _off_maps(self, k: int) -> list:

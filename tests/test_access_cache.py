@@ -187,13 +187,17 @@ def test_own_openings_near_each_obstacle_equal_the_whole_grid():
     for b in boards:
         grid = RoutingGrid(b)
         spaces = NetSpaces(grid)
+        hard = [a.copy() for a in (grid.hard_cell, grid.hard_h, grid.hard_v, grid.hard_via)]
         for n in b.nets:
             own = grid.own_obstacles(n.name)
             got = spaces._own_open(n.name, own)
-            sp = grid.space_for(n.name, None, soft_block=False, own=own)
+            sp = grid.space_for(n.name, None, soft_block=False, own=own)     # from copies of the counts
             base = spaces._class_open(grid.profile_of(n.name).index)
             holes = sp.jump_ok if grid.one_layer else sp.via_ok
             want = [np.flatnonzero(new.ravel() != old.ravel())
                     for new, old in zip((sp.open_cell, sp.open_h, sp.open_v, holes), base)]
             assert all(np.array_equal(x, y) for x, y in zip(got, want)), (b.name, n.name)
             assert any(len(x) for x in got)
+        # the class's counts, changed in place while a net's openings are found, are as they were
+        assert all(np.array_equal(a, b_) for a, b_ in zip(hard, (grid.hard_cell, grid.hard_h, grid.hard_v,
+                                                                  grid.hard_via)))
