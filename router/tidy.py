@@ -83,13 +83,19 @@ def polylines(segments, whole: bool = False) -> list[list]:
             q = other(k, p)
             line.append(q)
             d = direction(p, q)
-            free = [e for e in adj[q] if not used[e]]
-            if not free:
-                return line
             # go straight if we can, else take the first free segment in order
-            straight = [e for e in free if direction(q, other(e, q)) == d]
-            nxt = straight[0] if straight else free[0]
-            p, k = q, nxt
+            first = nxt = None
+            for e in adj[q]:
+                if used[e]:
+                    continue
+                if first is None:
+                    first = e
+                if direction(q, other(e, q)) == d:
+                    nxt = e
+                    break
+            if first is None:
+                return line
+            p, k = q, (first if nxt is None else nxt)
 
     out = []
     starts = sorted(adj, key=lambda p: (len(adj[p]) % 2 == 0, p))     # odd-degree points first
@@ -103,10 +109,13 @@ def polylines(segments, whole: bool = False) -> list[list]:
     merged = []
     for line in out:
         pts = [line[0]]
+        last = None                       # the heading of the last segment of pts
         for q in line[1:]:
-            if len(pts) >= 2 and direction(pts[-2], pts[-1]) == direction(pts[-1], q):
+            d = direction(pts[-1], q)
+            if d == last:                 # collinear: the last segment goes on to q
                 pts[-1] = q
             else:
                 pts.append(q)
+                last = d
         merged.append([(float(x), float(y)) for x, y in pts])
     return merged
