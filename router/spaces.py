@@ -37,6 +37,7 @@ class NetSpaces:
         self._off: dict[int, list] = {}             # class index -> [cell, h, v] counts of off-grid pieces
         self._arrays: dict[str, tuple] = {}         # net -> boxes, layer bits of its laid copper
         self._need: dict[tuple, np.ndarray] = {}    # (net, class) -> centre distances of its laid copper
+        self._pending: dict[int, dict] = {}         # class index -> id -> [off-grid piece, count] not yet stamped
 
     # ------------------------------------------------------------------ fixed copper
     def _class_open(self, k: int) -> tuple:
@@ -108,24 +109,41 @@ class NetSpaces:
         return maps
 
     def lay(self, net: str, items: list, off_grid: list, sign: int) -> None:
-        """Count a net's laid copper in (`sign` +1) or out (-1)."""
-        g = self.grid
-        if sign > 0:
-            if items:
-                self._arrays[net] = (np.array([ob.box for ob in items], dtype=np.float64).reshape(-1, 4),
-                                     np.array([sum(1 << l for l in ob.layers) for ob in items], dtype=np.int64))
-            else:
-                self._arrays.pop(net, None)
+        """Count a net's laid copper in (`sign` +1) or out (-1). Only strict spaces read these
+        counts: the off-grid pieces wait in `_pending` (a piece laid and taken up again cancels)
+        and are stamped when a strict space of the class is made; a net's items become arrays
+        when :meth:`_others` first needs them."""
+        if sign > 0 and items:
+            self._arrays[net] = (items, None)
         else:
             self._arrays.pop(net, None)
         for key in [key for key in self._need if key[0] == net]:
             del self._need[key]
-        for prof in g.profiles.values():
-            if not off_grid:
-                break
-            c, h, v = self._off_maps(prof.index)
+        if not off_grid:
+            return
+        for prof in self.grid.profiles.values():
+            wait = self._pending.setdefault(prof.index, {})
             for ob in off_grid:
-                g._stamp_maps(ob, g._need(ob, prof, prof.half), sign, c, h, v)
+                got = wait.get(id(ob))           # the piece itself is kept with its count: its id stays its own
+                if got is None:
+                    wait[id(ob)] = [ob, sign]
+                else:
+                    got[1] += sign
+                    if not got[1]:
+                        del wait[id(ob)]
+
+    def _off_counts(self, k: int):
+        """The off-grid pieces' counts of class `k` (cell, h, v) with every waiting piece stamped,
+        or None when none was ever stamped (the same sums as stamping each at once)."""
+        wait = self._pending.get(k)
+        if wait:
+            g = self.grid
+            prof = next(p for p in g.profiles.values() if p.index == k)
+            c, h, v = self._off_maps(k)
+            for ob, n in wait.values():
+                g._stamp_maps(ob, g._need(ob, prof, prof.half), n, c, h, v)
+            wait.clear()
+        return self._off.get(k)
 
     def _others(self, net: str, prof, soft: dict):
         """:meth:`RoutingGrid.obstacle_arrays` of every other net's laid copper."""
@@ -137,6 +155,10 @@ class NetSpaces:
             arr = self._arrays.get(n)
             if arr is None:
                 continue
+            if arr[1] is None:
+                items = arr[0]
+                arr = self._arrays[n] = (np.array([ob.box for ob in items], dtype=np.float64).reshape(-1, 4),
+                                         np.array([sum(1 << l for l in ob.layers) for ob in items], dtype=np.int64))
             need = self._need.get((n, prof.index))
             if need is None:
                 need = self._need[(n, prof.index)] = np.array([g._need(ob, prof, 0.0) for ob in soft[n]],
@@ -164,7 +186,7 @@ class NetSpaces:
         if strict:
             cell &= (g.soft_cell[k] == 0)
             via &= (g.soft_via[k] == 0)
-            maps = self._off.get(k)
+            maps = self._off_counts(k)
             if maps is not None:
                 c, h, v = maps
                 mine = neg.off_grid.get(net)
