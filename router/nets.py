@@ -260,25 +260,14 @@ def terminals(grid: RoutingGrid, space: SearchSpace, net: str, pad_groups: list[
     """The terminals of `net`: groups of already-joined pads with their access cells.
 
     With `cache`, a pad's access is computed once per grid and net (valid while the search
-    space's open cells are the fixed copper's only, as in negotiation). With `others` (a strict
-    route: other nets' copper as walls), a pad's access is kept on the grid with what it was
-    computed from near the pad (:func:`_access_inputs`) and reused while that is the same."""
+    space's open cells are the fixed copper's only, as in negotiation)."""
     store = grid.__dict__.setdefault("_access_cache", {}) if cache and others is None else None
-    strict = grid.__dict__.setdefault("_strict_access", {}) if others is not None else None
     out = []
     for pads in pad_groups:
         t = Terminal(list(pads))
         for p in pads:
             key = (net, p.ref, p.index)
             acc = store.get(key) if store is not None else None
-            if acc is None and strict is not None:
-                inputs = _access_inputs(grid, space, net, p, others)
-                got = strict.get(key)
-                if got is not None and got[0] == inputs:
-                    acc = got[1]
-                else:
-                    acc = _access(grid, space, net, p, others)
-                    strict[key] = (inputs, acc)
             if acc is None:
                 acc = _access(grid, space, net, p, others)
                 if store is not None:
@@ -288,39 +277,6 @@ def terminals(grid: RoutingGrid, space: SearchSpace, net: str, pad_groups: list[
                     t.cells[c] = stub
         out.append(t)
     return out
-
-
-def _access_inputs(grid: RoutingGrid, space: SearchSpace, net: str, pad, others) -> tuple:
-    """What :func:`_access` of `pad` reads that can change while a board routes, near the pad:
-    the open cells of `space` and the grid's via places blocked by routed copper (``soft_via``)
-    in a window around the pad, and the rows of `others` (boxes, layer bits, centre distances)
-    that could come within reach of a segment in that window. Every segment and grid point
-    :func:`_access` measures (stubs, L-shaped exits, pad escapes, escape vias and their links) lies
-    within ``reach`` of the pad's copper box: the pad's radius, the longest exit (the class's
-    ``neck_length`` or two pitches) or a via's radius, and two pitches more; an item of `others`
-    stops a segment only within its centre distance plus the segment's half width, at most half
-    the wider of the class width and the via diameter. The fixed copper, the outline and the
-    keepouts do not change on one grid. Equal inputs give the same access (tests/test_access_cache.py)."""
-    from .escape import neck_of
-    core, rad = grid.layout.core_of(pad)
-    bx = box_of_core(core)
-    g = grid.pitch
-    prof = grid.profile_of(net)
-    _, nl = neck_of(grid.board, grid.board.net_class(net))
-    reach = rad + max(nl, 2 * g, grid.via_d / 2) + 2 * g
-    ia, ib, ja, jb = grid.index_box(bx, reach)
-    win = space.open_cell[:, ja:jb, ia:ib].tobytes()
-    vias = grid.soft_via[prof.index][ja:jb, ia:ib].tobytes() if grid.L == 2 else b""
-    rows = b""
-    if others is not None:
-        oboxes, omask, oneed = others
-        w = (bx[0] - reach, bx[1] - reach, bx[2] + reach, bx[3] + reach)
-        ox = np.maximum(np.maximum(oboxes[:, 0] - w[2], 0.0), w[0] - oboxes[:, 2])
-        oy = np.maximum(np.maximum(oboxes[:, 1] - w[3], 0.0), w[1] - oboxes[:, 3])
-        half = max(prof.width, grid.via_d) / 2
-        near = np.flatnonzero(np.hypot(ox, oy) < oneed + half + g)
-        rows = oboxes[near].tobytes() + omask[near].tobytes() + oneed[near].tobytes()
-    return (ia, ib, ja, jb), win, vias, rows
 
 
 def _block_hole(grid: RoutingGrid, space: SearchSpace, at, drill: float) -> None:

@@ -1,11 +1,10 @@
 """What the router keeps between routes gives what a fresh computation gives (common practice for a
 cache: the kept answer must equal the answer worked out again from nothing):
 
-- a pad's access for strict routes (other nets' copper as walls), kept with what it was worked out
-  from near the pad (router.nets._access_inputs): after copper changes near the pad it is worked out
-  again, after changes far from it the kept access is used, and both equal a fresh computation;
 - segment_clear's answer against the fixed copper, kept per segment on the grid;
-- the soft items of each net as arrays for exit_conflicts, kept while the net's items are the same.
+- the soft items of each net as arrays for exit_conflicts, kept while the net's items are the same;
+- the cost maxima of a search space, kept through raised cells;
+- a net's own openings, compared near each own obstacle only, against the whole grid compared.
 """
 from __future__ import annotations
 
@@ -14,84 +13,8 @@ import random
 import numpy as np
 
 from router.grid import RoutingGrid
-from router.negotiate import _Negotiation, _pad_groups
-from router.nets import _access, terminals
 from router.realgen import real_board
 from router.search import STEP
-
-
-def _negotiation(seed: int = 2, nets: int = 30):
-    b = real_board(seed, nets)                    # 0.5 mm pitch parts: stubs, necks and escapes off the grid
-    grid = RoutingGrid(b)
-    groups = _pad_groups(b, grid)
-    names = [n for n in groups if len(groups[n]) > 1]
-    neg = _Negotiation(b, grid, names, groups, bend=STEP, via=2 * STEP, jump=5 * STEP)
-    return b, grid, groups, names, neg
-
-
-def _fresh(grid, space, net, pad, others) -> dict:
-    """The pad's access worked out with nothing kept on the grid."""
-    kept = {k: grid.__dict__.pop(k) for k in ("_fixed_clear", "_strict_access") if k in grid.__dict__}
-    try:
-        return _access(grid, space, net, pad, others)
-    finally:
-        grid.__dict__.pop("_fixed_clear", None)
-        grid.__dict__.pop("_strict_access", None)
-        grid.__dict__.update(kept)
-
-
-def _same(a: dict, b: dict) -> bool:
-    return list(a) == list(b) and all(tuple(a[c] or ()) == tuple(b[c] or ()) for c in a)
-
-
-def _with_item(others, box, need):
-    """`others` (boxes, layer bits, centre distances) with one more item on both layers."""
-    boxes, mask, needs = others
-    return (np.vstack([boxes, np.array([box], np.float64)]), np.append(mask, np.int64(3)),
-            np.append(needs, np.float64(need)))
-
-
-def test_strict_access_kept_equals_fresh_after_near_and_far_changes():
-    b, grid, groups, names, neg = _negotiation()
-    for net in names[: len(names) // 2]:             # half the nets laid: the others' copper are walls
-        neg.lay(net, neg.route(net))
-    net = next(n for n in names[len(names) // 2:] if any(p.ref.startswith("U") for g in groups[n] for p in g))
-    space, others = neg.spaces.space(neg, net, True, None)
-    assert others is not None
-    pads = [p for g in groups[net] for p in g]
-    terminals(grid, space, net, [[p] for p in pads], others)
-    store = grid._strict_access
-    kept = {p: store[(net, p.ref, p.index)][1] for p in pads}
-    for p in pads:
-        assert _same(kept[p], _fresh(grid, space, net, p, others))
-    pad = next(p for p in pads if p.ref.startswith("U"))
-    # far: another net's via in a corner of the board, nowhere near any pad of the net
-    xs = [q.x for q in pads]
-    ys = [q.y for q in pads]
-    far_x = grid.xs[0] if abs(grid.xs[0] - min(xs)) > abs(grid.xs[-1] - max(xs)) else grid.xs[-1]
-    far_y = grid.ys[0] if abs(grid.ys[0] - min(ys)) > abs(grid.ys[-1] - max(ys)) else grid.ys[-1]
-    if min(abs(far_x - x) for x in xs) + min(abs(far_y - y) for y in ys) < 8.0:
-        raise AssertionError("the board should leave a corner far from the net's pads")
-    far = _with_item(others, (far_x, far_y, far_x, far_y), 0.6)
-    got = terminals(grid, space, net, [[p] for p in pads], far)
-    for p, t in zip(pads, got):
-        assert store[(net, p.ref, p.index)][1] is kept[p]          # the kept access was used
-        assert _same(t.cells, _fresh(grid, space, net, p, far))
-    # near: another net's copper over the pad's access (its open grid points closed, an item on them)
-    acc = kept[pad]
-    assert acc
-    closed = space.open_cell.copy()
-    for (l, j, i) in acc:
-        space.open_cell[l, j, i] = 0
-    x, y = grid.point(*next(iter(acc))[1:])
-    near = _with_item(far, (x, y, x, y), 0.45)
-    got = terminals(grid, space, net, [[pad]], near)
-    new = store[(net, pad.ref, pad.index)][1]
-    assert new is not kept[pad] and not _same(new, acc)           # worked out again, and different
-    assert _same(got[0].cells, _fresh(grid, space, net, pad, near))
-    space.open_cell[:] = closed                                   # and back: the same access as at first
-    got = terminals(grid, space, net, [[pad]], far)
-    assert _same(got[0].cells, acc)
 
 
 def test_segment_clear_kept_equals_fresh():
