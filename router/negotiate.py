@@ -162,8 +162,14 @@ class _Negotiation:
         """hist.max over the layers, made again when ``hist`` is another array; set ``hist_top`` to
         None whenever ``hist`` changes in place."""
         if self.hist_top is None or self.hist_top[0] is not self.hist:
-            self.hist_top = (self.hist, self.hist.max(axis=0))
+            top = self.hist.max(axis=0)
+            self.hist_top = (self.hist, top, int(top.max(initial=0)))
         return self.hist_top[1]
+
+    def hist_max_now(self) -> int:
+        """hist's largest entry, kept with ``hist_top`` (the same largest entry)."""
+        self.hist_top_now()
+        return self.hist_top[2]
 
     def raise_prices(self, cells: list) -> None:
         """The end of a negotiation pass: one grid step of history at each shared cell (`cells`, as

@@ -89,6 +89,8 @@ class LazyCosts:
     add_cell: Optional[np.ndarray] = None    # int64 [L, ny, nx]: added last to a cell's cost (capped)
     add_hole: Optional[np.ndarray] = None    # int64 [ny, nx]: added last to a hole's cost (capped)
     _own_add: bool = False                   # add_cell and add_hole are this object's own copies
+    hist_max: Optional[int] = None           # hist's largest entry when the caller knows it (hist_top is hist's
+                                             # largest over the layers: the same largest entry)
     _base_max: Optional[tuple] = None        # maxima() without add_cell and add_hole (they do not change)
     _add_max: Optional[list] = None          # [add_cell.max(), add_hole.max()], kept by raise_cell
 
@@ -120,10 +122,11 @@ class LazyCosts:
                 if self.strict:
                     e = h = 0
                 else:
-                    e = int(min(self.pf * float(self.soft.max(initial=0)) + float(self.hist.max(initial=0)),
-                                self.cap))
-                    h = int(min(self.pf * float(self.soft_via.max(initial=0)) + float(self.hist_top.max(initial=0)),
-                                self.cap))
+                    hm = self.hist_max
+                    e = int(min(self.pf * float(self.soft.max(initial=0))
+                                + float(self.hist.max(initial=0) if hm is None else hm), self.cap))
+                    h = int(min(self.pf * float(self.soft_via.max(initial=0))
+                                + float(self.hist_top.max(initial=0) if hm is None else hm), self.cap))
                 if self.crowd is not None:
                     h = min(h + int(self.crowd.max(initial=0)) * int(self.crowd_price), self.cap)
                 self._base_max = (e, h)

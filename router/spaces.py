@@ -200,7 +200,7 @@ class NetSpaces:
             others = self._others(net, prof, neg.soft)
         crowd = neg.crowd.price(neg.via) if neg.crowd is not None else None
         lazy = LazyCosts(g.soft_cell[k], neg.hist, g.soft_via[k], neg.hist_top_now(), neg.present * STEP,
-                         strict=strict, crowd=crowd, crowd_price=1,
+                         strict=strict, crowd=crowd, crowd_price=1, hist_max=neg.hist_max_now(),
                          add_cell=None if reserve is None else reserve[0],
                          add_hole=None if reserve is None else reserve[1])
         if g.one_layer:

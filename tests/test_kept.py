@@ -3,7 +3,7 @@ cache: the kept answer must equal the answer worked out again from nothing):
 
 - segment_clear's answer against the fixed copper, kept per segment on the grid;
 - the soft items of each net as arrays for exit_conflicts, kept while the net's items are the same;
-- the cost maxima of a search space, kept through raised cells;
+- the cost maxima of a search space, kept through raised cells (and with hist's largest entry given);
 - a net's own openings, compared near each own obstacle only, against the whole grid compared.
 """
 from __future__ import annotations
@@ -98,6 +98,10 @@ def test_cost_maxima_kept_through_raises_equal_fresh():
             fresh = LazyCosts(soft, hist, soft_via, hist.max(axis=0), lz.pf, strict=lz.strict, crowd=crowd,
                               crowd_price=1, add_cell=lz.add_cell.copy(), add_hole=lz.add_hole.copy(), cap=lz.cap)
             assert lz.maxima() == fresh.maxima()
+            told = LazyCosts(soft, hist, soft_via, hist.max(axis=0), lz.pf, strict=lz.strict, crowd=crowd,
+                             crowd_price=1, add_cell=lz.add_cell.copy(), add_hole=lz.add_hole.copy(), cap=lz.cap,
+                             hist_max=int(hist.max()))       # hist's largest entry given, as the negotiation keeps it
+            assert told.maxima() == fresh.maxima()
 
 
 def test_own_openings_near_each_obstacle_equal_the_whole_grid():
