@@ -8,9 +8,10 @@ have scarce exits (necks, or few access cells: :func:`scarce`), every such pad's
 exits on the board without routed copper are measured against each other exactly
 (:func:`compatible`), and one exit per pad is chosen so that all chosen exits keep their
 classes' clearance, with the least total length and bends (:func:`plan_row`: a dynamic
-programme along each side of the part). The chosen exits are then reserved: another net's
-copper or via near a planned exit costs :data:`PLAN_STEPS` grid steps per grid point, and
-another net's candidate exit that comes too close to one costs as much again; the pad's own
+programme along each side of the part; a side with no compatible set among the shortest exits
+is planned again with exits to further grid rows, :data:`MORE_EXITS`). The chosen exits are then
+reserved: another net's copper or via near a planned exit costs :data:`PLAN_STEPS` grid steps
+per grid point, and another net's candidate exit that comes too close to one costs as much again; the pad's own
 net keeps all its exits.
 
 References
@@ -32,7 +33,7 @@ from shapely.geometry import LineString, Point
 from .escape import SCARCE, EscapeVia, Neck, _body_centre
 from .units import TOL
 
-__all__ = ["PLAN_STEPS", "PLAN_EXITS", "PLAN_DEEPER", "Candidate", "scarce", "candidates", "compatible", "plan_row", "FanoutPlan"]
+__all__ = ["PLAN_STEPS", "PLAN_EXITS", "MORE_EXITS", "PLAN_DEEPER", "Candidate", "scarce", "candidates", "compatible", "plan_row", "FanoutPlan"]
 
 #: The price, in grid steps per grid point, another net pays for its copper or via within reach
 #: of a planned exit (and once more for a candidate exit of its own that comes too close to
@@ -42,6 +43,10 @@ PLAN_STEPS = 25
 #: How many exits of each planned pad the plan weighs at most, each way out (our choice: enough
 #: for a staircase of several grid rows on a 0.25 mm grid within ``neck_length``).
 PLAN_EXITS = 12
+#: How many exits each way a side with no compatible set among :data:`PLAN_EXITS` weighs (our
+#: choice: a quad side of five signals stepping one way needs five grid rows; the shortest twelve
+#: reach three, see docs/measurements.md).
+MORE_EXITS = 24
 #: How many grid pitches beyond ``neck_length`` a planned exit of the class width may reach
 #: (our choice: two, so that a row of pads stepping aside one after another finds its rows).
 PLAN_DEEPER = 2
@@ -217,6 +222,10 @@ class FanoutPlan:
         routed copper (the grid's access cache, :func:`router.nets.terminals`).
     pads : dict
         (net, ref, pad index) -> PlacedPad.
+    more : callable, optional
+        (net, ref, pad index) -> more exits of that pad ({access cell: path}, :data:`MORE_EXITS`
+        each way): a side of a part with no compatible set among the pads' `access` is planned
+        again with these before it is planned greedily.
 
     Attributes
     ----------
@@ -226,8 +235,9 @@ class FanoutPlan:
         Sides where no compatible set exists (planned greedily) and pairs left in conflict.
     """
 
-    def __init__(self, grid, access: dict, pads: dict):
+    def __init__(self, grid, access: dict, pads: dict, more: Optional[Callable] = None):
         self.grid = grid
+        self._more = more
         self.chosen: dict = {}
         self.notes: list[str] = []
         self.cands: dict = {}                       # key -> [Candidate]
@@ -259,16 +269,15 @@ class FanoutPlan:
         for side in sorted(sides):
             row = sorted(sides[side], key=lambda k: ((self.cands[k][0].pad.y if side[0] == 0
                                                       else self.cands[k][0].pad.x), k))
+            pick = self._pick(row)
+            if pick is None and self._more is not None:
+                # further grid rows for every pad of the side (a deeper staircase), then again
+                for k in row:
+                    got = scarce({**self._more(k), **{c.cell: c.path for c in self.cands[k]}})
+                    if got:
+                        self.cands[k] = candidates(grid, k[0], self.cands[k][0].pad, got)
+                pick = self._pick(row)
             cs = [self.cands[k] for k in row]
-            memo: dict = {}
-
-            def ok(k, a, q, b, cs=cs, memo=memo):
-                m = (k, a, q, b)
-                if m not in memo:
-                    memo[m] = compatible(grid, cs[k][a], cs[q][b])
-                return memo[m]
-
-            pick = plan_row([[c.cost for c in cc] for cc in cs], ok)
             if pick is None:
                 self.notes.append(f"{ref}: no compatible exits for pads "
                                   f"{', '.join(cs[k][0].pad.name for k in range(len(cs)))}: planned greedily")
@@ -281,6 +290,19 @@ class FanoutPlan:
         for x, y in itertools.combinations(left, 2):
             if not compatible(grid, self.chosen[x], self.chosen[y]):
                 self._repair(y, [self.chosen[k] for k in left if k != y])
+
+    def _pick(self, row: list) -> Optional[list]:
+        """The programme's choice along one side (:func:`plan_row`), or None."""
+        cs = [self.cands[k] for k in row]
+        memo: dict = {}
+
+        def ok(k, a, q, b):
+            m = (k, a, q, b)
+            if m not in memo:
+                memo[m] = compatible(self.grid, cs[k][a], cs[q][b])
+            return memo[m]
+
+        return plan_row([[c.cost for c in cc] for cc in cs], ok)
 
     def _greedy(self, cs: list) -> list:
         """Along the row, the cheapest exit compatible with every exit chosen before it (None

@@ -297,7 +297,7 @@ class _Negotiation:
         access cache that the first pass would fill. `refs`: plan only these parts (the local
         re-order, :func:`_reorder_local`)."""
         from .escape import escape_access, own_gaps, pad_vias
-        from .fanout import PLAN_DEEPER, PLAN_EXITS, FanoutPlan, scarce
+        from .fanout import MORE_EXITS, PLAN_DEEPER, PLAN_EXITS, FanoutPlan, scarce
         grid = self.grid
         profs = list(grid.profiles.values())
         wide = max(2 * p.half for p in profs) + 2 * max(v for p in profs for v in p.clearance_to.values())
@@ -322,7 +322,12 @@ class _Negotiation:
                 # the plan also weighs exits to further grid rows than the search is offered (a staircase)
                 more = escape_access(grid, space, net, p, None, most=PLAN_EXITS, ways=PLAN_EXITS, deeper=PLAN_DEEPER)
                 access[key], pads[key] = {**more, **store[key]}, p
-        self.fanout = FanoutPlan(grid, access, pads)
+
+        def deeper(key):                 # a side with no compatible set: exits to further grid rows
+            space, _ = self.spaces.space(self, key[0], False, None)
+            return escape_access(grid, space, key[0], pads[key], None, most=MORE_EXITS, ways=MORE_EXITS,
+                                 deeper=PLAN_DEEPER)
+        self.fanout = FanoutPlan(grid, access, pads, more=deeper)
         for key, c in self.fanout.chosen.items():      # a planned exit is one of the pad's own
             store[key].setdefault(c.cell, c.path)
 
@@ -694,6 +699,8 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
         _reorder_local(neg, lost, order, plan=True)
     if lost:
         _swap(neg, lost)
+    if lost:
+        _fan_with_supplies(neg, lost)
     if beat is not None and len(lost) > beat:
         return None, lost, npass, shared_left, set(neg.blind), work
     if polish:
@@ -1036,6 +1043,72 @@ def _swap(neg: _Negotiation, lost: dict) -> None:
                         neg.rip(n)
                     neg.rip(net)
                 neg.lay(n, old)
+
+
+def _fan_with_supplies(neg: _Negotiation, lost: dict) -> None:
+    """The fan-out of a lost net's part planned again with the supplies in it, after the swap: for
+    each lost net of at most :data:`LOCAL_MOST_PADS` pads, the routed nets with copper within
+    :data:`REORDER_WINDOW` of its closed pads (:func:`_closed_pads`; of all its pads when none is
+    closed), supplies and ground among them, are ripped up; the parts of those pads are planned
+    alone (:meth:`_Negotiation.plan_fanout`), and the lost net and the ripped-up nets negotiate among
+    themselves for :data:`LOCAL_PASSES` passes at the plan's prices (:func:`_negotiate_local`).
+    What still shares is routed with walls: the lost net first, then the nets of at most
+    :data:`LOCAL_MOST_PADS` pads (those with a planned exit first), the supplies last; a ripped-up
+    net left without a way gets a repair of its own (:func:`_repair`, priced). Kept only when every
+    one of them routes and no net shares more than before; else every route goes back as it was.
+
+    Why the supplies: the planned re-order and the swap leave many-pad nets where they are, and a
+    supply's wide trace on the other layer along a fine-pitch side, just beyond the pad ends, stands
+    where that side's escape vias would; moved with the row, it runs beyond them (see
+    docs/measurements.md)."""
+    saved = neg.fanout
+    try:
+        for net in [n for n in neg.nets if n in lost and n not in neg.blind and _few_pads(neg, n)]:
+            if net not in lost or net in neg.routes:
+                continue
+            closed = _closed_pads(neg, net)
+            pads = closed or [p for g in neg.groups[net] for p in g]
+            near = [n for n in _window_nets(neg, net, REORDER_WINDOW, pads) if n not in lost]
+            if not near:
+                continue
+            before, _ = neg.conflicts()
+            snap = dict(neg.routes)
+            neg.fanout = None
+            neg.plan_fanout(refs=sorted({p.ref for p in pads}))
+            fan = {k[0] for k in neg.fanout.chosen} if neg.fanout is not None else set()
+            near.sort(key=lambda n: (not _few_pads(neg, n), n not in fan, neg.nets.index(n)))
+            for n in near:
+                neg.rip(n)
+            names = [net] + near
+            _negotiate_local(neg, names, LOCAL_PASSES)
+            shared, _ = neg.conflicts()
+            for n in [n for n in names if n in neg.routes and (shared.get(n, 0) > 0 or neg.routes[n].failed)]:
+                neg.rip(n)
+            failed: dict = {}
+            for n in [n for n in names if n not in neg.routes]:
+                rn = neg.route(n, strict=True, explain=False)
+                if rn.failed:
+                    failed[n] = rn.failed
+                    if n == net:
+                        break
+                    continue
+                neg.lay(n, rn)
+            if failed and net not in failed:
+                _repair(neg, failed, rounds=4 * len(failed) + 4, priced=True)
+            neg.fanout = saved
+            if not failed:
+                shared, _ = neg.conflicts()
+                if not any(k > before.get(n, 0) for n, k in shared.items()):
+                    del lost[net]
+                    continue
+            moved = [n for n in neg.nets if neg.routes.get(n) is not snap.get(n)]
+            for n in moved:
+                neg.rip(n)
+            for n in moved:
+                if n in snap:
+                    neg.lay(n, snap[n])
+    finally:
+        neg.fanout = saved
 
 
 def _repair(neg: _Negotiation, lost: dict, rounds: int, order: Optional[list] = None,

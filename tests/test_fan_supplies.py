@@ -1,0 +1,109 @@
+"""A quad side whose exits fit only as a deep staircase (router.fanout's further exits), and the
+fan-out of a lost net's part planned again with the supplies in it (router.negotiate's
+_fan_with_supplies, after the swap).
+
+Outside references: JEDEC MO-220 (quad no-lead, 0.5 mm pitch, 0.25 x 0.8 mm pads), EIA 0402
+chips; shapely measures every distance between planned exits and between routed traces on its
+own; networkx joins each net's copper on its own (connected components of touching pieces).
+"""
+from __future__ import annotations
+
+import itertools
+
+import networkx as nx
+from shapely.geometry import LineString, Point, box
+
+import router.fanout as fanout
+from router.check import check
+from router.geometry import placed_pads
+from router.model import Board, Net, NetClass, Part, Rules
+from router.realgen import _chip, _quad
+from router.units import TOL
+from test_exits import assert_traces_keep
+from test_fanout import _pieces, _plan
+from test_lanes import _first_order
+
+
+def quad_side() -> Board:
+    """A 32-pin 0.5 mm quad 0.1 mm off the 0.25 mm grid (as placed on real-looking board 3), its
+    lower side's pins 2 to 6 signals of 0.2 mm to 0402s below it, pin 7 a 0.4 mm supply and
+    pin 8 a 0.4 mm ground (with the exposed pad), every class 0.25 mm apart."""
+    q, c = _quad(32), _chip("0402")
+    parts = [Part("U1", q.name, at=(20.1, 16.1))]
+    nets = []
+    for k, pin in enumerate(range(2, 7)):
+        parts.append(Part(f"C{k + 1}", c.name, at=(16.0 + 2.0 * k, 9.0), rotation=90))
+        nets.append(Net(f"S{pin}", [f"U1.{pin}", f"C{k + 1}.2"]))
+    parts += [Part("C6", c.name, at=(28.0, 11.0)), Part("C7", c.name, at=(30.0, 11.0))]
+    nets += [Net("VCC", ["U1.7", "C6.1", "C7.1"], "power"),
+             Net("GND", ["U1.8", "U1.33", "C6.2", "C7.2"], "power")]
+    rules = Rules(grid=0.25, edge_clearance=0.4, min_trace_width=0.15, min_clearance=0.15,
+                  via_drill=0.3, via_diameter=0.6, min_hole_spacing=0.3)
+    return Board("quad-side", [(2.0, 2.0), (38.0, 2.0), (38.0, 28.0), (2.0, 28.0)], copper_layers=2,
+                 rules=rules, classes={"default": NetClass("default", 0.2, 0.25),
+                                       "power": NetClass("power", 0.4, 0.25)},
+                 footprints={q.name: q, c.name: c}, parts=parts, nets=nets)
+
+
+def test_the_shortest_exits_leave_the_side_without_a_compatible_set(monkeypatch):
+    """With only the shortest exits (as many as before the further ones), the side's five signals,
+    supply and ground have no compatible set: the plan falls back to greedy and says so."""
+    monkeypatch.setattr(fanout, "MORE_EXITS", fanout.PLAN_EXITS)
+    _, plan = _plan(quad_side())
+    assert len(plan.notes) == 1 and "planned greedily" in plan.notes[0]
+    assert "U1.7" in plan.notes[0]
+
+
+def test_further_exits_plan_the_side_as_a_staircase_clear_by_shapely():
+    """With the further exits, every pad of the side gets an exit (no note), the signals step
+    one grid row deeper each, and every two planned exits of different nets keep the class
+    clearance (0.25 mm) by shapely's distance between centrelines less half widths."""
+    grid, plan = _plan(quad_side())
+    assert plan.notes == []
+    chosen = {k[2]: c for k, c in plan.chosen.items() if k[1] == "U1"}
+    assert set(range(1, 8)) <= set(chosen)          # pins 2..8 (pad indices 1..7)
+    rows = [chosen[k].cell[1] for k in range(1, 5)]          # S2..S5: each a row further out
+    assert rows == sorted(rows, reverse=True) and len(set(rows)) == 4
+    for a, b in itertools.combinations(chosen.values(), 2):
+        if a.net == b.net or a.cell[0] != b.cell[0]:
+            continue
+        for ga, ra in _pieces(grid, a):
+            for gb, rb in _pieces(grid, b):
+                assert ga.distance(gb) - ra - rb >= 0.25 - TOL, (a.net, b.net)
+
+
+def _joined(board: Board, net: str) -> bool:
+    """networkx: the net's pads (axis-aligned rectangles here), traces and vias (touching pieces on a shared layer) form one
+    connected component that holds every pad of the net."""
+    pieces = []
+    for p in placed_pads(board):
+        if p.net == net:
+            pieces.append((box(p.x - p.w / 2, p.y - p.h / 2, p.x + p.w / 2, p.y + p.h / 2), set(p.layers), True))
+    for t in board.traces:
+        if t.net == net:
+            pieces.append((LineString(t.points).buffer(t.width / 2), {t.layer}, False))
+    for v in board.vias:
+        if v.net == net:
+            pieces.append((Point(v.at).buffer(v.diameter / 2), {"top", "bottom"}, False))
+    g = nx.Graph()
+    g.add_nodes_from(range(len(pieces)))
+    for i, j in itertools.combinations(range(len(pieces)), 2):
+        (a, la, _), (b, lb, _) = pieces[i], pieces[j]
+        if la & lb and a.distance(b) <= TOL:
+            g.add_edge(i, j)
+    pads = {i for i, (_, _, pad) in enumerate(pieces) if pad}
+    return any(pads <= comp for comp in nx.connected_components(g))
+
+
+def test_the_lost_row_pad_comes_back_with_the_supply_moved():
+    """tests/test_lanes.py's 0.5 mm quad on a 0.1 mm grid: in the first net order the supply's via
+    stands in front of U1.8's outer end and S4 is lost after the swap (tests/test_lanes.py); with
+    the supply ripped up and negotiated again with the row and its neighbours, every net routes in
+    that order, the board is clean (router.check), traces of different nets keep 0.25 mm (shapely)
+    and the copper of S4 and of the supply joins their pads (networkx)."""
+    out, lost = _first_order(lanes=False)
+    assert lost == {}
+    assert [v for v in check(out) if v.rule != "open"] == []
+    assert_traces_keep(out, 0.25)
+    for net in ("S4", "VCC"):
+        assert _joined(out, net), net
