@@ -1101,7 +1101,7 @@ def _fan_with_supplies(neg: _Negotiation, lost: dict, beat: Optional[int] = None
             key = _fan_key(net, closed)
             if key in in_vain:
                 continue
-            if _hopeless(neg, lost, beat, skip=_fan_skip(neg, lost, in_vain)):
+            if beat is not None and _hopeless(neg, lost, beat, skip=_fan_skip(neg, lost, in_vain)):
                 break
             pads = closed or [p for g in neg.groups[net] for p in g]
             near = [n for n in _window_nets(neg, net, REORDER_WINDOW, pads) if n not in lost]
