@@ -78,6 +78,11 @@ LOCAL_PASSES = 12
 #: The planned re-order rips up the nets with a cell this near (mm) a lost pad (our choice: a fine-pitch
 #: part's fan-out and the first turns beyond it, about a 0.5 mm row's width of eight pads).
 PLAN_WINDOW = 5.0
+#: The fan-out with the supplies' local negotiation stops its searches once they have expanded this many
+#: times the board's search states (layers x cells x headings; search.work_limit) (our choice: the nets it
+#: brought back on the real-looking boards 10 and 12, angled board 2 and the 1,300-pad board took 0.4 to 5.2
+#: times, the tries that failed on board 12 and angled board 1 3 to 24 times; see docs/measurements.md).
+FAN_SWEEPS = 10
 #: Nets of more pads are ripped up by the planned re-order only where they hold a planned exit (our choice).
 LOCAL_MOST_PADS = 4
 #: The swap after repair tries, for each lost net, at most this many nets in its way one at a time (our
@@ -1116,7 +1121,7 @@ def _fan_with_supplies(neg: _Negotiation, lost: dict, beat: Optional[int] = None
             for n in near:
                 neg.rip(n)
             names = [net] + near
-            _negotiate_local(neg, names, LOCAL_PASSES)
+            _fan_negotiation(neg, names)
             shared, _ = neg.conflicts()
             for n in [n for n in names if n in neg.routes and (shared.get(n, 0) > 0 or neg.routes[n].failed)]:
                 neg.rip(n)
@@ -1146,6 +1151,21 @@ def _fan_with_supplies(neg: _Negotiation, lost: dict, beat: Optional[int] = None
                     neg.lay(n, snap[n])
     finally:
         neg.fanout = saved
+
+
+def _fan_negotiation(neg: _Negotiation, names: list) -> None:
+    """:func:`_fan_with_supplies`' local negotiation among `names` within :data:`FAN_SWEEPS` times the
+    board's search states (:func:`router.search.work_limit`: a search stops there and fails); a net
+    that a search cut short failed for is not taken as blind (``neg.blind`` as it was)."""
+    from .search import NDIR, states_expanded, work_limit
+    g = neg.grid
+    most = states_expanded() + int(FAN_SWEEPS * g.L * g.ny * g.nx * NDIR)
+    blind = dict(neg.blind)
+    with work_limit(most):
+        _negotiate_local(neg, names, LOCAL_PASSES)
+    if states_expanded() >= most:        # searches were cut: their failures say nothing about the fixed copper
+        for n in [n for n in neg.blind if n not in blind]:
+            del neg.blind[n]
 
 
 def _fan_key(net: str, closed: list) -> tuple:
