@@ -78,6 +78,11 @@ LOCAL_PASSES = 12
 #: The planned re-order rips up the nets with a cell this near (mm) a lost pad (our choice: a fine-pitch
 #: part's fan-out and the first turns beyond it, about a 0.5 mm row's width of eight pads).
 PLAN_WINDOW = 5.0
+#: The fan-out with the supplies' local negotiation stops its searches once they have expanded this many
+#: times the board's search states (layers x cells x headings; search.work_limit) (our choice: the nets it
+#: brought back on the real-looking boards 10 and 12, angled board 2 and the 1,300-pad board took 0.4 to 5.2
+#: times, the tries that failed on board 12 and angled board 1 3 to 24 times; see docs/measurements.md).
+FAN_SWEEPS = 10
 #: Nets of more pads are ripped up by the planned re-order only where they hold a planned exit (our choice).
 LOCAL_MOST_PADS = 4
 #: The swap after repair tries, for each lost net, at most this many nets in its way one at a time (our
@@ -557,6 +562,7 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
             todo_names.append(n.name)
     start = b.copy()
     best = None
+    fan_failed: set = set()          # (lost net, its closed pads) the fan-out with the supplies did not bring back
     tries = [(k, False, False) for k in range(1 + max(0, int(retries)))]
     if fanout_first:
         tries[0] = (0, True, False)
@@ -569,7 +575,8 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
         tries.append((0, False, True))
     for attempt, plan, lanes in tries:
         got = _attempt(start, todo_names, seed, attempt, bend, via, jump, passes, progress, polish, every_net,
-                       fewer_vias, plan=plan, lanes=lanes, beat=None if best is None else len(best[1]))
+                       fewer_vias, plan=plan, lanes=lanes, beat=None if best is None else len(best[1]),
+                       fan_failed=fan_failed)
         if got is None:
             continue                 # nothing to plan: that try would route as the first did
         out_board, lost, npass, shared_left, blind, work = got
@@ -596,7 +603,8 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
 
 def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend: int, via: int, jump: int,
              passes: int, progress: bool, polish: bool, every_net: bool = False, fewer: bool = True,
-             plan: bool = False, lanes: bool = False, beat: Optional[int] = None):
+             plan: bool = False, lanes: bool = False, beat: Optional[int] = None,
+             fan_failed: Optional[set] = None):
     """One complete routing of `start`; attempt 0 takes nets shortest first, later attempts a
     shuffled order (each net's half-perimeter scaled by a random factor from the seed). Returns
     the board, the nets lost with their reasons, passes, nets sharing at the end of negotiation,
@@ -606,7 +614,10 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
     fine-pitch row pads' outer ends cost other nets' vias more (:class:`router.escape.ExitReserve`).
     `beat`: the fewest nets an earlier try lost; a try that loses more after repair and the swap
     cannot be kept (the steps after them never route a lost net, the exact check only loses more),
-    so it stops there and returns None for the board."""
+    so it stops there and returns None for the board; the swap and the fan-out with the supplies
+    are not made when they cannot bring back enough lost nets for that (:func:`_hopeless`).
+    `fan_failed`: the (lost net, closed pads) that the fan-out with the supplies did not bring back
+    in an earlier try of the same board (:func:`_fan_with_supplies`), shared by the tries."""
     b = start.copy()
     grid = RoutingGrid(b)
     groups = _pad_groups(b, grid)
@@ -697,10 +708,10 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
         _repair(neg, lost, rounds=4 * len(lost) + 8, order=shuffle(list(lost)), priced=big)
     if lost and big:
         _reorder_local(neg, lost, order, plan=True)
-    if lost:
+    if lost and not _hopeless(neg, lost, beat):
         _swap(neg, lost)
-    if lost:
-        _fan_with_supplies(neg, lost)
+    if lost and not _hopeless(neg, lost, beat):
+        _fan_with_supplies(neg, lost, beat=beat, in_vain=fan_failed)
     if beat is not None and len(lost) > beat:
         return None, lost, npass, shared_left, set(neg.blind), work
     if polish:
@@ -1045,7 +1056,21 @@ def _swap(neg: _Negotiation, lost: dict) -> None:
                 neg.lay(n, old)
 
 
-def _fan_with_supplies(neg: _Negotiation, lost: dict) -> None:
+def _hopeless(neg: _Negotiation, lost: dict, beat: Optional[int], skip=()) -> bool:
+    """Whether the local steps after repair (the swap, the fan-out with the supplies) cannot bring
+    this try down to `beat` lost nets (the fewest an earlier try lost; None: no earlier try): they
+    bring back only lost nets of at most :data:`LOCAL_MOST_PADS` pads that some route reaches
+    (not ``neg.blind``), one each at most, and never lose a net; `skip`: lost nets they will not
+    try. A try left with more lost nets than `beat` is not kept (:func:`_attempt`), so what they
+    would do there is work thrown away."""
+    if beat is None:
+        return False
+    can = sum(1 for n in lost if n not in neg.blind and n not in skip and _few_pads(neg, n))
+    return can < len(lost) - beat
+
+
+def _fan_with_supplies(neg: _Negotiation, lost: dict, beat: Optional[int] = None,
+                       in_vain: Optional[set] = None) -> None:
     """The fan-out of a lost net's part planned again with the supplies in it, after the swap: for
     each lost net of at most :data:`LOCAL_MOST_PADS` pads, the routed nets with copper within
     :data:`REORDER_WINDOW` of its closed pads (:func:`_closed_pads`; of all its pads when none is
@@ -1060,13 +1085,29 @@ def _fan_with_supplies(neg: _Negotiation, lost: dict) -> None:
     Why the supplies: the planned re-order and the swap leave many-pad nets where they are, and a
     supply's wide trace on the other layer along a fine-pitch side, just beyond the pad ends, stands
     where that side's escape vias would; moved with the row, it runs beyond them (see
-    docs/measurements.md)."""
+    docs/measurements.md).
+
+    Not made again in vain (the whole-board tries of one board share `in_vain`): a lost net whose
+    step failed in an earlier try with the same closed pads (the same pads windowed: none closed
+    is its own key) is not tried again. The step's outcome depends on the fixed copper and the
+    parts round those pads (the same in every try of the board) and on where the other nets run
+    near them (which changes from try to try): the key keeps the first and assumes the second
+    hems the net in again; on the real-looking boards 10 and 12 and angled board 2 each net the
+    step brought back was one it had not failed at those pads before (docs/measurements.md). With
+    `beat` (the fewest lost nets of an earlier try), the step stops once the lost nets it may
+    still try cannot bring the try down to it (:func:`_hopeless`)."""
+    in_vain = set() if in_vain is None else in_vain
     saved = neg.fanout
     try:
         for net in [n for n in neg.nets if n in lost and n not in neg.blind and _few_pads(neg, n)]:
             if net not in lost or net in neg.routes:
                 continue
             closed = _closed_pads(neg, net)
+            key = _fan_key(net, closed)
+            if key in in_vain:
+                continue
+            if beat is not None and _hopeless(neg, lost, beat, skip=_fan_skip(neg, lost, in_vain)):
+                break
             pads = closed or [p for g in neg.groups[net] for p in g]
             near = [n for n in _window_nets(neg, net, REORDER_WINDOW, pads) if n not in lost]
             if not near:
@@ -1080,7 +1121,7 @@ def _fan_with_supplies(neg: _Negotiation, lost: dict) -> None:
             for n in near:
                 neg.rip(n)
             names = [net] + near
-            _negotiate_local(neg, names, LOCAL_PASSES)
+            _fan_negotiation(neg, names)
             shared, _ = neg.conflicts()
             for n in [n for n in names if n in neg.routes and (shared.get(n, 0) > 0 or neg.routes[n].failed)]:
                 neg.rip(n)
@@ -1101,6 +1142,7 @@ def _fan_with_supplies(neg: _Negotiation, lost: dict) -> None:
                 if not any(k > before.get(n, 0) for n, k in shared.items()):
                     del lost[net]
                     continue
+            in_vain.add(key)
             moved = [n for n in neg.nets if neg.routes.get(n) is not snap.get(n)]
             for n in moved:
                 neg.rip(n)
@@ -1109,6 +1151,36 @@ def _fan_with_supplies(neg: _Negotiation, lost: dict) -> None:
                     neg.lay(n, snap[n])
     finally:
         neg.fanout = saved
+
+
+def _fan_negotiation(neg: _Negotiation, names: list) -> None:
+    """:func:`_fan_with_supplies`' local negotiation among `names` within :data:`FAN_SWEEPS` times the
+    board's search states (:func:`router.search.work_limit`: a search stops there and fails); a net
+    that a search cut short failed for is not taken as blind (``neg.blind`` as it was)."""
+    from .search import NDIR, states_expanded, work_limit
+    g = neg.grid
+    most = states_expanded() + int(FAN_SWEEPS * g.L * g.ny * g.nx * NDIR)
+    blind = dict(neg.blind)
+    with work_limit(most):
+        _negotiate_local(neg, names, LOCAL_PASSES)
+    if states_expanded() >= most:        # searches were cut: their failures say nothing about the fixed copper
+        for n in [n for n in neg.blind if n not in blind]:
+            del neg.blind[n]
+
+
+def _fan_key(net: str, closed: list) -> tuple:
+    """The key of :func:`_fan_with_supplies`' tries: the lost net and its closed pads (ref, index)."""
+    return net, tuple(sorted((p.ref, p.index) for p in closed))
+
+
+def _fan_skip(neg: _Negotiation, lost: dict, in_vain: set) -> set:
+    """The lost nets :func:`_fan_with_supplies` will not try: those whose try at the pads closed now
+    failed before (`in_vain`)."""
+    if not in_vain:
+        return set()
+    named = {k[0] for k in in_vain}
+    return {n for n in lost if n in named and n not in neg.blind and _few_pads(neg, n)
+            and _fan_key(n, _closed_pads(neg, n)) in in_vain}
 
 
 def _repair(neg: _Negotiation, lost: dict, rounds: int, order: Optional[list] = None,

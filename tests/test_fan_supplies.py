@@ -107,3 +107,53 @@ def test_the_lost_row_pad_comes_back_with_the_supply_moved():
     assert_traces_keep(out, 0.25)
     for net in ("S4", "VCC"):
         assert _joined(out, net), net
+
+
+def test_a_step_that_failed_at_the_same_closed_pads_is_not_made_again(monkeypatch):
+    """The tries of one board share what the fan-out with the supplies failed at (lost net, closed
+    pads): in tests/test_lanes.py's first order the step brings S4 back (above); told that it
+    failed there in an earlier try, it makes no local negotiation and S4 stays lost; told of a
+    failure at other pads, it brings S4 back as before (common practice: a cache hit skips the
+    work, a miss does it)."""
+    from router import negotiate
+    from test_lanes import quad_on_fine_grid
+    keys, local = [], []
+    fan_key, negotiate_local = negotiate._fan_key, negotiate._negotiate_local
+    monkeypatch.setattr(negotiate, "_fan_key", lambda net, closed: keys.append(fan_key(net, closed)) or keys[-1])
+    monkeypatch.setattr(negotiate, "_negotiate_local", lambda *a: local.append(a[1][0]) or negotiate_local(*a))
+
+    def first_order(in_vain):
+        b = quad_on_fine_grid()
+        g = b.rules.grid
+        bend, via, jump = negotiate._cost(1.0, g), negotiate._cost(2.0, g), negotiate._cost(5.0, g)
+        return negotiate._attempt(b, [n.name for n in b.nets], 0, 0, bend, via, jump, negotiate.DEFAULT_PASSES,
+                                  False, True, fan_failed=in_vain)[1]
+
+    in_vain: set = set()
+    assert first_order(in_vain) == {} and in_vain == set()          # brought back: nothing recorded
+    key = next(k for k in keys if k[0] == "S4")
+    assert local[-1] == "S4"
+    keys.clear(), local.clear()
+    assert set(first_order({("S4", key[1] + (("U9", 0),))})) == set()     # other pads: made, S4 back
+    assert "S4" in local
+    keys.clear(), local.clear()
+    assert set(first_order({key})) == {"S4"}                        # the same pads: not made again
+    assert "S4" not in local and [k for k in keys if k[0] == "S4"] == [key]
+
+
+def test_the_local_steps_are_left_out_only_where_they_cannot_reach_the_best_try():
+    """_hopeless counts the lost nets the swap and the step may bring back (few pads, some route
+    reaches them, not skipped): a try is hopeless only when bringing back every one of them would
+    still leave more lost nets than the best earlier try (common practice: a bound that prunes
+    only what cannot be kept)."""
+    from types import SimpleNamespace
+    from router import negotiate
+    two, six = [[object()], [object()]], [[object()] for _ in range(6)]
+    neg = SimpleNamespace(blind={}, groups={"S1": two, "S2": two, "VCC": six})
+    lost = {"S1": "", "S2": "", "VCC": ""}
+    assert not negotiate._hopeless(neg, lost, None)              # no earlier try: nothing to reach
+    assert not negotiate._hopeless(neg, lost, 1)                 # S1 and S2 back: 1 lost, as the best
+    assert negotiate._hopeless(neg, lost, 0)                     # VCC is never brought back here
+    assert negotiate._hopeless(neg, lost, 1, skip={"S2"})        # only S1 left to try: 2 > 1
+    neg.blind["S1"] = "closed"
+    assert negotiate._hopeless(neg, lost, 1)

@@ -42,7 +42,7 @@ def _first_order(lanes: bool, monkeypatch=None):
     """The first net order's routing; with `monkeypatch`, the fan-out with the supplies after the
     swap (:func:`router.negotiate._fan_with_supplies`, tests/test_fan_supplies.py) left out."""
     if monkeypatch is not None:
-        monkeypatch.setattr(negotiate, "_fan_with_supplies", lambda neg, lost: None)
+        monkeypatch.setattr(negotiate, "_fan_with_supplies", lambda neg, lost, **kw: None)
     b = quad_on_fine_grid()
     g = b.rules.grid
     bend, via, jump = negotiate._cost(1.0, g), negotiate._cost(2.0, g), negotiate._cost(5.0, g)

@@ -51,7 +51,7 @@ def test_whole_board_again_only_below_the_work_bound(monkeypatch):
     monkeypatch.setattr(negotiate, "_attempt", counted)
     # the fan-out with the supplies after the swap brings the first order's lost net back
     # (tests/test_fan_supplies.py): left out, so that the first order leaves one as this test needs
-    monkeypatch.setattr(negotiate, "_fan_with_supplies", lambda neg, lost: None)
+    monkeypatch.setattr(negotiate, "_fan_with_supplies", lambda neg, lost, **kw: None)
     board = real_board(0, 30)
     monkeypatch.setattr(negotiate, "BIG_WORK", 10**12)
     route_board(board, retries=1)

@@ -53,7 +53,7 @@ def _routed(monkeypatch, finish_all: bool):
     monkeypatch.setattr(negotiate, "_swap", watched_swap)
     # the fan-out with the supplies after the swap routes S4 in the first try (tests/test_fan_supplies.py):
     # left out, so that the tries this test watches are made
-    monkeypatch.setattr(negotiate, "_fan_with_supplies", lambda neg, lost: None)
+    monkeypatch.setattr(negotiate, "_fan_with_supplies", lambda neg, lost, **kw: None)
     return negotiate.route_board(quad_on_fine_grid()), seen
 
 
