@@ -239,6 +239,16 @@ class _Negotiation:
         for a, b in r.jumpers:
             self.grid.add_wire(a, b, -1)
 
+    def restore(self, snap: dict) -> None:
+        """The routes as they were in `snap` (a copy of ``routes``): every net whose route is not
+        the one in `snap` ripped up, and laid again as in `snap` where it had one there."""
+        moved = [n for n in self.nets if self.routes.get(n) is not snap.get(n)]
+        for n in moved:
+            self.rip(n)
+        for n in moved:
+            if n in snap:
+                self.lay(n, snap[n])
+
     def route(self, net: str, strict: bool = False, via: Optional[int] = None, explain: bool = True,
               budget: Optional[int] = None) -> NetRoute:
         """`net` routed in the negotiation's present state; with `strict`, other nets' copper as
@@ -1001,12 +1011,7 @@ def _planned_try(neg: _Negotiation, lost: dict, nets: list, plan, pads: dict) ->
             del lost[n]
         lost.update(dropped)
         return True
-    moved = [n for n in neg.nets if neg.routes.get(n) is not snap.get(n)]
-    for n in moved:
-        neg.rip(n)
-    for n in moved:
-        if n in snap:
-            neg.lay(n, snap[n])
+    neg.restore(snap)
     return False
 
 
@@ -1143,12 +1148,7 @@ def _fan_with_supplies(neg: _Negotiation, lost: dict, beat: Optional[int] = None
                     del lost[net]
                     continue
             in_vain.add(key)
-            moved = [n for n in neg.nets if neg.routes.get(n) is not snap.get(n)]
-            for n in moved:
-                neg.rip(n)
-            for n in moved:
-                if n in snap:
-                    neg.lay(n, snap[n])
+            neg.restore(snap)
     finally:
         neg.fanout = saved
 
