@@ -81,3 +81,36 @@ def test_nothing_moves_when_no_swap_routes_the_lost_net():
     lost = {"B": "no way"}
     _swap(neg, lost)
     assert set(lost) == {"B"} and neg.routes["A"] is before and "B" not in neg.routes
+
+
+def test_the_fan_out_negotiation_keeps_to_its_work_budget(monkeypatch):
+    """_fan_with_supplies' local negotiation (router.negotiate._fan_negotiation) stops its
+    searches at FAN_SWEEPS times the board's search states: with no budget at all it expands
+    almost nothing, and the nets that failed only because a search was cut are not taken as
+    ones no route reaches (``neg.blind`` as it was). With the real budget the same negotiation
+    routes both nets of the hand-made board clear of each other (shapely, the class clearance)."""
+    import router.negotiate as negotiate
+    from router.search import states_expanded
+
+    def start():
+        b = across()
+        grid = RoutingGrid(b)
+        neg = _Negotiation(b, grid, ["A", "B"], _pad_groups(b, grid), bend=400, via=800, jump=2000)
+        neg.lay("A", neg.route("A", strict=True))         # A straight across: B hemmed in
+        return neg
+
+    neg = start()
+    e0 = states_expanded()
+    negotiate._fan_negotiation(neg, ["B", "A"])
+    full = states_expanded() - e0
+    assert full > 0 and not any(neg.conflicts()[0].values())
+    assert _copper(neg, "A").distance(_copper(neg, "B")) >= 0.25 - TOL
+
+    monkeypatch.setattr(negotiate, "FAN_SWEEPS", 0)
+    neg = start()
+    blind = dict(neg.blind)
+    e0 = states_expanded()
+    negotiate._fan_negotiation(neg, ["B", "A"])
+    cut = states_expanded() - e0
+    assert cut < full / 10, (cut, full)
+    assert neg.blind == blind
