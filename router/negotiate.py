@@ -920,6 +920,25 @@ def _negotiate_local(neg: _Negotiation, names: list[str], passes: int) -> None:
         neg.present, neg.hist, neg.hist_top = saved
 
 
+def _walls_after(neg: _Negotiation, names: list, must: Optional[str] = None) -> dict:
+    """After a local negotiation among `names`: those still sharing cells or failed are ripped up
+    and routed again with walls, in the order of `names`; returns the nets that found no way, with
+    their reasons. Stops at `must` when it finds none (the rest would be moved for nothing)."""
+    shared, _ = neg.conflicts()
+    for n in [n for n in names if n in neg.routes and (shared.get(n, 0) > 0 or neg.routes[n].failed)]:
+        neg.rip(n)
+    failed: dict = {}
+    for n in [n for n in names if n not in neg.routes]:
+        rn = neg.route(n, strict=True, explain=False)
+        if rn.failed:
+            failed[n] = rn.failed
+            if n == must:
+                break
+            continue
+        neg.lay(n, rn)
+    return failed
+
+
 def _few_pads(neg: _Negotiation, net: str) -> bool:
     """Whether `net` has at most :data:`LOCAL_MOST_PADS` pads: a net the local steps (the planned
     re-order, the swap) may rip up and route again; a supply or ground is too dear to."""
@@ -986,16 +1005,7 @@ def _planned_try(neg: _Negotiation, lost: dict, nets: list, plan, pads: dict) ->
     fan = {k[0] for k in plan.chosen}
     again = list(nets) + sorted(old, key=lambda n: (n not in fan, neg.nets.index(n)))
     _negotiate_local(neg, again, LOCAL_PASSES)
-    shared, _ = neg.conflicts()
-    for n in [n for n in again if n in neg.routes and (shared.get(n, 0) > 0 or neg.routes[n].failed)]:
-        neg.rip(n)
-    failed: dict = {}
-    for n in [n for n in again if n not in neg.routes]:
-        rn = neg.route(n, strict=True, explain=False)
-        if rn.failed:
-            failed[n] = rn.failed
-            continue
-        neg.lay(n, rn)
+    failed = _walls_after(neg, again)
     got = [n for n in nets if n not in failed]
     dropped = {n: w for n, w in failed.items() if n not in nets}
     if got and dropped and len(got) <= len(dropped):
@@ -1127,18 +1137,7 @@ def _fan_with_supplies(neg: _Negotiation, lost: dict, beat: Optional[int] = None
                 neg.rip(n)
             names = [net] + near
             _fan_negotiation(neg, names)
-            shared, _ = neg.conflicts()
-            for n in [n for n in names if n in neg.routes and (shared.get(n, 0) > 0 or neg.routes[n].failed)]:
-                neg.rip(n)
-            failed: dict = {}
-            for n in [n for n in names if n not in neg.routes]:
-                rn = neg.route(n, strict=True, explain=False)
-                if rn.failed:
-                    failed[n] = rn.failed
-                    if n == net:
-                        break
-                    continue
-                neg.lay(n, rn)
+            failed = _walls_after(neg, names, must=net)
             if failed and net not in failed:
                 _repair(neg, failed, rounds=4 * len(failed) + 4, priced=True)
             neg.fanout = saved
