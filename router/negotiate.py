@@ -1089,7 +1089,8 @@ def _fan_with_supplies(neg: _Negotiation, lost: dict, beat: Optional[int] = None
     """The fan-out of a lost net's part planned again with the supplies in it, after the swap: for
     each lost net of at most :data:`LOCAL_MOST_PADS` pads, the routed nets with copper within
     :data:`REORDER_WINDOW` of its closed pads (:func:`_closed_pads`; of all its pads when none is
-    closed), supplies and ground among them, are ripped up; the parts of those pads are planned
+    closed) or with a pad in the row of one of those pads (:func:`_row_nets`), supplies and ground
+    among them, are ripped up; the parts of those pads are planned
     alone (:meth:`_Negotiation.plan_fanout`), and the lost net and the ripped-up nets negotiate among
     themselves for :data:`LOCAL_PASSES` passes at the plan's prices (:func:`_negotiate_local`).
     What still shares is routed with walls: the lost net first, then the nets of at most
@@ -1125,6 +1126,7 @@ def _fan_with_supplies(neg: _Negotiation, lost: dict, beat: Optional[int] = None
                 break
             pads = closed or [p for g in neg.groups[net] for p in g]
             near = [n for n in _window_nets(neg, net, REORDER_WINDOW, pads) if n not in lost]
+            near += [n for n in _row_nets(neg, net, pads) if n not in lost and n not in near]
             if not near:
                 continue
             before, _ = neg.conflicts()
@@ -1150,6 +1152,28 @@ def _fan_with_supplies(neg: _Negotiation, lost: dict, beat: Optional[int] = None
             neg.restore(snap)
     finally:
         neg.fanout = saved
+
+
+def _row_nets(neg: _Negotiation, net: str, pads: list) -> list[str]:
+    """The routed nets (in negotiation order) other than `net` with a pad in the row of one of
+    `pads`: a pad of the same part, on the same layers, of the same size, its centre on the line
+    through the pad's centre across its long side (a quad's or connector's side), within
+    :data:`PLAN_WINDOW` of it along the row. Square pads and pads turned off the axes have no row
+    here. A side's exits fit only together (docs/measurements.md): :func:`_fan_with_supplies`
+    moves the nets of the lost pad's side, not only those whose copper comes near that pad."""
+    out: set = set()
+    for p in pads:
+        if abs(p.w - p.h) <= TOL or p.angle:         # square, or turned off the axes (geometry.PlacedPad)
+            continue
+        across = (lambda q: q.x) if p.w > p.h else (lambda q: q.y)
+        along = (lambda q: q.y) if p.w > p.h else (lambda q: q.x)
+        for q in neg.grid.pads:
+            if (q.ref == p.ref and q.net != net and q.net in neg.routes and not neg.routes[q.net].failed
+                    and q.layers == p.layers and not q.angle and abs(q.w - p.w) <= TOL and abs(q.h - p.h) <= TOL
+                    and abs(across(q) - across(p)) <= TOL
+                    and abs(along(q) - along(p)) <= PLAN_WINDOW + TOL):
+                out.add(q.net)
+    return [n for n in neg.nets if n in out]
 
 
 def _fan_negotiation(neg: _Negotiation, names: list) -> None:

@@ -157,3 +157,29 @@ def test_the_local_steps_are_left_out_only_where_they_cannot_reach_the_best_try(
     assert negotiate._hopeless(neg, lost, 1, skip={"S2"})        # only S1 left to try: 2 > 1
     neg.blind["S1"] = "closed"
     assert negotiate._hopeless(neg, lost, 1)
+
+
+def test_the_row_of_a_lost_pad_is_its_side_of_the_part():
+    """_row_nets: the routed nets with a pad on the lost pad's side of its part. shapely decides
+    the side on its own: the pads of the same part and size whose centre lies on the line through
+    the lost pad's centre along the side (distance 0), within 5 mm (`PLAN_WINDOW`) of it; a failed
+    net, the lost net itself and the square exposed pad's net through its square pad are left out."""
+    from types import SimpleNamespace
+    from router import negotiate
+    b = quad_side()
+    pads = placed_pads(b)
+    names = [n.name for n in b.nets]
+    neg = SimpleNamespace(grid=SimpleNamespace(pads=pads), nets=names,
+                          routes={n: SimpleNamespace(failed=None) for n in names if n != "S4"})
+    lost = next(p for p in pads if p.name == "U1.4")
+    line = LineString([(lost.x - 50.0, lost.y), (lost.x + 50.0, lost.y)])     # the lower side runs along x
+    want = {q.net for q in pads if q.ref == "U1" and q.net in neg.routes and abs(q.w - lost.w) <= TOL
+            and abs(q.h - lost.h) <= TOL and line.distance(Point(q.x, q.y)) <= TOL
+            and Point(q.x, q.y).distance(Point(lost.x, lost.y)) <= negotiate.PLAN_WINDOW + TOL}
+    assert want == {"S2", "S3", "S5", "S6", "VCC", "GND"}
+    assert set(negotiate._row_nets(neg, "S4", [lost])) == want
+    assert negotiate._row_nets(neg, "S4", [lost]) == [n for n in names if n in want]     # negotiation order
+    neg.routes["S3"] = SimpleNamespace(failed="no way")
+    assert set(negotiate._row_nets(neg, "S4", [lost])) == want - {"S3"}
+    exposed = next(p for p in pads if p.name == "U1.33")
+    assert negotiate._row_nets(neg, "GND", [exposed]) == []
