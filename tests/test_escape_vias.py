@@ -22,9 +22,11 @@ from router.escape import EscapeVia, escape_via_pads, escape_vias
 from router.figures import board_figures, format_report
 from router.geometry import placed_pads
 from router.grid import RoutingGrid
-from router.model import Board, Footprint, Net, NetClass, Pad, Part, Rules, Trace, Via
+from router.model import Board, Footprint, Net, NetClass, Pad, Part, Trace, Via
 from router.negotiate import route_board
 from router.units import TOL
+
+from test_exits import fine_rules
 
 FRAME = {"left": Pad("2", (-1.5, 0.0), "rectangle", (0.4, 3.4)), "right": Pad("2", (1.5, 0.0), "rectangle", (0.4, 3.4)),
          "top": Pad("2", (0.0, 1.5), "rectangle", (3.4, 0.4)), "bottom": Pad("2", (0.0, -1.5), "rectangle", (3.4, 0.4))}
@@ -36,8 +38,7 @@ def pocket(layers: int = 2, sides=("left", "right", "top", "bottom")) -> Board:
     fp = Footprint("pocket", (3.4, 3.4), [Pad("1", (0.0, 0.0), "rectangle", (0.58, 0.58))] + [FRAME[s] for s in sides])
     side = "top" if layers == 2 else "bottom"        # one layer: surface pads sit on the copper side
     parts = [Part("U1", "pocket", at=(5.0, 5.0), side=side), Part("J1", "header-1x1", at=(12.0, 5.0))]
-    rules = Rules(grid=0.25, edge_clearance=0.4, min_trace_width=0.15, min_clearance=0.15,
-                  via_drill=0.3, via_diameter=0.6, min_hole_spacing=0.3)
+    rules = fine_rules()
     return Board("pocket", [(0, 0), (20, 0), (20, 10), (0, 10)], copper_layers=layers, rules=rules,
                  classes={"default": NetClass("default", 0.25, 0.2), "power": NetClass("power", 0.8, 0.2)},
                  footprints={"pocket": fp}, parts=parts, nets=[Net("P", ["U1.1", "J1.1"], "power")])
@@ -145,8 +146,7 @@ def test_a_fine_pitch_pad_off_the_grid_gets_a_via_place_by_its_middle_line():
     from router.realgen import _quad
     from router.escape import _escape_via_places
     q = _quad(32)
-    rules = Rules(grid=0.25, edge_clearance=0.4, min_trace_width=0.15, min_clearance=0.15,
-                  via_drill=0.3, via_diameter=0.6, min_hole_spacing=0.3)
+    rules = fine_rules()
     b = Board("row", [(0, 0), (30, 0), (30, 30), (0, 30)], copper_layers=2, rules=rules,
               classes={"default": NetClass("default", 0.25, 0.2), "power": NetClass("power", 0.5, 0.2)},
               footprints={q.name: q}, parts=[Part("U1", q.name, at=(18.125, 16.125))],

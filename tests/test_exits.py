@@ -20,6 +20,13 @@ from router.realgen import _chip, _quad
 from router.units import TOL
 
 
+def fine_rules() -> Rules:
+    """The rules of the hand-made fine-pitch boards: a 0.25 mm grid, a board house's 0.15 mm
+    minimum trace and clearance, 0.3 mm vias drilled in 0.6 mm pads (common practice)."""
+    return Rules(grid=0.25, edge_clearance=0.4, min_trace_width=0.15, min_clearance=0.15,
+                 via_drill=0.3, via_diameter=0.6, min_hole_spacing=0.3)
+
+
 def crowded_row() -> Board:
     """One side of a 32-pin quad no-lead part placed 0.125 mm off the 0.25 mm grid (so every pad
     must step sideways to a grid line), a 0.5 mm supply among 0.25 mm signals, each pin to a 0402
@@ -33,8 +40,7 @@ def crowded_row() -> Board:
     nets = [Net("VCC", ["U1.7", "C1.1", "C2.1"], "power"), Net("GND", ["U1.8", "C1.2", "C2.2"], "power"),
             Net("S1", ["U1.1", "C4.2"]), Net("S2", ["U1.2", "C5.2"]), Net("S3", ["U1.3", "C6.2"]),
             Net("S4", ["U1.4", "C7.2"]), Net("S5", ["U1.5", "C8.1"]), Net("S6", ["U1.6", "C9.1"])]
-    rules = Rules(grid=0.25, edge_clearance=0.4, min_trace_width=0.15, min_clearance=0.15,
-                  via_drill=0.3, via_diameter=0.6, min_hole_spacing=0.3)
+    rules = fine_rules()
     return Board("crowded-row", [(2.0, 2.0), (34.0, 2.0), (34.0, 28.0), (2.0, 28.0)], copper_layers=2, rules=rules,
                  classes={"default": NetClass("default", 0.25, 0.2), "power": NetClass("power", 0.5, 0.2)},
                  footprints={q.name: q, c.name: c}, parts=parts, nets=nets)

@@ -16,10 +16,10 @@ from shapely.geometry import LineString, Point, box
 import router.fanout as fanout
 from router.check import check
 from router.geometry import placed_pads
-from router.model import Board, Net, NetClass, Part, Rules
+from router.model import Board, Net, NetClass, Part
 from router.realgen import _chip, _quad
 from router.units import TOL
-from test_exits import assert_traces_keep
+from test_exits import assert_traces_keep, fine_rules
 from test_fanout import _pieces, _plan
 from test_lanes import _first_order
 
@@ -37,8 +37,7 @@ def quad_side() -> Board:
     parts += [Part("C6", c.name, at=(28.0, 11.0)), Part("C7", c.name, at=(30.0, 11.0))]
     nets += [Net("VCC", ["U1.7", "C6.1", "C7.1"], "power"),
              Net("GND", ["U1.8", "U1.33", "C6.2", "C7.2"], "power")]
-    rules = Rules(grid=0.25, edge_clearance=0.4, min_trace_width=0.15, min_clearance=0.15,
-                  via_drill=0.3, via_diameter=0.6, min_hole_spacing=0.3)
+    rules = fine_rules()
     return Board("quad-side", [(2.0, 2.0), (38.0, 2.0), (38.0, 28.0), (2.0, 28.0)], copper_layers=2,
                  rules=rules, classes={"default": NetClass("default", 0.2, 0.25),
                                        "power": NetClass("power", 0.4, 0.25)},

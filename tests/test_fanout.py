@@ -17,11 +17,11 @@ from shapely.geometry import LineString, Point
 from router.check import check
 from router.fanout import plan_row
 from router.grid import RoutingGrid
-from router.model import Board, Net, NetClass, Part, Rules
+from router.model import Board, Net, NetClass, Part
 from router.negotiate import _Negotiation, _pad_groups, route_board
 from router.realgen import _chip, _conn
 from router.units import TOL
-from test_exits import assert_traces_keep, crowded_row
+from test_exits import assert_traces_keep, crowded_row, fine_rules
 
 
 def supply_mid_row() -> Board:
@@ -38,8 +38,7 @@ def supply_mid_row() -> Board:
             Net("S1", ["J1.1", "C4.2"]), Net("S2", ["J1.2", "C5.2"]), Net("S3", ["J1.3", "C6.2"]),
             Net("S4", ["J1.4", "C3.2"]), Net("S7", ["J1.7", "C10.1"]), Net("S8", ["J1.8", "C9.1"]),
             Net("S9", ["J1.9", "C8.1"]), Net("S10", ["J1.10", "C7.1"])]
-    rules = Rules(grid=0.25, edge_clearance=0.4, min_trace_width=0.15, min_clearance=0.15,
-                  via_drill=0.3, via_diameter=0.6, min_hole_spacing=0.3)
+    rules = fine_rules()
     return Board("supply-mid-row", [(2.0, 2.0), (34.0, 2.0), (34.0, 28.0), (2.0, 28.0)], copper_layers=2,
                  rules=rules, classes={"default": NetClass("default", 0.25, 0.2),
                                        "power": NetClass("power", 0.5, 0.2)},
