@@ -25,10 +25,13 @@ from shapely.geometry import Polygon
 
 from .search import SearchSpace, find_path
 
-__all__ = ["closed_by"]
+__all__ = ["closed_by", "ROUTED"]
 
 _ORDER = ("keepout", "edge", "hole", "body", "copper", "routed")
 _MOST_NAMED = 10          # nets or keepouts tried one by one when naming
+#: The words for the router's own copper when it closes a way (the nets are named after routing:
+#: router.negotiate._name_routed).
+ROUTED = "copper routed for other nets"
 
 
 class _Relax:
@@ -238,7 +241,7 @@ def _words(relax: _Relax, closing: list[str]) -> str:
         elif kind == "body":
             parts.append("the body of a keepout_body part")
         elif kind == "routed":
-            parts.append("copper routed for other nets")
+            parts.append(ROUTED)
     return " and ".join(parts)
 
 

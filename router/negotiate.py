@@ -40,7 +40,8 @@ from .connectivity import components
 from .copper import copper_items, pad_core
 from .grid import RoutingGrid, box_of_core
 from .model import Board, Jumper, Trace, Via
-from .nets import UNNAMED, NetRoute, route_net, terminals
+from .blockage import ROUTED
+from .nets import TAKEN, UNNAMED, NetRoute, route_net, terminals
 from .search import STEP
 from .spaces import NetSpaces
 from .tidy import polylines, trim_dangling
@@ -729,6 +730,11 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
     if fewer and grid.L == 2:            # a pass that takes out vias a net can do without (router.viapass)
         _fewer_vias(neg, order, _cost(VIA_TRADE, grid.pitch))
         _move_blockers(neg, order, _cost(VIA_TRADE, grid.pitch), near=MOVE_NEAR if big else None)
+    for net in [n for n in order if n in lost and n not in neg.blind]:    # which nets' copper, by name
+        if TAKEN in lost[net]:
+            lost[net] = _name_takers(neg, net, lost[net])
+        elif ROUTED in lost[net]:
+            lost[net] = _name_routed(neg, net, lost[net])
     _write(b, grid, neg, order)
     _settle(b, start, lost, order)
     return b, lost, npass, shared_left, set(neg.blind), work
@@ -1287,6 +1293,89 @@ def _name_or_lay(neg: _Negotiation, lost: dict, nets: list) -> None:
             lost[net] = "no way past the other nets after rip-up and reroute"
         else:
             del lost[net]
+
+
+def _name_takers(neg: _Negotiation, net: str, reason: str) -> str:
+    """`reason` (:data:`router.nets.TAKEN`) with the nets whose routed copper takes the exits of
+    `net`'s closed pad named after it, as
+    :mod:`router.blockage` names what closes a way: of the nets with routed copper within
+    :data:`REORDER_WINDOW` of the pad (by its items' boxes), those whose copper alone taken away opens an exit of it
+    (each ripped up in turn and laid again as it was: the routing is unchanged); when no one net
+    does, those whose copper taken away together does. The reason is kept as it was when the pad
+    is no longer closed or nothing near it opens it. The pad is the one `reason` names
+    (``pad REF.PIN: ...``)."""
+    said = reason.split(":", 1)[0].removeprefix("pad ")
+    closed = [p for p in _closed_pads(neg, net) if p.name == said]
+    if not closed:
+        return reason
+    pad = closed[0]
+
+    def opens() -> bool:
+        space, others = neg.spaces.space(neg, net, True, None)
+        return bool(terminals(neg.grid, space, net, [[pad]], others)[0].cells)
+
+    c, rad = neg.grid.layout.core_of(pad)
+    x0, y0, x1, y1 = box_of_core(c)
+    m = rad + REORDER_WINDOW
+    near = [n for n in neg.nets if n != net and n in neg.routes and any(
+        ob.box[0] <= x1 + m and ob.box[2] >= x0 - m and ob.box[1] <= y1 + m and ob.box[3] >= y0 - m
+        for ob in neg.soft.get(n, ()))]
+    alone = []
+    for n in near:
+        r = neg.routes[n]
+        neg.rip(n)
+        try:
+            if opens():
+                alone.append(n)
+        finally:
+            neg.lay(n, r)
+    if alone:
+        return f"{reason}: {_listed(alone, ' or ')} (taking {'it' if len(alone) == 1 else 'any one of them'} away opens an exit)"
+    snap = dict(neg.routes)
+    for n in near:
+        neg.rip(n)
+    together = bool(near) and opens()
+    neg.restore(snap)
+    return f"{reason}: {_listed(near, ' and ')} together" if together else reason
+
+
+def _name_routed(neg: _Negotiation, net: str, reason: str) -> str:
+    """`reason` (naming :data:`router.blockage.ROUTED` among what closes the way) with the routed
+    nets that close it named: the lost net's way through the other nets at :data:`REPAIR_PRICE` (:func:`_priced_route`)
+    gives the nets it would share cells with (at most :data:`SWAP_MOST`, in negotiation order);
+    those whose copper alone taken away lets the net route with walls are named (each ripped up
+    in turn and laid again as it was: the routing is unchanged); when no one net does, the nets
+    that way crosses. Kept as it was when no such way is found."""
+    before, _ = neg.conflicts()
+    way = _priced_route(neg, net)
+    if way.failed:
+        return reason
+    neg.lay(net, way)
+    after, _ = neg.conflicts()
+    neg.rip(net)
+    crossed = [n for n in neg.nets if n != net and after.get(n, 0) > before.get(n, 0)][:SWAP_MOST]
+    if not crossed:
+        return reason
+    alone = []
+    for n in crossed:
+        old = neg.routes[n]
+        neg.rip(n)
+        try:
+            if not neg.route(net, strict=True, explain=False).failed:
+                alone.append(n)
+        finally:
+            neg.lay(n, old)
+    if alone:
+        said = f"{ROUTED} ({_listed(alone, ' or ')}: taking {'it' if len(alone) == 1 else 'any one of them'} away opens a way)"
+    else:
+        said = f"{ROUTED} (its way through them would cross {_listed(crossed, ' and ')})"
+    return reason.replace(ROUTED, said, 1)
+
+
+def _listed(names: list, join: str) -> str:
+    """Net names sorted, the last joined by `join`: 'A', 'A or B', 'A, B and C'."""
+    names = sorted(names)
+    return names[0] if len(names) == 1 else ", ".join(names[:-1]) + join + names[-1]
 
 
 def _anchor_test(grid: RoutingGrid, net: str, r: NetRoute):

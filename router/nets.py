@@ -34,7 +34,11 @@ from .grid import JUMP_PITCH, RoutingGrid, box_of_core
 from .search import OVER_BOUND, SearchSpace, find_path
 from .units import TOL
 
-__all__ = ["Terminal", "NetRoute", "terminals", "route_net", "UNNAMED"]
+__all__ = ["Terminal", "NetRoute", "terminals", "route_net", "UNNAMED", "TAKEN"]
+
+#: A lost net's reason when other nets' routed copper takes every exit of one of its pads (the nets are
+#: named after routing: router.negotiate._name_takers).
+TAKEN = "every exit to the grid is taken by other nets' routed copper"
 
 #: The end of a failed route's reason when the obstacles were not named (``explain`` False).
 UNNAMED = " past the obstacles around it"
@@ -452,7 +456,7 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
     if blind and others is not None and terminals(grid, grid.space_for(net), net, [blind[0].pads])[0].cells:
         # walls of other nets' routed copper, not the fixed copper, take every exit (asked of the
         # fixed copper's own space: the walled space has the routed copper's cells closed too)
-        route.failed = (f"pad {blind[0].name}: every exit to the grid is taken by other nets' routed copper "
+        route.failed = (f"pad {blind[0].name}: {TAKEN} "
                         f"(for a {grid.profile_of(net).width:g} mm trace)")
         return route
     if blind:

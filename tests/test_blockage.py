@@ -85,3 +85,48 @@ def test_a_pad_walled_in_names_what_walls_it():
     assert box(13.5, 8.5, 16.7, 11.5).contains(box(15.08 - 0.9 - 0.5, 10 - 0.9 - 0.5, 15.08 + 0.9 + 0.5, 10 + 1.4))
     b, why = reason(head() + PARTS + ko)
     assert why == "pad R1.2 has no open grid point within reach for a 0.25 mm trace: closed by keepout 1", why
+
+
+def _walled(columns):
+    """Net A of R1 (pads at x 4.92 and 15.08) in a negotiation where nets of the board's other
+    parts have routes laid by hand along whole grid columns: {net: [(x, layer index), ...]}."""
+    from router.grid import RoutingGrid
+    from router.negotiate import _Negotiation, _pad_groups
+    from router.nets import NetRoute
+    extra = "".join(f'[[parts]]\nref = "R{k}"\nfootprint = "chip-0805"\nat = [{16.0 * k - 30.0}, 2.0]\n'
+                    f'[[nets]]\nname = "{n}"\npins = ["R{k}.1", "R{k}.2"]\n' for k, n in enumerate(columns, 2))
+    b = loads_board(head() + PARTS + extra)
+    grid = RoutingGrid(b)
+    neg = _Negotiation(b, grid, ["A"] + list(columns), _pad_groups(b, grid), bend=400, via=800, jump=2000)
+    for n, cols in columns.items():
+        r = NetRoute(n)
+        for x, l in cols:
+            i = int(round(x / grid.pitch)) - grid.i0
+            for j in range(grid.ny - 1):
+                r.edges.add(((l, j, i), (l, j + 1, i)))
+                r.cells.update({(l, j, i), (l, j + 1, i)})
+        neg.lay(n, r)
+    return neg
+
+
+def test_routed_copper_that_closes_a_way_is_named():
+    """The router's own copper closing a way is named by net after routing
+    (router.negotiate._name_routed): B's routed copper along x 9.5 on the top layer and C's along
+    x 10.5 on the bottom wall A's pads apart (a via between them would stand 0.5 mm from each,
+    short of 0.3 + 0.2 + 0.125: common practice, a via needs its radius, the clearance and the
+    trace's half width); either taken away opens a way on the other layer, and the one A's way
+    through the others crosses is named. B on both layers alone: B is named. The routing is the
+    same after naming."""
+    from router.negotiate import _name_routed
+    from router.blockage import ROUTED
+    neg = _walled({"B": [(9.5, 0)], "C": [(10.5, 1)]})
+    r = neg.route("A", strict=True)
+    assert r.failed.startswith("no way from R1.1 to R1.2: closed by") and ROUTED in r.failed, r.failed
+    before = dict(neg.routes)
+    # the way through the others crosses one of the two columns: that net is named
+    assert _name_routed(neg, "A", r.failed) in [r.failed.replace(ROUTED, f"{ROUTED} ({n}: taking it away opens a way)")
+                                                for n in "BC"]
+    assert neg.routes == before
+    neg = _walled({"B": [(9.5, 0), (9.5, 1)], "C": [(12.5, 1)]})
+    r = neg.route("A", strict=True)
+    assert _name_routed(neg, "A", r.failed) == r.failed.replace(ROUTED, f"{ROUTED} (B: taking it away opens a way)")

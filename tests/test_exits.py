@@ -139,7 +139,7 @@ def test_reserved_exits_cost_other_nets_only():
 def test_exits_taken_by_routed_copper_are_named_so():
     """When other nets' routed copper (walls) takes every exit of a pad that the fixed copper
     leaves open, the reason says so, rather than blaming the pads or the file's copper."""
-    from router.negotiate import _Negotiation, _pad_groups
+    from router.negotiate import _Negotiation, _name_takers, _pad_groups
     b = crowded_row()
     grid = RoutingGrid(b)
     groups = _pad_groups(b, grid)
@@ -149,6 +149,30 @@ def test_exits_taken_by_routed_copper_are_named_so():
     neg.lay("S6", wall)
     r = neg.route("VCC", strict=True)
     assert r.failed and "taken by other nets' routed copper" in r.failed, r.failed
+    # after routing the reason names the net (router.negotiate._name_takers), the routing unchanged
+    before = dict(neg.routes)
+    assert _name_takers(neg, "VCC", r.failed) == r.failed + ": S6 (taking it away opens an exit)"
+    assert r.failed.startswith("pad U1.7: ")
+    assert neg.routes == before and neg.conflicts() == ({}, [])
+
+
+def test_exits_taken_by_two_nets_together_are_named_together():
+    """Two nets' copper across the front of the row, neither alone closing every exit of U1.7
+    (S6's rows near the pad ends, S5's further out): the reason names both, together; a reason
+    naming a pad that is not closed, or a pad whose exits are open, is kept as it was (common
+    practice: name what closes it)."""
+    from router.negotiate import _Negotiation, _name_takers, _pad_groups
+    b = crowded_row()
+    grid = RoutingGrid(b)
+    neg = _Negotiation(b, grid, [n.name for n in b.nets], _pad_groups(b, grid), bend=400, via=800, jump=2000)
+    for name, ys in (("S6", (13.0, 12.75, 12.5)), ("S5", (12.25, 12.0, 11.75))):
+        neg.lay(name, NetRoute(name, stubs=[((18.5, y), (20.5, y), 0) for y in ys]))
+    r = neg.route("VCC", strict=True)
+    assert _name_takers(neg, "VCC", r.failed) == r.failed + ": S5 and S6 together"
+    assert _name_takers(neg, "VCC", r.failed.replace("U1.7", "U1.8")) == r.failed.replace("U1.7", "U1.8")
+    neg.rip("S5")
+    neg.rip("S6")
+    assert _name_takers(neg, "VCC", "as it was") == "as it was"
 
 
 def test_exit_conflicts_match_shapely_on_many_exits():
