@@ -1297,11 +1297,11 @@ def _name_or_lay(neg: _Negotiation, lost: dict, nets: list) -> None:
 
 def _name_takers(neg: _Negotiation, net: str, reason: str) -> str:
     """`reason` (:data:`router.nets.TAKEN`) with the nets whose routed copper takes the exits of
-    `net`'s closed pad named after it, as
-    :mod:`router.blockage` names what closes a way: of the nets with routed copper within
-    :data:`REORDER_WINDOW` of the pad (by its items' boxes), those whose copper alone taken away opens an exit of it
-    (each ripped up in turn and laid again as it was: the routing is unchanged); when no one net
-    does, those whose copper taken away together does. The reason is kept as it was when the pad
+    `net`'s closed pad named after it, as :mod:`router.blockage` names what closes a way: of the
+    nets with routed copper within :data:`REORDER_WINDOW` of the pad (by its items' boxes), those
+    whose copper alone taken away opens an exit of it (each ripped up in turn and laid again as it
+    was: the routing is unchanged); when no one net does, those whose copper taken away together
+    does. The reason is kept as it was when the pad
     is no longer closed or nothing near it opens it. The pad is the one `reason` names
     (``pad REF.PIN: ...``)."""
     said = reason.split(":", 1)[0].removeprefix("pad ")
@@ -1330,7 +1330,7 @@ def _name_takers(neg: _Negotiation, net: str, reason: str) -> str:
         finally:
             neg.lay(n, r)
     if alone:
-        return f"{reason}: {_listed(alone, ' or ')} (taking {'it' if len(alone) == 1 else 'any one of them'} away opens an exit)"
+        return f"{reason}: {_listed(alone, ' or ')} (taking {_it(alone)} away opens an exit)"
     snap = dict(neg.routes)
     for n in near:
         neg.rip(n)
@@ -1341,8 +1341,8 @@ def _name_takers(neg: _Negotiation, net: str, reason: str) -> str:
 
 def _name_routed(neg: _Negotiation, net: str, reason: str) -> str:
     """`reason` (naming :data:`router.blockage.ROUTED` among what closes the way) with the routed
-    nets that close it named: the lost net's way through the other nets at :data:`REPAIR_PRICE` (:func:`_priced_route`)
-    gives the nets it would share cells with (at most :data:`SWAP_MOST`, in negotiation order);
+    nets that close it named: the lost net's way through the other nets at :data:`REPAIR_PRICE`
+    (:func:`_priced_route`) gives the nets it would share cells with (at most :data:`SWAP_MOST`, in negotiation order);
     those whose copper alone taken away lets the net route with walls are named (each ripped up
     in turn and laid again as it was: the routing is unchanged); when no one net does, the nets
     that way crosses. Kept as it was when no such way is found."""
@@ -1366,10 +1366,14 @@ def _name_routed(neg: _Negotiation, net: str, reason: str) -> str:
         finally:
             neg.lay(n, old)
     if alone:
-        said = f"{ROUTED} ({_listed(alone, ' or ')}: taking {'it' if len(alone) == 1 else 'any one of them'} away opens a way)"
+        said = f"{ROUTED} ({_listed(alone, ' or ')}: taking {_it(alone)} away opens a way)"
     else:
         said = f"{ROUTED} (its way through them would cross {_listed(crossed, ' and ')})"
     return reason.replace(ROUTED, said, 1)
+
+
+def _it(names: list) -> str:
+    return "it" if len(names) == 1 else "any one of them"
 
 
 def _listed(names: list, join: str) -> str:
