@@ -1299,10 +1299,9 @@ def _name_takers(neg: _Negotiation, net: str, reason: str) -> str:
     """`reason` (:data:`router.nets.TAKEN`) with the nets whose routed copper takes the exits of
     `net`'s closed pad named after it, as :mod:`router.blockage` names what closes a way: of the
     nets with routed copper within :data:`REORDER_WINDOW` of the pad (by its items' boxes), those
-    whose copper alone taken away opens an exit of it (each ripped up in turn and laid again as it
-    was: the routing is unchanged); when no one net does, those whose copper taken away together
-    does. The reason is kept as it was when the pad
-    is no longer closed or nothing near it opens it. The pad is the one `reason` names
+    whose copper alone taken away opens an exit of it (:func:`_openers`); when no one net does,
+    those whose copper taken away together does. The reason is kept as it was when the pad is no
+    longer closed or nothing near it opens it. The pad is the one `reason` names
     (``pad REF.PIN: ...``)."""
     said = reason.split(":", 1)[0].removeprefix("pad ")
     closed = [p for p in _closed_pads(neg, net) if p.name == said]
@@ -1320,15 +1319,7 @@ def _name_takers(neg: _Negotiation, net: str, reason: str) -> str:
     near = [n for n in neg.nets if n != net and n in neg.routes and any(
         ob.box[0] <= x1 + m and ob.box[2] >= x0 - m and ob.box[1] <= y1 + m and ob.box[3] >= y0 - m
         for ob in neg.soft.get(n, ()))]
-    alone = []
-    for n in near:
-        r = neg.routes[n]
-        neg.rip(n)
-        try:
-            if opens():
-                alone.append(n)
-        finally:
-            neg.lay(n, r)
+    alone = _openers(neg, near, opens)
     if alone:
         return f"{reason}: {_listed(alone, ' or ')} (taking {_it(alone)} away opens an exit)"
     snap = dict(neg.routes)
@@ -1342,10 +1333,10 @@ def _name_takers(neg: _Negotiation, net: str, reason: str) -> str:
 def _name_routed(neg: _Negotiation, net: str, reason: str) -> str:
     """`reason` (naming :data:`router.blockage.ROUTED` among what closes the way) with the routed
     nets that close it named: the lost net's way through the other nets at :data:`REPAIR_PRICE`
-    (:func:`_priced_route`) gives the nets it would share cells with (at most :data:`SWAP_MOST`, in negotiation order);
-    those whose copper alone taken away lets the net route with walls are named (each ripped up
-    in turn and laid again as it was: the routing is unchanged); when no one net does, the nets
-    that way crosses. Kept as it was when no such way is found."""
+    (:func:`_priced_route`) gives the nets it would share cells with (at most :data:`SWAP_MOST`,
+    in negotiation order); those whose copper alone taken away lets the net route with walls are
+    named (:func:`_openers`); when no one net does, the nets that way crosses. Kept as it was when
+    no such way is found."""
     before, _ = neg.conflicts()
     way = _priced_route(neg, net)
     if way.failed:
@@ -1356,20 +1347,27 @@ def _name_routed(neg: _Negotiation, net: str, reason: str) -> str:
     crossed = [n for n in neg.nets if n != net and after.get(n, 0) > before.get(n, 0)][:SWAP_MOST]
     if not crossed:
         return reason
-    alone = []
-    for n in crossed:
-        old = neg.routes[n]
-        neg.rip(n)
-        try:
-            if not neg.route(net, strict=True, explain=False).failed:
-                alone.append(n)
-        finally:
-            neg.lay(n, old)
+    alone = _openers(neg, crossed, lambda: not neg.route(net, strict=True, explain=False).failed)
     if alone:
         said = f"{ROUTED} ({_listed(alone, ' or ')}: taking {_it(alone)} away opens a way)"
     else:
         said = f"{ROUTED} (its way through them would cross {_listed(crossed, ' and ')})"
     return reason.replace(ROUTED, said, 1)
+
+
+def _openers(neg: _Negotiation, names: list, opens) -> list:
+    """The nets of `names` whose routed copper alone, ripped up, makes `opens()` true; each is
+    laid again as it was, so the routing is unchanged."""
+    out = []
+    for n in names:
+        r = neg.routes[n]
+        neg.rip(n)
+        try:
+            if opens():
+                out.append(n)
+        finally:
+            neg.lay(n, r)
+    return out
 
 
 def _it(names: list) -> str:
