@@ -312,7 +312,7 @@ def build_parser() -> argparse.ArgumentParser:
                          "(default 0: shortest nets first)")
     sp.add_argument("--reroute", action="store_true", help="remove the copper that is not fixed first")
     sp.add_argument("--passes", type=int, default=None, metavar="N",
-                    help="most negotiated-congestion passes (default 16)")
+                    help="most negotiated-congestion passes (default 40; 16 on big boards)")
     sp.add_argument("--json", action="store_true", help="print the figures as JSON")
 
     sp = add("check", "clearance, connectivity and manufacturing checks", cmd_check, epilog=_ELECTRICAL +

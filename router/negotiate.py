@@ -69,6 +69,14 @@ STALL_FALL = 0.1
 STALL_BIG = 2
 #: In repair, an unrouted net's way through the other nets pays this much (mm of trace) for each
 #: grid cell of theirs it takes (our choice: several mm, so it crosses rather than runs along).
+#: The present factor's growth per negotiation pass (:meth:`_Negotiation.raise_prices`).
+PRESENT_GROW = 1.8
+#: The negotiation of a board below :data:`BIG_WORK`: every net is routed again in every pass (the
+#: neighbours of a net that shares cells move too, though they share nothing themselves), for up to
+#: :data:`CLASSIC_PASSES` passes, the present factor growing by :data:`CLASSIC_GROW` a pass (the
+#: history has time to tell the nets apart before the present price walls them in).
+CLASSIC_PASSES = 40
+CLASSIC_GROW = 1.3
 REPAIR_PRICE = 5.0
 #: The local re-order rips up the routed nets with a cell this near (mm) a pad of a net left
 #: unrouted, routes that net first and them after it (our choice: a fine-pitch pad's exit and
@@ -156,6 +164,7 @@ class _Negotiation:
         self.fanout = None                         # fine-pitch parts' planned exits (router.fanout), plan_fanout()
         self.hist_top = None                       # the larger history of the layers, made once per pass
         self.window = None                         # big boards: mm around a net's pads its searches keep to (WINDOW)
+        self.grow = PRESENT_GROW                   # the present factor's growth per pass (raise_prices)
         self._windows: dict = {}
 
     def zero_hist(self) -> np.ndarray:
@@ -184,7 +193,7 @@ class _Negotiation:
             if len(c):
                 self.hist[c[:, 0], c[:, 1], c[:, 2]] += STEP
         self.hist_top = None
-        self.present *= 1.8
+        self.present *= self.grow
 
     def width(self, net: str) -> float:
         return self.grid.profile_of(net).width
@@ -482,7 +491,7 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
                 seed: int = 0, reroute: bool = False, progress: bool = False, passes: Optional[int] = None,
                 jumper_penalty: Optional[float] = None, polish: bool = True,
                 retries: int = 2, every_net: bool = False, fewer_vias: bool = True,
-                fanout_first: bool = False) -> RouteResult:
+                fanout_first: bool = False, classic: Optional[bool] = None) -> RouteResult:
     """Route every net of `board` not yet routed; the input board is not changed.
 
     Parameters
@@ -505,11 +514,18 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
     progress : bool
         Show a progress bar (passes and nets) on stderr.
     passes : int, optional
-        Most negotiation passes (default :data:`DEFAULT_PASSES`).
+        Most negotiation passes (default :data:`CLASSIC_PASSES` with `classic`, else
+        :data:`DEFAULT_PASSES`).
     every_net : bool
-        Rip up and reroute every net in each pass, as the original negotiation does; by
-        default only the nets that share a cell (or failed) are rerouted, which on our
-        generated boards reaches the same completion in about 60 % of the time.
+        Rip up and reroute every net in each pass, as the original negotiation does; without
+        it (and without `classic`) only the nets that share a cell (or failed) are rerouted.
+    classic : bool, optional
+        Negotiate as the original negotiation does: every net rerouted in every pass, the
+        present price growing by :data:`CLASSIC_GROW` a pass (not :data:`PRESENT_GROW`), up to
+        :data:`CLASSIC_PASSES` passes. None (default): on boards below :data:`BIG_WORK` only,
+        where it routes more nets of crowded fine-pitch sides (a net's neighbours step aside
+        though they share nothing themselves; docs/measurements.md); a big board keeps the
+        quicker negotiation.
     retries : int
         When nets stay unrouted, route the board again from scratch up to this many times in
         other net orders (drawn from the seed), before them once in the same order with the
@@ -561,7 +577,7 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
         jump = via
     else:
         jump = _cost(DEFAULT_JUMP, grid_pitch)
-    passes = DEFAULT_PASSES if passes is None else max(1, int(passes))
+    passes = None if passes is None else max(1, int(passes))
     failed: dict[str, str] = {}
     unplaced = {p.ref for p in b.parts if p.at is None}
     todo_names = []
@@ -587,7 +603,7 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
     for attempt, plan, lanes in tries:
         got = _attempt(start, todo_names, seed, attempt, bend, via, jump, passes, progress, polish, every_net,
                        fewer_vias, plan=plan, lanes=lanes, beat=None if best is None else len(best[1]),
-                       fan_failed=fan_failed)
+                       fan_failed=fan_failed, classic=classic)
         if got is None:
             continue                 # nothing to plan: that try would route as the first did
         out_board, lost, npass, shared_left, blind, work = got
@@ -607,15 +623,16 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
         from .pour import after_route
         result = after_route(result, bend_penalty=bend_penalty, via_penalty=via_penalty, seed=seed,
                              progress=progress, passes=passes, jumper_penalty=jumper_penalty,
-                             polish=polish, retries=retries, every_net=every_net, fewer_vias=fewer_vias)
+                             polish=polish, retries=retries, every_net=every_net, fewer_vias=fewer_vias,
+                             classic=classic)
     result.removed = removed.add(result.removed) if result.removed else removed
     return result
 
 
 def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend: int, via: int, jump: int,
-             passes: int, progress: bool, polish: bool, every_net: bool = False, fewer: bool = True,
+             passes: Optional[int], progress: bool, polish: bool, every_net: bool = False, fewer: bool = True,
              plan: bool = False, lanes: bool = False, beat: Optional[int] = None,
-             fan_failed: Optional[set] = None):
+             fan_failed: Optional[set] = None, classic: Optional[bool] = None):
     """One complete routing of `start`; attempt 0 takes nets shortest first, later attempts a
     shuffled order (each net's half-perimeter scaled by a random factor from the seed). Returns
     the board, the nets lost with their reasons, passes, nets sharing at the end of negotiation,
@@ -646,6 +663,12 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
         sizes = [s * math.exp(rng.normal(0.0, 0.35)) for s in sizes]
     order = [n for _, _, n in sorted(zip(sizes, ties, nets))]
     neg = _Negotiation(b, grid, order, groups, bend, via, jump, crowd=fewer, lanes=lanes)
+    if classic is None:
+        classic = not big
+    if classic:                          # every net in every pass, a slower present price, more passes
+        every_net, neg.grow = True, CLASSIC_GROW
+    if passes is None:
+        passes = CLASSIC_PASSES if classic else DEFAULT_PASSES
     if big:
         neg.window = WINDOW
         neg.any_tie = True               # one search where two would pick the plain search's tie (search.SearchSpace)

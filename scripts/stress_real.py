@@ -115,6 +115,14 @@ def _generated_size(nets: int) -> tuple:
     return (100.0, 80.0)
 
 
+def _to_mil(board) -> None:
+    """`board`'s grid and classes in inch-based sizes (--mil), in place."""
+    board.rules.grid = 0.254
+    for name, cls in board.classes.items():
+        cls.trace_width = 0.508 if cls.trace_width > 0.3 else 0.254
+        cls.clearance = 0.2032
+
+
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--seeds", nargs=2, type=int, default=[0, 5], metavar=("A", "B"))
@@ -130,6 +138,10 @@ def main(argv=None) -> int:
     ap.add_argument("--grid", type=float, default=None,
                     help="route on this grid pitch in mm instead of the generator's 0.25 (real boards "
                          "come with other grids: 0.2, 0.127, 0.1)")
+    ap.add_argument("--mil", action="store_true",
+                    help="inch-based rules as many real designs use: a 0.254 mm (10 mil) grid unless --grid, signal "
+                         "traces 0.254 mm with 0.2032 mm (8 mil) clearance, supplies 0.508 mm (common practice, "
+                         "from memory); the parts stay at their metric places, so rows drift across the grid")
     ap.add_argument("--generated", action="store_true",
                     help="router.boardgen's generated boards instead (sizes as bench_route's: 10 nets 30 x 25 mm, "
                          "25 nets 45 x 35, 50 nets 60 x 45, 80 nets 80 x 60, else 100 x 80): boards both routers "
@@ -159,6 +171,8 @@ def main(argv=None) -> int:
             n = args.nets[k % len(args.nets)]
             made = (generate_board(seed, nets=n, size=_generated_size(n)) if args.generated
                     else real_board(seed, n, angled=args.angled))
+            if args.mil:
+                _to_mil(made)
             if args.grid is not None:
                 made.rules.grid = args.grid
             text = dumps_board(made)

@@ -125,8 +125,8 @@ def test_a_step_that_failed_at_the_same_closed_pads_is_not_made_again(monkeypatc
         b = quad_on_fine_grid()
         g = b.rules.grid
         bend, via, jump = negotiate._cost(1.0, g), negotiate._cost(2.0, g), negotiate._cost(5.0, g)
-        return negotiate._attempt(b, [n.name for n in b.nets], 0, 0, bend, via, jump, negotiate.DEFAULT_PASSES,
-                                  False, True, fan_failed=in_vain)[1]
+        return negotiate._attempt(b, [n.name for n in b.nets], 0, 0, bend, via, jump, None,
+                                  False, True, fan_failed=in_vain, classic=False)[1]
 
     in_vain: set = set()
     assert first_order(in_vain) == {} and in_vain == set()          # brought back: nothing recorded
@@ -182,3 +182,23 @@ def test_the_row_of_a_lost_pad_is_its_side_of_the_part():
     assert set(negotiate._row_nets(neg, "S4", [lost])) == want - {"S3"}
     exposed = next(p for p in pads if p.name == "U1.33")
     assert negotiate._row_nets(neg, "GND", [exposed]) == []
+
+
+def test_the_classic_negotiation_routes_the_row_in_the_first_order(monkeypatch):
+    """The same first order negotiated classically (every net routed again in every pass, the
+    present price growing by CLASSIC_GROW): the neighbours of the supply's via step aside while
+    the nets negotiate, and every net routes with no later step at all (the swap and the fan-out
+    with the supplies left out); negotiated as on a big board (only the nets that share, the
+    present price growing by PRESENT_GROW) the same order loses S4 (tests/test_lanes.py). The
+    board is clean (router.check), traces of different nets keep 0.25 mm (shapely) and every
+    net's copper joins its pads (networkx)."""
+    from router import negotiate
+    monkeypatch.setattr(negotiate, "_swap", lambda neg, lost: None)
+    _, lost = _first_order(lanes=False, monkeypatch=monkeypatch)
+    assert list(lost) == ["S4"]
+    out, lost = _first_order(lanes=False, monkeypatch=monkeypatch, classic=True)
+    assert lost == {}
+    assert [v for v in check(out) if v.rule != "open"] == []
+    assert_traces_keep(out, 0.25)
+    for net in [n.name for n in out.nets]:
+        assert _joined(out, net), net

@@ -38,16 +38,18 @@ def quad_on_fine_grid() -> Board:
                  footprints={q.name: q, c.name: c}, parts=parts, nets=nets)
 
 
-def _first_order(lanes: bool, monkeypatch=None):
-    """The first net order's routing; with `monkeypatch`, the fan-out with the supplies after the
-    swap (:func:`router.negotiate._fan_with_supplies`, tests/test_fan_supplies.py) left out."""
+def _first_order(lanes: bool, monkeypatch=None, classic: bool = False):
+    """The first net order's routing, negotiated as on a big board unless `classic` (the classic
+    negotiation routes this row in the first order: tests/test_fan_supplies.py); with
+    `monkeypatch`, the fan-out with the supplies after the swap
+    (:func:`router.negotiate._fan_with_supplies`, tests/test_fan_supplies.py) left out."""
     if monkeypatch is not None:
         monkeypatch.setattr(negotiate, "_fan_with_supplies", lambda neg, lost, **kw: None)
     b = quad_on_fine_grid()
     g = b.rules.grid
     bend, via, jump = negotiate._cost(1.0, g), negotiate._cost(2.0, g), negotiate._cost(5.0, g)
     out, lost, *_ = negotiate._attempt(b, [n.name for n in b.nets], 0, 0, bend, via, jump,
-                                       negotiate.DEFAULT_PASSES, False, True, lanes=lanes)
+                                       None, False, True, lanes=lanes, classic=classic)
     return out, lost
 
 

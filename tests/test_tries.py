@@ -54,7 +54,7 @@ def _routed(monkeypatch, finish_all: bool):
     # the fan-out with the supplies after the swap routes S4 in the first try (tests/test_fan_supplies.py):
     # left out, so that the tries this test watches are made
     monkeypatch.setattr(negotiate, "_fan_with_supplies", lambda neg, lost, **kw: None)
-    return negotiate.route_board(quad_on_fine_grid()), seen
+    return negotiate.route_board(quad_on_fine_grid(), classic=False), seen   # classic: complete in the first try
 
 
 def test_a_losing_try_stops_after_repair_and_the_board_is_the_same(monkeypatch):
