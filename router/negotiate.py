@@ -1375,6 +1375,9 @@ def _name_routed(neg: _Negotiation, net: str, reason: str) -> str:
         said = f"{ROUTED} ({_listed(alone, ' or ')}: taking {_it(alone)} away opens a way)"
     else:
         said = f"{ROUTED} (its way through them would cross {_listed(crossed, ' and ')})"
+    tail = " (taking away any one of them opens a way)"       # router.blockage: several kinds, each alone
+    if ROUTED + tail in reason:                                 # one pair of brackets after the names
+        return reason.replace(ROUTED + tail, said + ";" + tail[2:-1], 1)
     return reason.replace(ROUTED, said, 1)
 
 
