@@ -67,16 +67,17 @@ STALL_FALL = 0.1
 #: the board of 150 nets passes 10 to 13 took the shared cells from 160 to 151, 2 s each, and the
 #: board routed the same nets with the same vias when it stopped after pass 11; see docs/measurements.md).
 STALL_BIG = 2
-#: In repair, an unrouted net's way through the other nets pays this much (mm of trace) for each
-#: grid cell of theirs it takes (our choice: several mm, so it crosses rather than runs along).
 #: The present factor's growth per negotiation pass (:meth:`_Negotiation.raise_prices`).
 PRESENT_GROW = 1.8
 #: The negotiation of a board below :data:`BIG_WORK`: every net is routed again in every pass (the
 #: neighbours of a net that shares cells move too, though they share nothing themselves), for up to
 #: :data:`CLASSIC_PASSES` passes, the present factor growing by :data:`CLASSIC_GROW` a pass (the
-#: history has time to tell the nets apart before the present price walls them in).
+#: history has time to tell the nets apart before the present price walls them in; our choice, a
+#: slow growth as the original negotiation has, from memory; measured in docs/measurements.md).
 CLASSIC_PASSES = 40
 CLASSIC_GROW = 1.3
+#: In repair, an unrouted net's way through the other nets pays this much (mm of trace) for each
+#: grid cell of theirs it takes (our choice: several mm, so it crosses rather than runs along).
 REPAIR_PRICE = 5.0
 #: The local re-order rips up the routed nets with a cell this near (mm) a pad of a net left
 #: unrouted, routes that net first and them after it (our choice: a fine-pitch pad's exit and
@@ -1377,7 +1378,7 @@ def _name_routed(neg: _Negotiation, net: str, reason: str) -> str:
         said = f"{ROUTED} (its way through them would cross {_listed(crossed, ' and ')})"
     tail = " (taking away any one of them opens a way)"       # router.blockage: several kinds, each alone
     if ROUTED + tail in reason:                                 # one pair of brackets after the names
-        return reason.replace(ROUTED + tail, said + ";" + tail[2:-1], 1)
+        return reason.replace(ROUTED + tail, said + "; " + tail[2:-1], 1)
     return reason.replace(ROUTED, said, 1)
 
 

@@ -109,6 +109,17 @@ def _walled(columns):
     return neg
 
 
+def _named(reason: str, net: str) -> str:
+    """`reason` with `net` named for the routed copper, as _name_routed words it (the tail of several
+    kinds, when there, after a semicolon)."""
+    from router.blockage import ROUTED
+    tail = " (taking away any one of them opens a way)"
+    said = f"{ROUTED} ({net}: taking it away opens a way)"
+    if ROUTED + tail in reason:
+        return reason.replace(ROUTED + tail, said + "; taking away any one of them opens a way")
+    return reason.replace(ROUTED, said)
+
+
 def test_routed_copper_that_closes_a_way_is_named():
     """The router's own copper closing a way is named by net after routing
     (router.negotiate._name_routed): B's routed copper along x 9.5 on the top layer and C's along
@@ -124,9 +135,22 @@ def test_routed_copper_that_closes_a_way_is_named():
     assert r.failed.startswith("no way from R1.1 to R1.2: closed by") and ROUTED in r.failed, r.failed
     before = dict(neg.routes)
     # the way through the others crosses one of the two columns: that net is named
-    assert _name_routed(neg, "A", r.failed) in [r.failed.replace(ROUTED, f"{ROUTED} ({n}: taking it away opens a way)")
-                                                for n in "BC"]
+    assert _name_routed(neg, "A", r.failed) in [_named(r.failed, n) for n in "BC"]
     assert neg.routes == before
     neg = _walled({"B": [(9.5, 0), (9.5, 1)], "C": [(12.5, 1)]})
     r = neg.route("A", strict=True)
-    assert _name_routed(neg, "A", r.failed) == r.failed.replace(ROUTED, f"{ROUTED} (B: taking it away opens a way)")
+    assert _name_routed(neg, "A", r.failed) == _named(r.failed, "B")
+
+
+def test_named_routers_and_the_kinds_tail_share_one_pair_of_brackets():
+    """When several kinds of obstacle each alone would open the way (router.blockage adds "(taking
+    away any one of them opens a way)" after them), the nets named for the routed copper keep their
+    own brackets and the tail follows after a semicolon: one pair of brackets after the names."""
+    from router.negotiate import _name_routed
+    from router.blockage import ROUTED
+    neg = _walled({"B": [(9.5, 0), (9.5, 1)], "C": [(12.5, 1)]})
+    tail = " (taking away any one of them opens a way)"
+    reason = "no way from R1.1 to R1.2: closed by keepout 1 and " + ROUTED + tail
+    assert _name_routed(neg, "A", reason) == ("no way from R1.1 to R1.2: closed by keepout 1 and " + ROUTED
+                                               + " (B: taking it away opens a way); taking away any one of them"
+                                               " opens a way")
