@@ -25,13 +25,15 @@ from shapely.geometry import Polygon
 
 from .search import SearchSpace, find_path
 
-__all__ = ["closed_by", "ROUTED"]
+__all__ = ["closed_by", "ROUTED", "ANY_ONE"]
 
 _ORDER = ("keepout", "edge", "hole", "body", "copper", "routed")
 _MOST_NAMED = 10          # nets or keepouts tried one by one when naming
 #: The words for the router's own copper when it closes a way (the nets are named after routing:
 #: router.negotiate._name_routed).
 ROUTED = "copper routed for other nets"
+#: The words after several kinds of obstacle of which each alone, taken away, opens the way.
+ANY_ONE = "taking away any one of them opens a way"
 
 
 class _Relax:
@@ -299,7 +301,7 @@ def closed_by(grid, net: str, space: SearchSpace, sources, targets) -> str:
     kinds = relax.present()
     singles = [k for k in kinds if relax.opens([k])]
     if singles:
-        tail = "" if len(singles) == 1 else " (taking away any one of them opens a way)"
+        tail = "" if len(singles) == 1 else f" ({ANY_ONE})"
         return "closed by " + _words(relax, singles) + tail
     for a, b in itertools.combinations(kinds, 2):
         if relax.opens([a, b]):

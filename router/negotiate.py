@@ -40,7 +40,7 @@ from .connectivity import components
 from .copper import copper_items, pad_core
 from .grid import RoutingGrid, box_of_core
 from .model import Board, Jumper, Trace, Via
-from .blockage import ROUTED
+from .blockage import ANY_ONE, ROUTED
 from .nets import TAKEN, UNNAMED, NetRoute, route_net, terminals
 from .search import STEP
 from .spaces import NetSpaces
@@ -1376,9 +1376,8 @@ def _name_routed(neg: _Negotiation, net: str, reason: str) -> str:
         said = f"{ROUTED} ({_listed(alone, ' or ')}: taking {_it(alone)} away opens a way)"
     else:
         said = f"{ROUTED} (its way through them would cross {_listed(crossed, ' and ')})"
-    tail = " (taking away any one of them opens a way)"       # router.blockage: several kinds, each alone
-    if ROUTED + tail in reason:                                 # one pair of brackets after the names
-        return reason.replace(ROUTED + tail, said + "; " + tail[2:-1], 1)
+    if f"{ROUTED} ({ANY_ONE})" in reason:     # several kinds, each alone (router.blockage): one pair of brackets
+        return reason.replace(f"{ROUTED} ({ANY_ONE})", f"{said}; {ANY_ONE}", 1)
     return reason.replace(ROUTED, said, 1)
 
 
