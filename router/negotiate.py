@@ -646,7 +646,9 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
     so it stops there and returns None for the board; the swap and the fan-out with the supplies
     are not made when they cannot bring back enough lost nets for that (:func:`_hopeless`).
     `fan_failed`: the (lost net, closed pads) that the fan-out with the supplies did not bring back
-    in an earlier try of the same board (:func:`_fan_with_supplies`), shared by the tries."""
+    in an earlier try of the same board (:func:`_fan_with_supplies`), shared by the tries.
+    `classic`: the classic negotiation (see :func:`route_board`; None: on a board below
+    :data:`BIG_WORK`); `passes` None: :data:`CLASSIC_PASSES` with it, else :data:`DEFAULT_PASSES`."""
     b = start.copy()
     grid = RoutingGrid(b)
     groups = _pad_groups(b, grid)

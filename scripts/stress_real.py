@@ -119,7 +119,7 @@ def _generated_size(nets: int) -> tuple:
 def _to_mil(board) -> None:
     """`board`'s grid and classes in inch-based sizes (--mil), in place."""
     board.rules.grid = 0.254
-    for name, cls in board.classes.items():
+    for cls in board.classes.values():
         cls.trace_width = 0.508 if cls.trace_width > 0.3 else 0.254
         cls.clearance = 0.2032
 
