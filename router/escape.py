@@ -206,7 +206,7 @@ def _relaxed_base(grid, net: str, pad: PlacedPad) -> np.ndarray:
 
 
 def escape_access(grid, space, net: str, pad: PlacedPad, others=None, most: int = 6, ways: int = EXITS,
-                  deeper: int = 0) -> dict:
+                  deeper: int = 0, jog: Optional[float] = None) -> dict:
     """Exits from `pad` to open grid points: cell (l, j, i) -> the exit's points from the pad's edge.
 
     Each exit leaves the pad straight along x or y from the middle of its copper (out of the end
@@ -216,7 +216,8 @@ def escape_access(grid, space, net: str, pad: PlacedPad, others=None, most: int 
     of the part. The class width is tried first; where it does not fit, a :class:`Neck` of the
     class's ``neck_width`` no longer than ``neck_length``. At most `most` exits in all, and
     `ways` of the shortest each way out (:data:`EXITS`; a fan-out plan asks for more), and
-    exits of the class width up to `deeper` grid pitches longer than ``neck_length``.
+    exits of the class width up to `deeper` grid pitches longer than ``neck_length``. `jog`:
+    only exits whose sideways run is at most this many mm (a fan-out plan's staircase).
     """
     core, rad = grid.layout.core_of(pad)
     x0, y0, x1, y1 = (float(v) for v in core.bounds)
@@ -269,6 +270,8 @@ def escape_access(grid, space, net: str, pad: PlacedPad, others=None, most: int 
                 for c in range(c0, c1 + 1):
                     w_ = c * g
                     if run + abs(w_ - s_across) > limit + TOL:
+                        continue
+                    if jog is not None and abs(w_ - s_across) > jog + TOL:
                         continue
                     pts = [start, (v, s_across), (v, w_)] if dx else [start, (s_across, v), (w_, v)]
                     pts = [(round(px, 6), round(py, 6)) for px, py in pts]

@@ -9,7 +9,8 @@ exits on the board without routed copper are measured against each other exactly
 (:func:`compatible`), and one exit per pad is chosen so that all chosen exits keep their
 classes' clearance, with the least total length and bends (:func:`plan_row`: a dynamic
 programme along each side of the part; a side with no compatible set among the shortest exits
-is planned again with exits to further grid rows, :data:`MORE_EXITS`). The chosen exits are then
+is planned again with exits to further grid rows, :data:`MORE_EXITS`, then with exits deep
+enough for a staircase of half its pads, :func:`stair_depth`). The chosen exits are then
 reserved: another net's copper or via near a planned exit costs :data:`PLAN_STEPS` grid steps
 per grid point, and another net's candidate exit that comes too close to one costs as much again; the pad's own
 net keeps all its exits.
@@ -33,7 +34,7 @@ from shapely.geometry import LineString, Point
 from .escape import SCARCE, EscapeVia, Neck, _body_centre
 from .units import TOL
 
-__all__ = ["PLAN_STEPS", "PLAN_EXITS", "MORE_EXITS", "PLAN_DEEPER", "Candidate", "scarce", "candidates", "compatible", "plan_row", "FanoutPlan"]
+__all__ = ["PLAN_STEPS", "PLAN_EXITS", "MORE_EXITS", "PLAN_DEEPER", "STAIR_JOG", "stair_depth", "Candidate", "scarce", "candidates", "compatible", "plan_row", "FanoutPlan"]
 
 #: The price, in grid steps per grid point, another net pays for its copper or via within reach
 #: of a planned exit (and once more for a candidate exit of its own that comes too close to
@@ -50,6 +51,10 @@ MORE_EXITS = 24
 #: How many grid pitches beyond ``neck_length`` a planned exit of the class width may reach
 #: (our choice: two, so that a row of pads stepping aside one after another finds its rows).
 PLAN_DEEPER = 2
+#: The largest sideways run, in grid pitches, of the exits a side is planned with last
+#: (:func:`stair_depth`; our choice: a staircase's steps need one or two, and the rows of a deep
+#: staircase would otherwise be crowded out by wide runs near the pads).
+STAIR_JOG = 2
 #: A bend of an exit counts as this many grid pitches of length in the plan's cost (our choice).
 BEND_PITCHES = 1.0
 
@@ -196,6 +201,25 @@ def plan_row(costs: Sequence[Sequence[float]], ok: Callable[[int, int, int, int]
     return out[::-1]
 
 
+def stair_depth(grid, nets: Sequence[str]) -> float:
+    """How much deeper than the first grid row the exits of a side with the pads of `nets` (in
+    row order) may have to reach: half of them (rounded up) stepping aside one after another,
+    each one trace width plus one clearance (the widest of the side's classes) beyond the one
+    before. On a 0.5 mm pitch row with 0.25 mm traces and clearance, every trace but the first
+    of those turning one way needs 0.5 mm more (a turn or a step onto the grid passes the end
+    of its neighbour's exit at the class clearance only that much further out: common practice
+    in fanning out an orthogonal row; measured in docs/measurements.md).
+
+    >>> class G:
+    ...     def profile_of(self, net):
+    ...         return type("P", (), {"width": 0.25, "clearance_to": {"default": 0.25}})()
+    >>> stair_depth(G(), ["A", "B", "C", "D", "E", "F", "G"])
+    2.0
+    """
+    step = max(grid.profile_of(n).width + max(grid.profile_of(n).clearance_to.values()) for n in nets)
+    return math.ceil(len(nets) / 2) * step
+
+
 def _side(pad, centre, core) -> tuple:
     """Which side of its part a pad sits on: the axis of its long side (or of its offset from
     the part's centre, for a square pad) and the sign of its offset along it."""
@@ -223,9 +247,11 @@ class FanoutPlan:
     pads : dict
         (net, ref, pad index) -> PlacedPad.
     more : callable, optional
-        (net, ref, pad index) -> more exits of that pad ({access cell: path}, :data:`MORE_EXITS`
-        each way): a side of a part with no compatible set among the pads' `access` is planned
-        again with these before it is planned greedily.
+        ((net, ref, pad index), stair) -> more exits of that pad ({access cell: path}): with
+        `stair` None, :data:`MORE_EXITS` each way; else exits up to `stair` mm deeper whose
+        sideways run is at most :data:`STAIR_JOG` grid pitches. A side of a part with no
+        compatible set among the pads' `access` is planned again with the first, then with the
+        second and the pads' `access` (:func:`stair_depth`), before it is planned greedily.
 
     Attributes
     ----------
@@ -238,6 +264,7 @@ class FanoutPlan:
     def __init__(self, grid, access: dict, pads: dict, more: Optional[Callable] = None):
         self.grid = grid
         self._more = more
+        self._access = access
         self.chosen: dict = {}
         self.notes: list[str] = []
         self.cands: dict = {}                       # key -> [Candidate]
@@ -273,10 +300,21 @@ class FanoutPlan:
             if pick is None and self._more is not None:
                 # further grid rows for every pad of the side (a deeper staircase), then again
                 for k in row:
-                    got = scarce({**self._more(k), **{c.cell: c.path for c in self.cands[k]}})
+                    got = scarce({**self._more(k, None), **{c.cell: c.path for c in self.cands[k]}})
                     if got:
                         self.cands[k] = candidates(grid, k[0], self.cands[k][0].pad, got)
                 pick = self._pick(row)
+            if pick is None and self._more is not None:
+                # rows deep enough for half the side stepping aside one after another, short steps only
+                stair = stair_depth(grid, [k[0] for k in row])
+                kept = dict(self.cands)
+                for k in row:
+                    got = scarce({**self._more(k, stair), **self._access[k]})
+                    if got:
+                        self.cands[k] = candidates(grid, k[0], self.cands[k][0].pad, got)
+                pick = self._pick(row)
+                if pick is None:
+                    self.cands.update({k: kept[k] for k in row})
             cs = [self.cands[k] for k in row]
             if pick is None:
                 self.notes.append(f"{ref}: no compatible exits for pads "

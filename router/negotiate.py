@@ -323,7 +323,7 @@ class _Negotiation:
         access cache that the first pass would fill. `refs`: plan only these parts (the local
         re-order, :func:`_reorder_local`)."""
         from .escape import escape_access, own_gaps, pad_vias
-        from .fanout import MORE_EXITS, PLAN_DEEPER, PLAN_EXITS, FanoutPlan, scarce
+        from .fanout import MORE_EXITS, PLAN_DEEPER, PLAN_EXITS, STAIR_JOG, FanoutPlan, scarce
         grid = self.grid
         profs = list(grid.profiles.values())
         wide = max(2 * p.half for p in profs) + 2 * max(v for p in profs for v in p.clearance_to.values())
@@ -349,10 +349,14 @@ class _Negotiation:
                 more = escape_access(grid, space, net, p, None, most=PLAN_EXITS, ways=PLAN_EXITS, deeper=PLAN_DEEPER)
                 access[key], pads[key] = {**more, **store[key]}, p
 
-        def deeper(key):                 # a side with no compatible set: exits to further grid rows
+        def deeper(key, stair):          # a side with no compatible set: exits to further grid rows
             space, _ = self.spaces.space(self, key[0], False, None)
-            return escape_access(grid, space, key[0], pads[key], None, most=MORE_EXITS, ways=MORE_EXITS,
-                                 deeper=PLAN_DEEPER)
+            if stair is None:
+                return escape_access(grid, space, key[0], pads[key], None, most=MORE_EXITS, ways=MORE_EXITS,
+                                     deeper=PLAN_DEEPER)
+            # every short step of the first way out that has any, down to the staircase's depth
+            return escape_access(grid, space, key[0], pads[key], None, most=1, ways=10 ** 6,
+                                 deeper=math.ceil(stair / grid.pitch - 1e-9), jog=STAIR_JOG * grid.pitch)
         self.fanout = FanoutPlan(grid, access, pads, more=deeper)
         for key, c in self.fanout.chosen.items():      # a planned exit is one of the pad's own
             store[key].setdefault(c.cell, c.path)
