@@ -4,7 +4,10 @@ Outside references: exhaustive search over every combination of exits (itertools
 dynamic programme; shapely measures every distance between planned exits and routed copper on its
 own; the parts are a 0.5 mm flat-cable connector row (common practice: 0.3 x 1.3 mm pads) and a
 JEDEC MO-220 quad no-lead side (0.25 x 0.8 mm pads at 0.5 mm), each placed 0.125 mm off the
-0.25 mm grid, with 0402 chips (EIA) at the other ends of the nets.
+0.25 mm grid, with 0402 chips (EIA) at the other ends of the nets. The staircase row keeps a
+0.25 mm clearance beside 0.25 mm traces on 0.5 mm pitch (the JEDEC pitch with the class of many
+hobby boards, common practice), so that every step onto the grid must be 0.5 mm deeper than its
+neighbour's.
 """
 from __future__ import annotations
 
@@ -15,11 +18,12 @@ import pytest
 from shapely.geometry import LineString, Point
 
 from router.check import check
-from router.fanout import plan_row
+from router.escape import neck_of
+from router.fanout import PLAN_DEEPER, plan_row
 from router.grid import RoutingGrid
 from router.model import Board, Net, NetClass, Part
 from router.negotiate import _Negotiation, _pad_groups, route_board
-from router.realgen import _chip, _conn
+from router.realgen import _chip, _conn, _quad
 from router.units import TOL
 from test_exits import assert_traces_keep, crowded_row, fine_rules
 
@@ -43,6 +47,26 @@ def supply_mid_row() -> Board:
                  rules=rules, classes={"default": NetClass("default", 0.25, 0.2),
                                        "power": NetClass("power", 0.5, 0.2)},
                  footprints={k.name: k, c.name: c}, parts=parts, nets=nets)
+
+
+def stair_row() -> Board:
+    """The quad's bottom row 0.1 mm off the 0.25 mm grid with a 0.25 mm clearance: four signals
+    to 0402 chips on the left, two on the right, a 0.4 mm supply and ground to chips below right.
+    No two neighbours can step onto the grid at one depth, so the row needs a staircase deeper than
+    neck_length."""
+    q, c = _quad(32), _chip("0402")
+    parts = [Part("U1", q.name, at=(18.1, 16.0)),
+             Part("C1", c.name, at=(21.6, 10.0)), Part("C2", c.name, at=(23.0, 12.0), rotation=90),
+             Part("C3", c.name, at=(8.0, 13.0)), Part("C4", c.name, at=(8.0, 11.0)),
+             Part("C5", c.name, at=(8.0, 9.0)), Part("C6", c.name, at=(8.0, 7.0)),
+             Part("C7", c.name, at=(28.0, 9.0)), Part("C8", c.name, at=(28.0, 7.0))]
+    nets = [Net("VCC", ["U1.7", "C1.1", "C2.1"], "power"), Net("GND", ["U1.8", "C1.2", "C2.2"], "power"),
+            Net("S1", ["U1.1", "C3.2"]), Net("S2", ["U1.2", "C4.2"]), Net("S3", ["U1.3", "C5.2"]),
+            Net("S4", ["U1.4", "C6.2"]), Net("S5", ["U1.5", "C7.1"]), Net("S6", ["U1.6", "C8.1"])]
+    return Board("stair-row", [(2.0, 2.0), (34.0, 2.0), (34.0, 26.0), (2.0, 26.0)], copper_layers=2,
+                 rules=fine_rules(), classes={"default": NetClass("default", 0.25, 0.25),
+                                              "power": NetClass("power", 0.4, 0.25)},
+                 footprints={q.name: q, c.name: c}, parts=parts, nets=nets)
 
 
 def _plan(board):
@@ -168,6 +192,38 @@ def test_planned_row_routes_completely_and_clean(make):
     assert r.failed == {}
     assert [v for v in check(r.board) if v.rule != "open"] == []
     assert_traces_keep(r.board, 0.2)
+
+
+def test_stair_row_planned_deeper_than_the_shorter_exits_reach():
+    """The staircase row: the shortest exits and those a few grid rows further have no compatible
+    set, the staircase's rows have one (no greedy fallback); at least one chosen exit steps onto
+    the grid further from its pad than any of the earlier exits reach; every two chosen exits of
+    different nets keep 0.25 mm by shapely's own distances."""
+    board = stair_row()
+    grid, plan = _plan(board)
+    assert plan.notes == []
+    chosen = [c for k, c in sorted(plan.chosen.items()) if k[1] == "U1" and c.pad.y < 16.0]
+    assert len(chosen) == 7
+    _, nl = neck_of(board, board.classes["default"])
+    reach = max(nl, 2 * grid.pitch) + PLAN_DEEPER * grid.pitch
+    run = [sum(abs(a[0] - b[0]) + abs(a[1] - b[1]) for a, b in zip(list(c.path), list(c.path)[1:]))
+           for c in chosen]
+    assert max(run) > reach + TOL
+    for a, b in itertools.combinations(chosen, 2):
+        if a.net == b.net or a.cell[0] != b.cell[0]:
+            continue
+        for ga, ra in _pieces(grid, a):
+            for gb, rb in _pieces(grid, b):
+                assert ga.distance(gb) - ra - rb >= 0.25 - TOL, (a.net, b.net)
+
+
+def test_stair_row_routes_completely_and_clean():
+    """The staircase row routes completely, router.check finds nothing, and shapely's distances
+    between different nets' copper keep 0.25 mm."""
+    r = route_board(stair_row())
+    assert r.failed == {}
+    assert [v for v in check(r.board) if v.rule != "open"] == []
+    assert_traces_keep(r.board, 0.25)
 
 
 def test_pads_with_grid_points_are_not_planned():
