@@ -679,13 +679,18 @@ class RoutingGrid:
             got = memo[key] = (base, self._fixed_clear_of(net, a, b, layer, half, bx, base))
         if not got[1]:
             return False
-        if others is not None:
-            oboxes, omask, oneed = others
-            ox = np.maximum(np.maximum(oboxes[:, 0] - bx[2], 0.0), bx[0] - oboxes[:, 2])
-            oy = np.maximum(np.maximum(oboxes[:, 1] - bx[3], 0.0), bx[1] - oboxes[:, 3])
-            if np.any((np.hypot(ox, oy) < oneed + half - TOL) & ((omask >> layer) & 1).astype(bool)):
-                return False
-        return True
+        return others is None or self.clear_of(others, a, b, layer, width)
+
+    @staticmethod
+    def clear_of(others, a, b, layer: int, width: float) -> bool:
+        """True when a trace segment a-b (axis-parallel, or a point) keeps every required distance
+        from `others` (:meth:`obstacle_arrays` of copper laid for other nets) alone."""
+        half = width / 2
+        bx = (min(a[0], b[0]), min(a[1], b[1]), max(a[0], b[0]), max(a[1], b[1]))
+        oboxes, omask, oneed = others
+        ox = np.maximum(np.maximum(oboxes[:, 0] - bx[2], 0.0), bx[0] - oboxes[:, 2])
+        oy = np.maximum(np.maximum(oboxes[:, 1] - bx[3], 0.0), bx[1] - oboxes[:, 3])
+        return not np.any((np.hypot(ox, oy) < oneed + half - TOL) & ((omask >> layer) & 1).astype(bool))
 
     def _fixed_clear_of(self, net: str, a, b, layer: int, half: float, bx, base) -> bool:
         """:meth:`segment_clear` against the grid's fixed obstacles, the outline and the keepouts only."""

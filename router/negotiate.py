@@ -46,7 +46,7 @@ from .search import STEP
 from .spaces import NetSpaces
 from .tidy import polylines, trim_dangling
 from .units import TOL
-from .escape import ExitReserve, exit_conflicts
+from .escape import EscapeVia, ExitReserve, exit_conflicts
 from .viapass import MOVE_NEAR, VIA_TRADE, ViaCrowd, fewer_vias as _fewer_vias, move_blockers as _move_blockers
 
 __all__ = ["RouteResult", "route_board", "DEFAULT_BEND", "DEFAULT_VIA", "DEFAULT_JUMP", "DEFAULT_PASSES"]
@@ -100,6 +100,15 @@ LOCAL_MOST_PADS = 4
 #: REORDER_WINDOW of its pads; on the real-looking boards 3 and 4 the one that worked was among the first
 #: three of ten or fewer).
 SWAP_MOST = 12
+#: The swap's second way tries, for each lost net, at most this many of the nets its priced way
+#: shares cells with (our choice: the neighbours on either side of a row pad).
+STAKE_MOST = 4
+#: The row stake-out rips up the nets with a planned exit on a lost pad's part whose pads lie within
+#: this many mm of it (our choice: three pads each way at 0.5 mm pitch, two at 0.65).
+STAKE_REACH = 1.5
+#: ... and routes them and the lost net in at most this many orders: the lost net, then the nearest
+#: first; then each time the one left without a way first (our choice).
+STAKE_ORDERS = 3
 #: In repair at REPAIR_PRICE (big boards), a lost net whose way through the others expanded more than
 #: this many times the board's search states (layers x cells x headings) gets no other such way when
 #: lost again (our choice: on a board of 150 nets only a 17-pad bus across the board did, 1 to 3 s a
@@ -358,8 +367,11 @@ class _Negotiation:
             return escape_access(grid, space, key[0], pads[key], None, most=1, ways=10 ** 6,
                                  deeper=math.ceil(stair / grid.pitch - 1e-9), jog=STAIR_JOG * grid.pitch)
         self.fanout = FanoutPlan(grid, access, pads, more=deeper)
+        planned = grid.__dict__.setdefault("planned_exits", {})
         for key, c in self.fanout.chosen.items():      # a planned exit is one of the pad's own
             store[key].setdefault(c.cell, c.path)
+            if c.path is not None and not isinstance(c.path, EscapeVia):    # offered with walls too (nets._planned_access)
+                planned.setdefault(key, {})[c.cell] = c.path
 
     def conflicts(self, only=None) -> tuple[dict, list]:
         """Nets sharing cells with other nets: net -> number of shared cells (and of exits too
@@ -752,6 +764,8 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
     if lost and not _hopeless(neg, lost, beat):
         _swap(neg, lost)
     if lost and not _hopeless(neg, lost, beat):
+        _stake_row(neg, lost)
+    if lost and not _hopeless(neg, lost, beat):
         _fan_with_supplies(neg, lost, beat=beat, in_vain=fan_failed)
     if beat is not None and len(lost) > beat:
         return None, lost, npass, shared_left, set(neg.blind), work
@@ -1105,6 +1119,138 @@ def _swap(neg: _Negotiation, lost: dict) -> None:
                         neg.rip(n)
                     neg.rip(net)
                 neg.lay(n, old)
+            if net in lost and closed:
+                sharing = [n for n in ways if n not in lost and _few_pads(neg, n)][:STAKE_MOST]
+                if _stake_swap(neg, net, sharing, closed):
+                    del lost[net]
+                    again = True
+
+
+def _stake(neg: _Negotiation, net: str, cell: tuple, path) -> NetRoute:
+    """A route of `net` that holds only one exit of one of its pads (a stub or a neck, as the
+    access cache keeps it) and the exit's grid point: laid, it is a wall to strict routes of the
+    other nets."""
+    return _stakes(neg, net, [(cell, path)])
+
+
+def _stakes(neg: _Negotiation, net: str, exits: list) -> NetRoute:
+    """:func:`_stake` for several exits ((cell, path) each) of one net at once."""
+    r = NetRoute(net)
+    for cell, path in exits:
+        pts = list(path)
+        if pts[-1] != neg.grid.point(cell[1], cell[2]):
+            pts.append(neg.grid.point(cell[1], cell[2]))
+        w = getattr(path, "width", neg.width(net))
+        r.cells.add(tuple(cell))
+        if w < neg.width(net) - 1e-9:
+            r.necks.append((pts, cell[0], w))
+        else:
+            r.stubs.extend((a, b, cell[0]) for a, b in zip(pts, pts[1:]) if a != b)
+    return r
+
+
+def _stake_swap(neg: _Negotiation, net: str, names: list, closed: list) -> bool:
+    """The swap's second way, for a lost net whose pads `closed` have no exit: each net of
+    `names` in turn is ripped up and one of its exits from the same parts is staked out
+    (:func:`_stake`: its planned exit first, then the shorter ones); the lost net is routed with
+    walls round it, then the ripped-up net with walls, through the staked exit or any other. The
+    plain swap routes the lost net first through the cheapest exit, and on a fine-pitch row that
+    exit is often the one its neighbour needed (a neighbour steps onto the grid towards it). The
+    first pair that both route, sharing nothing, is kept; else the ripped-up net goes back."""
+    store = neg.grid.__dict__.get("_access_cache", {})
+    refs = {p.ref for p in closed}
+    for n in names:
+        keys = [(n, p.ref, p.index) for g in neg.groups[n] for p in g if p.ref in refs]
+        planned = {} if neg.fanout is None else neg.fanout.chosen
+        exits = []
+        for key in keys:
+            first = planned.get(key)
+            for cell, path in store.get(key, {}).items():
+                if path is None or isinstance(path, EscapeVia):
+                    continue
+                run = sum(abs(a[0] - b[0]) + abs(a[1] - b[1]) for a, b in zip(path, path[1:]))
+                exits.append((first is None or first.cell != cell, round(run, 6), cell, path))
+        if not exits:
+            continue
+        old = neg.routes[n]
+        neg.rip(n)
+        for _, _, cell, path in sorted(exits, key=lambda e: e[:3]):
+            neg.lay(n, _stake(neg, n, cell, path))
+            r = neg.route(net, strict=True, explain=False)
+            neg.rip(n)
+            if r.failed:
+                continue
+            neg.lay(net, r)
+            rn = neg.route(n, strict=True, explain=False)
+            if not rn.failed:
+                neg.lay(n, rn)
+                if not any(neg.conflicts(only=[net, n])[0].values()):
+                    return True
+                neg.rip(n)
+            neg.rip(net)
+        neg.lay(n, old)
+    return False
+
+
+def _stake_row(neg: _Negotiation, lost: dict) -> None:
+    """For each lost net of few pads whose pad on a fine-pitch part has no exit: that part's
+    fan-out is planned alone (:meth:`_Negotiation.plan_fanout`, on the board without routed
+    copper: one compatible exit per scarce pad), the nets with a planned exit on a pad within
+    :data:`STAKE_REACH` of the closed pad are ripped up and each is staked out at its planned exit
+    (:func:`_stake`); the lost net is routed with walls, then the ripped-up nets, nearest first,
+    each with its own stake taken up just before (and again, up to :data:`STAKE_ORDERS` orders,
+    with the one left without a way first, the lost net too). A staircase that no net finds alone (each
+    neighbour steps onto the grid at its own depth) is laid as the plan found it. Kept only when
+    every one of them routes and nothing is shared; else every route goes back as it was."""
+    saved = neg.fanout
+    try:
+        for net in [n for n in neg.nets if n in lost and n not in neg.blind and _few_pads(neg, n)]:
+            if net in neg.routes:
+                continue
+            closed = _closed_pads(neg, net)
+            for pad in closed:
+                neg.fanout = None
+                neg.plan_fanout(refs=[pad.ref])
+                plan = neg.fanout
+                if plan is None:
+                    continue
+                near = sorted((math.dist((c.pad.x, c.pad.y), (pad.x, pad.y)), key[0], key, c)
+                              for key, c in plan.chosen.items()
+                              if key[1] == pad.ref and key[0] != net and key[0] not in lost
+                              and key[0] in neg.routes and _few_pads(neg, key[0]) and c.path is not None
+                              and not isinstance(c.path, EscapeVia)
+                              and math.dist((c.pad.x, c.pad.y), (pad.x, pad.y)) <= STAKE_REACH + TOL)
+                names = list(dict.fromkeys(n for _, n, _, _ in near))
+                if not names:
+                    continue
+                snap = dict(neg.routes)
+                stakes = {}
+                for _, n, key, c in near:
+                    stakes.setdefault(n, []).append((c.cell, c.path))
+                order, ok = [net] + names, False
+                for _ in range(STAKE_ORDERS):
+                    for n in names:
+                        neg.rip(n)
+                        neg.lay(n, _stakes(neg, n, stakes[n]))
+                    failed = None
+                    for n in order:
+                        neg.rip(n)
+                        rn = neg.route(n, strict=True, explain=False)
+                        if rn.failed:
+                            failed = n
+                            break
+                        neg.lay(n, rn)
+                    ok = failed is None and not any(neg.conflicts(only=order)[0].values())
+                    if ok or failed is None or order[0] == failed:
+                        break
+                    neg.restore(snap)
+                    order = [failed] + [n for n in order if n != failed]    # the one left without a way first
+                if ok:
+                    del lost[net]
+                    break
+                neg.restore(snap)
+    finally:
+        neg.fanout = saved
 
 
 def _hopeless(neg: _Negotiation, lost: dict, beat: Optional[int], skip=()) -> bool:

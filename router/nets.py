@@ -276,10 +276,33 @@ def terminals(grid: RoutingGrid, space: SearchSpace, net: str, pad_groups: list[
                 acc = _access(grid, space, net, p, others)
                 if store is not None:
                     store[key] = acc
+                elif others is not None:
+                    acc = {**_planned_access(grid, space, net, key, others), **acc}
             for c, stub in acc.items():
                 if c not in t.cells or (t.cells[c] is not None and stub is None):
                     t.cells[c] = stub
         out.append(t)
+    return out
+
+
+def _planned_access(grid: RoutingGrid, space: SearchSpace, net: str, key: tuple, others) -> dict:
+    """The exits of pad `key` = (net, ref, pad index) that a fan-out plan chose
+    (``grid.planned_exits``, :meth:`router.negotiate._Negotiation.plan_fanout`) and that the
+    copper laid for other nets (`others`) leaves clear: offered to a route with walls as well,
+    which finds its exits again against the walls and, from the shortest, seldom reaches the
+    deeper rows of a planned staircase. A planned exit was measured against the fixed copper
+    when it was found, so only the walls are measured here."""
+    got = grid.__dict__.get("planned_exits", {}).get(key)
+    if not got:
+        return {}
+    out = {}
+    for (l, j, i), path in got.items():
+        if not space.open_cell[l, j, i]:
+            continue
+        pts = list(path) + [grid.point(j, i)]
+        w = getattr(path, "width", grid.profile_of(net).width)
+        if all(grid.clear_of(others, a, b, l, w) for a, b in zip(pts, pts[1:]) if a != b):
+            out[(l, j, i)] = path
     return out
 
 

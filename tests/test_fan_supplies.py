@@ -45,9 +45,11 @@ def quad_side() -> Board:
 
 
 def test_the_shortest_exits_leave_the_side_without_a_compatible_set(monkeypatch):
-    """With only the shortest exits (as many as before the further ones), the side's five signals,
-    supply and ground have no compatible set: the plan falls back to greedy and says so."""
+    """With only the shortest exits (as many as before the further ones, and no staircase rows
+    below the first), the side's five signals, supply and ground have no compatible set: the plan
+    falls back to greedy and says so."""
     monkeypatch.setattr(fanout, "MORE_EXITS", fanout.PLAN_EXITS)
+    monkeypatch.setattr(fanout, "stair_depth", lambda grid, nets: 0.0)
     _, plan = _plan(quad_side())
     assert len(plan.notes) == 1 and "planned greedily" in plan.notes[0]
     assert "U1.7" in plan.notes[0]
