@@ -1195,62 +1195,75 @@ def _stake_swap(neg: _Negotiation, net: str, names: list, closed: list) -> bool:
 def _stake_row(neg: _Negotiation, lost: dict) -> None:
     """For each lost net of few pads whose pad on a fine-pitch part has no exit: that part's
     fan-out is planned alone (:meth:`_Negotiation.plan_fanout`, on the board without routed
-    copper: one compatible exit per scarce pad), the nets with a planned exit on a pad within
-    :data:`STAKE_REACH` of the closed pad are ripped up and each is staked out at its planned exit
-    (:func:`_stake`); the lost net is routed with walls, then the ripped-up nets, nearest first,
-    each with its own stake taken up just before (and again, up to :data:`STAKE_ORDERS` orders,
-    with the one left without a way first, the lost net too). A staircase that no net finds alone (each
-    neighbour steps onto the grid at its own depth) is laid as the plan found it. Kept only when
-    every one of them routes and nothing is shared; else every route goes back as it was."""
+    copper: one compatible exit per scarce pad), and the nets of few pads with a planned exit on
+    a pad within :data:`STAKE_REACH` of the closed pad, routed or lost, are staked out at their
+    planned exits (:func:`_stakes`; the routed ones ripped up first). The lost net is routed with
+    walls, then the others, nearest first, each with its own stake taken up just before (and
+    again, up to :data:`STAKE_ORDERS` orders, with the one left without a way first, the lost net
+    too). A staircase that no net finds alone (each neighbour steps onto the grid at its own
+    depth) is laid as the plan found it. Kept only when the lost net and every net that was
+    routed before route and nothing is shared (the other lost nets that route come back too);
+    else every route goes back as it was."""
     saved = neg.fanout
+    again = True
     try:
-        for net in [n for n in neg.nets if n in lost and n not in neg.blind and _few_pads(neg, n)]:
-            if net in neg.routes:
-                continue
-            closed = _closed_pads(neg, net)
-            for pad in closed:
-                neg.fanout = None
-                neg.plan_fanout(refs=[pad.ref])
-                plan = neg.fanout
-                if plan is None:
+        while again:                     # lost nets tried again while one of them comes back
+            again = False
+            for net in [n for n in neg.nets if n in lost and n not in neg.blind and _few_pads(neg, n)]:
+                if net in neg.routes or net not in lost:
                     continue
-                near = sorted((math.dist((c.pad.x, c.pad.y), (pad.x, pad.y)), key[0], key, c)
-                              for key, c in plan.chosen.items()
-                              if key[1] == pad.ref and key[0] != net and key[0] not in lost
-                              and key[0] in neg.routes and _few_pads(neg, key[0]) and c.path is not None
-                              and not isinstance(c.path, EscapeVia)
-                              and math.dist((c.pad.x, c.pad.y), (pad.x, pad.y)) <= STAKE_REACH + TOL)
-                names = list(dict.fromkeys(n for _, n, _, _ in near))
-                if not names:
-                    continue
-                snap = dict(neg.routes)
-                stakes = {}
-                for _, n, key, c in near:
-                    stakes.setdefault(n, []).append((c.cell, c.path))
-                order, ok = [net] + names, False
-                for _ in range(STAKE_ORDERS):
-                    for n in names:
-                        neg.rip(n)
-                        neg.lay(n, _stakes(neg, n, stakes[n]))
-                    failed = None
-                    for n in order:
-                        neg.rip(n)
-                        rn = neg.route(n, strict=True, explain=False)
-                        if rn.failed:
-                            failed = n
-                            break
-                        neg.lay(n, rn)
-                    ok = failed is None and not any(neg.conflicts(only=order)[0].values())
-                    if ok or failed is None or order[0] == failed:
+                for pad in _closed_pads(neg, net):
+                    neg.fanout = None
+                    neg.plan_fanout(refs=[pad.ref])
+                    if neg.fanout is not None and _stake_part(neg, lost, net, pad, neg.fanout):
+                        again = True
                         break
-                    neg.restore(snap)
-                    order = [failed] + [n for n in order if n != failed]    # the one left without a way first
-                if ok:
-                    del lost[net]
-                    break
-                neg.restore(snap)
     finally:
         neg.fanout = saved
+
+
+def _stake_part(neg: _Negotiation, lost: dict, net: str, pad, plan) -> bool:
+    """One try of :func:`_stake_row`: `net`'s closed `pad`, `plan` its part's fan-out."""
+    near = sorted((math.dist((c.pad.x, c.pad.y), (pad.x, pad.y)), key[0], key, c)
+                  for key, c in plan.chosen.items()
+                  if key[1] == pad.ref and key[0] != net and key[0] not in neg.blind
+                  and _few_pads(neg, key[0]) and c.path is not None and not isinstance(c.path, EscapeVia)
+                  and math.dist((c.pad.x, c.pad.y), (pad.x, pad.y)) <= STAKE_REACH + TOL)
+    names = [n for n in dict.fromkeys(n for _, n, _, _ in near) if n in neg.routes or n in lost]
+    must = [net] + [n for n in names if n not in lost]
+    if len(must) == 1:
+        return False
+    stakes: dict = {}
+    for _, n, _, c in near:
+        stakes.setdefault(n, []).append((c.cell, c.path))
+    snap = dict(neg.routes)
+    order = [net] + names
+    for _ in range(STAKE_ORDERS):
+        for n in names:
+            neg.rip(n)
+            neg.lay(n, _stakes(neg, n, stakes[n]))
+        failed = None
+        for n in order:
+            neg.rip(n)
+            rn = neg.route(n, strict=True, explain=False)
+            if not rn.failed:
+                neg.lay(n, rn)
+            elif n in must:
+                failed = n
+                break
+        if failed is None:
+            if not any(neg.conflicts(only=[n for n in order if n in neg.routes])[0].values()):
+                for n in order:
+                    if n in lost and n in neg.routes:
+                        del lost[n]
+                return True
+            break
+        neg.restore(snap)
+        if order[0] == failed:
+            break
+        order = [failed] + [n for n in order if n != failed]    # the one left without a way first
+    neg.restore(snap)
+    return False
 
 
 def _hopeless(neg: _Negotiation, lost: dict, beat: Optional[int], skip=()) -> bool:

@@ -22,7 +22,7 @@ from router.escape import neck_of
 from router.fanout import PLAN_DEEPER, plan_row
 from router.grid import RoutingGrid
 from router.model import Board, Net, NetClass, Part
-from router.negotiate import _Negotiation, _pad_groups, route_board
+from router.negotiate import _Negotiation, _pad_groups, _stake_row, _stakes, _write, route_board
 from router.realgen import _chip, _conn, _quad
 from router.units import TOL
 from test_exits import assert_traces_keep, crowded_row, fine_rules
@@ -224,6 +224,59 @@ def test_stair_row_routes_completely_and_clean():
     assert r.failed == {}
     assert [v for v in check(r.board) if v.rule != "open"] == []
     assert_traces_keep(r.board, 0.25)
+
+
+def _greedy_row():
+    """The staircase row's nets routed with walls one at a time, the row's neighbours first:
+    the negotiation as it stands when a lost pad's neighbours took its exits."""
+    board = stair_row()
+    grid = RoutingGrid(board)
+    neg = _Negotiation(board, grid, [n.name for n in board.nets], _pad_groups(board, grid),
+                       bend=400, via=800, jump=2000)
+    lost = {}
+    for n in ["S3", "S5", "S2", "S6", "S1", "VCC", "GND", "S4"]:
+        r = neg.route(n, strict=True)
+        if r.failed:
+            lost[n] = r.failed
+        else:
+            neg.lay(n, r)
+    return board, grid, neg, lost
+
+
+def test_a_route_with_walls_is_offered_the_planned_exits():
+    """S4's planned exit (a staircase row deeper than the exits a route finds alone) staked
+    among its neighbours' planned exits: with walls, S4 routes through it only while the plan's
+    exits are offered (grid.planned_exits), and finds no exit without them."""
+    board = stair_row()
+    grid = RoutingGrid(board)
+    neg = _Negotiation(board, grid, [n.name for n in board.nets], _pad_groups(board, grid),
+                       bend=400, via=800, jump=2000)
+    neg.plan_fanout()
+    chosen = {k[0]: c for k, c in neg.fanout.chosen.items() if k[1] == "U1" and c.pad.y < 16.0}
+    for n in ("S3", "S5", "S6", "VCC"):
+        neg.lay(n, _stakes(neg, n, [(chosen[n].cell, chosen[n].path)]))
+    assert not neg.route("S4", strict=True).failed
+    planned = grid.planned_exits
+    grid.planned_exits = {}
+    assert "every exit to the grid is taken" in neg.route("S4", strict=True).failed
+    grid.planned_exits = planned
+
+
+def test_stake_row_brings_back_row_nets_whose_exits_neighbours_took():
+    """Routed with walls one at a time, S4 and S6 find every exit taken by their neighbours; the
+    row stake-out lays the part's planned fan-out and brings both back, every net that was
+    routed still routed, nothing shared; the written board has no violation but the lost net's
+    opens (router.check), and shapely's distances keep 0.25 mm."""
+    board, grid, neg, lost = _greedy_row()
+    assert {"S4", "S6"} <= set(lost)
+    routed = set(neg.routes)
+    _stake_row(neg, lost)
+    assert "S4" not in lost and "S6" not in lost
+    assert routed | {"S4", "S6"} <= set(neg.routes)
+    assert not any(neg.conflicts()[0].values())
+    _write(board, grid, neg, [n.name for n in board.nets])
+    assert [v for v in check(board) if v.rule != "open"] == []
+    assert_traces_keep(board, 0.25)
 
 
 def test_pads_with_grid_points_are_not_planned():
