@@ -1193,11 +1193,10 @@ def _stake_swap(neg: _Negotiation, net: str, names: list, closed: list) -> bool:
 
 
 def _stake_row(neg: _Negotiation, lost: dict) -> None:
-    """For each lost net of few pads whose pad on a fine-pitch part has no exit: that part's
-    fan-out is planned alone (:meth:`_Negotiation.plan_fanout`, on the board without routed
-    copper: one compatible exit per scarce pad), and the nets of few pads with a planned exit on
-    a pad within :data:`STAKE_REACH` of the closed pad, routed or lost, are staked out at their
-    planned exits (:func:`_stakes`; the routed ones ripped up first). The lost net is routed with
+    """For each lost net whose pads on fine-pitch parts have no exit: each such part's fan-out is
+    planned alone (:meth:`_Negotiation.plan_fanout`, on the board without routed copper: one
+    compatible exit per scarce pad), and the nets of few pads with a planned exit on a pad within
+    :data:`STAKE_REACH` of a closed pad, routed or lost, are staked out at their planned exits (:func:`_stakes`; the routed ones ripped up first). The lost net is routed with
     walls, then the others, nearest first, each with its own stake taken up just before (and
     again, up to :data:`STAKE_ORDERS` orders, with the one left without a way first, the lost net
     too). A staircase that no net finds alone (each neighbour steps onto the grid at its own
@@ -1209,26 +1208,32 @@ def _stake_row(neg: _Negotiation, lost: dict) -> None:
     try:
         while again:                     # lost nets tried again while one of them comes back
             again = False
-            for net in [n for n in neg.nets if n in lost and n not in neg.blind and _few_pads(neg, n)]:
+            for net in [n for n in neg.nets if n in lost and n not in neg.blind]:
                 if net in neg.routes or net not in lost:
                     continue
-                for pad in _closed_pads(neg, net):
+                closed = _closed_pads(neg, net)
+                plans = {}
+                for ref in sorted({p.ref for p in closed}):
                     neg.fanout = None
-                    neg.plan_fanout(refs=[pad.ref])
-                    if neg.fanout is not None and _stake_part(neg, lost, net, pad, neg.fanout):
-                        again = True
-                        break
+                    neg.plan_fanout(refs=[ref])
+                    if neg.fanout is not None:
+                        plans[ref] = neg.fanout
+                if plans and _stake_part(neg, lost, net, [p for p in closed if p.ref in plans], plans):
+                    again = True
     finally:
         neg.fanout = saved
 
 
-def _stake_part(neg: _Negotiation, lost: dict, net: str, pad, plan) -> bool:
-    """One try of :func:`_stake_row`: `net`'s closed `pad`, `plan` its part's fan-out."""
-    near = sorted((math.dist((c.pad.x, c.pad.y), (pad.x, pad.y)), key[0], key, c)
-                  for key, c in plan.chosen.items()
-                  if key[1] == pad.ref and key[0] != net and key[0] not in neg.blind
-                  and _few_pads(neg, key[0]) and c.path is not None and not isinstance(c.path, EscapeVia)
-                  and math.dist((c.pad.x, c.pad.y), (pad.x, pad.y)) <= STAKE_REACH + TOL)
+def _stake_part(neg: _Negotiation, lost: dict, net: str, closed: list, plans: dict) -> bool:
+    """One try of :func:`_stake_row`: `net`'s `closed` pads, `plans` their parts' fan-outs."""
+    found = []
+    for pad in closed:
+        found.extend((math.dist((c.pad.x, c.pad.y), (pad.x, pad.y)), key[0], key, c)
+                     for key, c in plans[pad.ref].chosen.items()
+                     if key[1] == pad.ref and key[0] != net and key[0] not in neg.blind
+                     and _few_pads(neg, key[0]) and c.path is not None and not isinstance(c.path, EscapeVia)
+                     and math.dist((c.pad.x, c.pad.y), (pad.x, pad.y)) <= STAKE_REACH + TOL)
+    near = sorted({e[2]: e for e in sorted(found)}.values())       # each planned exit once, at its nearest
     names = [n for n in dict.fromkeys(n for _, n, _, _ in near) if n in neg.routes or n in lost]
     must = [net] + [n for n in names if n not in lost]
     if len(must) == 1:
