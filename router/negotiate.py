@@ -1212,20 +1212,25 @@ def _stake_row(neg: _Negotiation, lost: dict) -> None:
                 if net in neg.routes or net not in lost:
                     continue
                 closed = _closed_pads(neg, net)
-                plans = {}
-                for ref in sorted({p.ref for p in closed}):
-                    neg.fanout = None
-                    neg.plan_fanout(refs=[ref])
-                    if neg.fanout is not None:
+                plans: dict = {}
+                for _ in range(STAKE_ORDERS):
+                    for ref in sorted({p.ref for p in closed} - set(plans)):
+                        neg.fanout = None
+                        neg.plan_fanout(refs=[ref])
                         plans[ref] = neg.fanout
-                if plans and _stake_part(neg, lost, net, [p for p in closed if p.ref in plans], plans):
-                    again = True
+                    got = _stake_part(neg, lost, net, [p for p in closed if plans[p.ref] is not None], plans)
+                    if got is True:
+                        again = True
+                    if got is True or got is None or got in closed:
+                        break
+                    closed.append(got)       # the net found another pad closed once the stakes were laid
     finally:
         neg.fanout = saved
 
 
-def _stake_part(neg: _Negotiation, lost: dict, net: str, closed: list, plans: dict) -> bool:
-    """One try of :func:`_stake_row`: `net`'s `closed` pads, `plans` their parts' fan-outs."""
+def _stake_part(neg: _Negotiation, lost: dict, net: str, closed: list, plans: dict):
+    """One try of :func:`_stake_row`: `net`'s `closed` pads, `plans` their parts' fan-outs.
+    True when kept; else the pad of `net` that its route found closed (None: none)."""
     found = []
     for pad in closed:
         found.extend((math.dist((c.pad.x, c.pad.y), (pad.x, pad.y)), key[0], key, c)
@@ -1237,12 +1242,13 @@ def _stake_part(neg: _Negotiation, lost: dict, net: str, closed: list, plans: di
     names = [n for n in dict.fromkeys(n for _, n, _, _ in near) if n in neg.routes or n in lost]
     must = [net] + [n for n in names if n not in lost]
     if len(must) == 1:
-        return False
+        return None
     stakes: dict = {}
     for _, n, _, c in near:
         stakes.setdefault(n, []).append((c.cell, c.path))
     snap = dict(neg.routes)
     order = [net] + names
+    shut = None
     for _ in range(STAKE_ORDERS):
         for n in names:
             neg.rip(n)
@@ -1255,6 +1261,8 @@ def _stake_part(neg: _Negotiation, lost: dict, net: str, closed: list, plans: di
                 neg.lay(n, rn)
             elif n in must:
                 failed = n
+                if n == net and rn.closed is not None:
+                    shut = rn.closed
                 break
         if failed is None:
             if not any(neg.conflicts(only=[n for n in order if n in neg.routes])[0].values()):
@@ -1268,7 +1276,7 @@ def _stake_part(neg: _Negotiation, lost: dict, net: str, closed: list, plans: di
             break
         order = [failed] + [n for n in order if n != failed]    # the one left without a way first
     neg.restore(snap)
-    return False
+    return shut
 
 
 def _hopeless(neg: _Negotiation, lost: dict, beat: Optional[int], skip=()) -> bool:

@@ -68,6 +68,7 @@ class NetRoute:
     failed: Optional[str] = None
     blind: bool = False                          # failed because a pad has no way to the grid at all
     necks: list = field(default_factory=list)    # (points, layer index, width): pad exits narrower than the class (router.escape)
+    closed: Optional[object] = None              # the PlacedPad whose every exit other nets' copper took (failed: TAKEN)
     # what the negotiation laid for this route on a grid (negotiate._Negotiation.lay): (grid, net, soft items,
     # own counts, off-grid items), made once; a route is not changed once made, so it is laid again as it was
     laid: Optional[tuple] = field(default=None, repr=False, compare=False)
@@ -481,6 +482,7 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
         # fixed copper's own space: the walled space has the routed copper's cells closed too)
         route.failed = (f"pad {blind[0].name}: {TAKEN} "
                         f"(for a {grid.profile_of(net).width:g} mm trace)")
+        route.closed = blind[0].pads[0]
         return route
     if blind:
         from .blockage import pad_closed_by      # name what closes the pad in (router.blockage)
