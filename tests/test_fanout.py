@@ -26,6 +26,7 @@ from router.negotiate import _Negotiation, _pad_groups, _stake_row, _stakes, _wr
 from router.realgen import _chip, _conn, _quad
 from router.units import TOL
 from test_exits import assert_traces_keep, crowded_row, fine_rules
+from test_reorder_planned import _walled
 
 
 def supply_mid_row() -> Board:
@@ -229,18 +230,7 @@ def test_stair_row_routes_completely_and_clean():
 def _greedy_row():
     """The staircase row's nets routed with walls one at a time, the row's neighbours first:
     the negotiation as it stands when a lost pad's neighbours took its exits."""
-    board = stair_row()
-    grid = RoutingGrid(board)
-    neg = _Negotiation(board, grid, [n.name for n in board.nets], _pad_groups(board, grid),
-                       bend=400, via=800, jump=2000)
-    lost = {}
-    for n in ["S3", "S5", "S2", "S6", "S1", "VCC", "GND", "S4"]:
-        r = neg.route(n, strict=True)
-        if r.failed:
-            lost[n] = r.failed
-        else:
-            neg.lay(n, r)
-    return board, grid, neg, lost
+    return _walled(["S3", "S5", "S2", "S6", "S1", "VCC", "GND", "S4"], stair_row)
 
 
 def test_a_route_with_walls_is_offered_the_planned_exits():

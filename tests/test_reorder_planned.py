@@ -29,9 +29,9 @@ from router.units import TOL
 from test_exits import assert_traces_keep, crowded_row
 
 
-def _walled(order):
-    """crowded_row's nets routed once each in `order`, every net before as walls."""
-    b = crowded_row()
+def _walled(order, make=crowded_row):
+    """The nets of `make`'s board (crowded_row) routed once each in `order`, every net before as walls."""
+    b = make()
     grid = RoutingGrid(b)
     neg = _Negotiation(b, grid, order, _pad_groups(b, grid), bend=400, via=800, jump=2000)
     lost = {}
