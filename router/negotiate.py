@@ -1196,10 +1196,11 @@ def _stake_row(neg: _Negotiation, lost: dict) -> None:
     """For each lost net whose pads on fine-pitch parts have no exit: each such part's fan-out is
     planned alone (:meth:`_Negotiation.plan_fanout`, on the board without routed copper: one
     compatible exit per scarce pad), and the nets of few pads with a planned exit on a pad within
-    :data:`STAKE_REACH` of a closed pad, routed or lost, are staked out at their planned exits (:func:`_stakes`; the routed ones ripped up first). The lost net is routed with
-    walls, then the others, nearest first, each with its own stake taken up just before (and
-    again, up to :data:`STAKE_ORDERS` orders, with the one left without a way first, the lost net
-    too). A staircase that no net finds alone (each neighbour steps onto the grid at its own
+    :data:`STAKE_REACH` of a closed pad, routed or lost, are staked out at their planned exits
+    (:func:`_stakes`; the routed ones ripped up first). The lost net is routed with walls, then
+    the others, nearest first, each with its own stake taken up just before (and again, up to
+    :data:`STAKE_ORDERS` orders, with the one left without a way first, the lost net too; a pad
+    the lost net's route finds closed once the stakes are laid joins the closed ones). A staircase that no net finds alone (each neighbour steps onto the grid at its own
     depth) is laid as the plan found it. Kept only when the lost net and every net that was
     routed before route and nothing is shared (the other lost nets that route come back too);
     else every route goes back as it was."""
