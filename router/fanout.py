@@ -34,7 +34,7 @@ from shapely.geometry import LineString, Point
 from .escape import SCARCE, EscapeVia, Neck, _body_centre
 from .units import TOL
 
-__all__ = ["PLAN_STEPS", "PLAN_EXITS", "MORE_EXITS", "PLAN_DEEPER", "STAIR_JOG", "stair_depth", "Candidate", "scarce", "candidates", "compatible", "plan_row", "FanoutPlan"]
+__all__ = ["PLAN_STEPS", "PLAN_EXITS", "MORE_EXITS", "PLAN_DEEPER", "STAIR_JOG", "STAIR_EXITS", "stair_depth", "Candidate", "scarce", "candidates", "compatible", "plan_row", "FanoutPlan"]
 
 #: The price, in grid steps per grid point, another net pays for its copper or via within reach
 #: of a planned exit (and once more for a candidate exit of its own that comes too close to
@@ -55,6 +55,10 @@ PLAN_DEEPER = 2
 #: (:func:`stair_depth`; our choice: a staircase's steps need one or two, and the rows of a deep
 #: staircase would otherwise be crowded out by wide runs near the pads).
 STAIR_JOG = 2
+#: At most this many exits of each pad are weighed at that last planning, the shortest first (our
+#: choice: the programme's time grows with the cube of it; 64 reach 12 grid rows of a 0.25 mm grid,
+#: see docs/measurements.md).
+STAIR_EXITS = 64
 #: A bend of an exit counts as this many grid pitches of length in the plan's cost (our choice).
 BEND_PITCHES = 1.0
 
@@ -248,8 +252,8 @@ class FanoutPlan:
         (net, ref, pad index) -> PlacedPad.
     more : callable, optional
         ((net, ref, pad index), stair) -> more exits of that pad ({access cell: path}): with
-        `stair` None, :data:`MORE_EXITS` each way; else exits up to `stair` mm deeper whose
-        sideways run is at most :data:`STAIR_JOG` grid pitches. A side of a part with no
+        `stair` None, :data:`MORE_EXITS` each way; else the :data:`STAIR_EXITS` shortest exits up
+        to `stair` mm deeper whose sideways run is at most :data:`STAIR_JOG` grid pitches. A side of a part with no
         compatible set among the pads' `access` is planned again with the first, then with the
         second and the pads' `access` (:func:`stair_depth`), before it is planned greedily.
 

@@ -332,7 +332,7 @@ class _Negotiation:
         access cache that the first pass would fill. `refs`: plan only these parts (the local
         re-order, :func:`_reorder_local`)."""
         from .escape import escape_access, own_gaps, pad_vias
-        from .fanout import MORE_EXITS, PLAN_DEEPER, PLAN_EXITS, STAIR_JOG, FanoutPlan, scarce
+        from .fanout import MORE_EXITS, PLAN_DEEPER, PLAN_EXITS, STAIR_EXITS, STAIR_JOG, FanoutPlan, scarce
         grid = self.grid
         profs = list(grid.profiles.values())
         wide = max(2 * p.half for p in profs) + 2 * max(v for p in profs for v in p.clearance_to.values())
@@ -363,8 +363,8 @@ class _Negotiation:
             if stair is None:
                 return escape_access(grid, space, key[0], pads[key], None, most=MORE_EXITS, ways=MORE_EXITS,
                                      deeper=PLAN_DEEPER)
-            # every short step of the first way out that has any, down to the staircase's depth
-            return escape_access(grid, space, key[0], pads[key], None, most=1, ways=10 ** 6,
+            # the shortest short steps of the first way out that has any, down to the staircase's depth
+            return escape_access(grid, space, key[0], pads[key], None, most=1, ways=STAIR_EXITS,
                                  deeper=math.ceil(stair / grid.pitch - 1e-9), jog=STAIR_JOG * grid.pitch)
         self.fanout = FanoutPlan(grid, access, pads, more=deeper)
         planned = grid.__dict__.setdefault("planned_exits", {})
