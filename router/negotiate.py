@@ -1126,15 +1126,10 @@ def _swap(neg: _Negotiation, lost: dict) -> None:
                     again = True
 
 
-def _stake(neg: _Negotiation, net: str, cell: tuple, path) -> NetRoute:
-    """A route of `net` that holds only one exit of one of its pads (a stub or a neck, as the
-    access cache keeps it) and the exit's grid point: laid, it is a wall to strict routes of the
-    other nets."""
-    return _stakes(neg, net, [(cell, path)])
-
-
 def _stakes(neg: _Negotiation, net: str, exits: list) -> NetRoute:
-    """:func:`_stake` for several exits ((cell, path) each) of one net at once."""
+    """A route of `net` that holds only some exits ((cell, path) each: a stub or a neck, as the
+    access cache keeps it) of its pads and their grid points: laid, it is a wall to strict routes
+    of the other nets."""
     r = NetRoute(net)
     for cell, path in exits:
         pts = list(path)
@@ -1152,7 +1147,7 @@ def _stakes(neg: _Negotiation, net: str, exits: list) -> NetRoute:
 def _stake_swap(neg: _Negotiation, net: str, names: list, closed: list) -> bool:
     """The swap's second way, for a lost net whose pads `closed` have no exit: each net of
     `names` in turn is ripped up and one of its exits from the same parts is staked out
-    (:func:`_stake`: its planned exit first, then the shorter ones); the lost net is routed with
+    (:func:`_stakes`: its planned exit first, then the shorter ones); the lost net is routed with
     walls round it, then the ripped-up net with walls, through the staked exit or any other. The
     plain swap routes the lost net first through the cheapest exit, and on a fine-pitch row that
     exit is often the one its neighbour needed (a neighbour steps onto the grid towards it). The
@@ -1175,7 +1170,7 @@ def _stake_swap(neg: _Negotiation, net: str, names: list, closed: list) -> bool:
         old = neg.routes[n]
         neg.rip(n)
         for _, _, cell, path in sorted(exits, key=lambda e: e[:3]):
-            neg.lay(n, _stake(neg, n, cell, path))
+            neg.lay(n, _stakes(neg, n, [(cell, path)]))
             r = neg.route(net, strict=True, explain=False)
             neg.rip(n)
             if r.failed:
