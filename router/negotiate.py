@@ -1201,6 +1201,7 @@ def _stake_row(neg: _Negotiation, lost: dict) -> None:
     else every route goes back as it was."""
     saved = neg.fanout
     again = True
+    plans: dict = {}                     # ref -> its part's plan, on the board without routed copper: made once
     try:
         while again:                     # lost nets tried again while one of them comes back
             again = False
@@ -1208,7 +1209,6 @@ def _stake_row(neg: _Negotiation, lost: dict) -> None:
                 if net in neg.routes or net not in lost:
                     continue
                 closed = _closed_pads(neg, net)
-                plans: dict = {}
                 for _ in range(STAKE_ORDERS):
                     for ref in sorted({p.ref for p in closed} - set(plans)):
                         neg.fanout = None
