@@ -1245,6 +1245,7 @@ def _stake_part(neg: _Negotiation, lost: dict, net: str, closed: list, plans: di
     snap = dict(neg.routes)
     order = [net] + names
     shut = None
+    tried: set = set()
     for _ in range(STAKE_ORDERS):
         for n in names:
             neg.rip(n)
@@ -1268,9 +1269,10 @@ def _stake_part(neg: _Negotiation, lost: dict, net: str, closed: list, plans: di
                 return True
             break
         neg.restore(snap)
-        if order[0] == failed:
-            break
+        tried.add(tuple(order))
         order = [failed] + [n for n in order if n != failed]    # the one left without a way first
+        if tuple(order) in tried:        # (an order tried before fails as it did)
+            break
     neg.restore(snap)
     return shut
 

@@ -2,11 +2,11 @@
 
 Usage::
 
-    python scripts/stress_real.py --seeds A B [--nets N ...] [--baseline DIR | --no-baseline]
+    python scripts/stress_real.py (--seeds A B [--nets N ...] | --boards SEED:NETS ...) [--baseline DIR | --no-baseline]
                                   [--commit REV] [--save DIR] [--angled] [--generated] [--grid MM] [--mil] [--via-penalty V]
 
 Each seed in ``A .. B-1`` makes one board with ``real_board(seed, nets)`` (the nets cycle through
-``--nets``, default 30 60 100 150 200; ``--grid`` routes it on another pitch; ``--mil`` gives it the
+``--nets``, default 30 60 100 150 200; ``--boards 6:120 17:100`` routes just those boards; ``--grid`` routes it on another pitch; ``--mil`` gives it the
 inch-based grid and classes of many real designs). The board is routed in this process with today's code,
 and, unless ``--no-baseline``, by the router of another checkout (``--baseline DIR``, default
 ``/tmp/elbowroom-baseline`` for REV 9bd7d45, the router before pad escape, else
@@ -124,10 +124,24 @@ def _to_mil(board) -> None:
         cls.clearance = 0.2032
 
 
+def _board_spec(text: str) -> tuple:
+    """SEED:NETS (--boards) as (seed, nets)."""
+    try:
+        seed, nets = (int(v) for v in text.split(":"))
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r}: give a board as SEED:NETS, e.g. 6:120") from None
+    if nets < 1:
+        raise argparse.ArgumentTypeError(f"{text!r}: a board needs at least one net")
+    return seed, nets
+
+
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--seeds", nargs=2, type=int, default=[0, 5], metavar=("A", "B"))
     ap.add_argument("--nets", nargs="+", type=int, default=[30, 60, 100, 150, 200])
+    ap.add_argument("--boards", nargs="+", type=_board_spec, default=None, metavar="SEED:NETS",
+                    help="just these boards, each real_board(SEED, NETS), instead of --seeds and --nets "
+                         "(the boards a set lost nets on, measured again against the baseline)")
     ap.add_argument("--baseline", type=Path, default=None,
                     help="the reference checkout (default /tmp/elbowroom-baseline for 9bd7d45, else /tmp/elbowroom-REV)")
     ap.add_argument("--commit", default="9bd7d45")
@@ -168,8 +182,8 @@ def main(argv=None) -> int:
     clean = True
     with tempfile.TemporaryDirectory() as td:
         tmp = Path(td)
-        for k, seed in enumerate(range(*args.seeds)):
-            n = args.nets[k % len(args.nets)]
+        todo = args.boards or [(seed, args.nets[k % len(args.nets)]) for k, seed in enumerate(range(*args.seeds))]
+        for seed, n in todo:
             made = (generate_board(seed, nets=n, size=_generated_size(n)) if args.generated
                     else real_board(seed, n, angled=args.angled))
             if args.mil:
