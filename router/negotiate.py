@@ -548,7 +548,7 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
         other net orders (drawn from the seed), before them once in the same order with the
         fine-pitch parts fanned out (`fanout_first`) and after them once in the same order with
         the lanes out of fine-pitch row pads' outer ends priced for other nets' vias
-        (:class:`router.escape.ExitReserve` with ``lanes``), and keep the routing that leaves
+        (:class:`router.escape.ExitReserve` with ``lanes``), then once with both, and keep the routing that leaves
         fewest unrouted (of those, the one with fewest vias);
         only on boards of at most :data:`BIG_WORK` nets x grid cells (a bigger board relies on
         the local re-order of the nets near an unrouted net's pads instead).
@@ -614,9 +614,11 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
         # the first other try: the same net order with the fine-pitch parts fanned out first
         # (router.fanout); made only where the plain first order leaves nets unrouted; the last: the
         # same order with the lanes out of row pads' outer ends kept free of other nets' vias
-        # (ExitReserve lanes), made only where every other try leaves nets unrouted
+        # (ExitReserve lanes), made only where every other try leaves nets unrouted; and after it, both
+        # at once (a pad whose planned exit a neighbour's via closes just beyond the row)
         tries.insert(1, (0, True, False))
         tries.append((0, False, True))
+        tries.append((0, True, True))
     for attempt, plan, lanes in tries:
         got = _attempt(start, todo_names, seed, attempt, bend, via, jump, passes, progress, polish, every_net,
                        fewer_vias, plan=plan, lanes=lanes, beat=None if best is None else len(best[1]),

@@ -66,3 +66,23 @@ def test_a_losing_try_stops_after_repair_and_the_board_is_the_same(monkeypatch):
     assert dumps_board(cut.board) == dumps_board(full.board)
     assert cut.failed == full.failed == {}
     assert [v for v in check(cut.board) if v.rule != "open"] == []
+
+
+def test_the_last_try_plans_the_fan_out_and_prices_the_lanes_at_once(monkeypatch):
+    """After the try with the lanes priced, one more in the first order with the fan-out planned as
+    well: a pad whose planned exit a neighbour's via closes just beyond the row needs both (angled
+    real_board(15, 30): only that try routes every net, docs/measurements.md). Each try here is
+    a stand-in that loses S4 unless it plans and prices the lanes; the board kept is that try's,
+    and no try comes after a complete one (common practice: the fewest unrouted nets win)."""
+    made = []
+
+    def stand_in(start, todo, seed, attempt, *a, plan=False, lanes=False, **kw):
+        made.append((attempt, plan, lanes))
+        lost = {} if plan and lanes else {"S4": "lost by the test"}
+        return start.copy(), lost, 1, 0, set(), 0
+
+    monkeypatch.setattr(negotiate, "_attempt", stand_in)
+    r = negotiate.route_board(quad_on_fine_grid())
+    assert made == [(0, False, False), (0, True, False), (1, False, False), (2, False, False),
+                    (0, False, True), (0, True, True)]
+    assert r.failed == {}
