@@ -6,8 +6,8 @@ Usage::
                                   [--commit REV] [--save DIR] [--angled] [--generated] [--grid MM] [--mil] [--via-penalty V]
 
 Each seed in ``A .. B-1`` makes one board with ``real_board(seed, nets)`` (the nets cycle through
-``--nets``, default 30 60 100 150 200; ``--boards 6:120 17:100`` routes just those boards; ``--grid`` routes it on another pitch; ``--mil`` gives it the
-inch-based grid and classes of many real designs). The board is routed in this process with today's code,
+``--nets``, default 30 60 100 150 200; ``--boards 6:120 17:100`` routes just those boards; ``--grid``
+routes it on another pitch; ``--mil`` gives it the inch-based grid and classes of many real designs). The board is routed in this process with today's code,
 and, unless ``--no-baseline``, by the router of another checkout (``--baseline DIR``, default
 ``/tmp/elbowroom-baseline`` for REV 9bd7d45, the router before pad escape, else
 ``/tmp/elbowroom-REV``; made with ``git worktree add DIR REV`` when missing, and refused when it holds

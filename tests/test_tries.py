@@ -72,8 +72,8 @@ def test_the_last_try_plans_the_fan_out_and_prices_the_lanes_at_once(monkeypatch
     """After the try with the lanes priced, one more in the first order with the fan-out planned as
     well: a pad whose planned exit a neighbour's via closes just beyond the row needs both (angled
     real_board(15, 30): only that try routes every net, docs/measurements.md). Each try here is
-    a stand-in that loses S4 unless it plans and prices the lanes; the board kept is that try's,
-    and no try comes after a complete one (common practice: the fewest unrouted nets win)."""
+    a stand-in that loses S4 unless it plans and prices the lanes; the board kept is that try's
+    (common practice: the fewest unrouted nets win)."""
     made = []
 
     def stand_in(start, todo, seed, attempt, *a, plan=False, lanes=False, **kw):
