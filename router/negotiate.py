@@ -1108,18 +1108,10 @@ def _swap(neg: _Negotiation, lost: dict) -> None:
             for n in tried:
                 old = neg.routes[n]
                 neg.rip(n)
-                r = neg.route(net, strict=True, explain=False)
-                if not r.failed:
-                    neg.lay(net, r)
-                    rn = neg.route(n, strict=True, explain=False)
-                    if not rn.failed:
-                        neg.lay(n, rn)
-                        if not any(neg.conflicts(only=[net, n])[0].values()):
-                            del lost[net]
-                            again = True
-                            break
-                        neg.rip(n)
-                    neg.rip(net)
+                if _then_back(neg, net, neg.route(net, strict=True, explain=False), n):
+                    del lost[net]
+                    again = True
+                    break
                 neg.lay(n, old)
             if net in lost and closed:
                 sharing = [n for n in ways if n not in lost and _few_pads(neg, n)][:STAKE_MOST]
@@ -1139,7 +1131,7 @@ def _stakes(neg: _Negotiation, net: str, exits: list) -> NetRoute:
             pts.append(neg.grid.point(cell[1], cell[2]))
         w = getattr(path, "width", neg.width(net))
         r.cells.add(tuple(cell))
-        if w < neg.width(net) - 1e-9:
+        if w < neg.width(net) - TOL:
             r.necks.append((pts, cell[0], w))
         else:
             r.stubs.extend((a, b, cell[0]) for a, b in zip(pts, pts[1:]) if a != b)
@@ -1156,9 +1148,9 @@ def _stake_swap(neg: _Negotiation, net: str, names: list, closed: list) -> bool:
     first pair that both route, sharing nothing, is kept; else the ripped-up net goes back."""
     store = neg.grid.__dict__.get("_access_cache", {})
     refs = {p.ref for p in closed}
+    planned = {} if neg.fanout is None else neg.fanout.chosen
     for n in names:
         keys = [(n, p.ref, p.index) for g in neg.groups[n] for p in g if p.ref in refs]
-        planned = {} if neg.fanout is None else neg.fanout.chosen
         exits = []
         for key in keys:
             first = planned.get(key)
@@ -1175,17 +1167,25 @@ def _stake_swap(neg: _Negotiation, net: str, names: list, closed: list) -> bool:
             neg.lay(n, _stakes(neg, n, [(cell, path)]))
             r = neg.route(net, strict=True, explain=False)
             neg.rip(n)
-            if r.failed:
-                continue
-            neg.lay(net, r)
-            rn = neg.route(n, strict=True, explain=False)
-            if not rn.failed:
-                neg.lay(n, rn)
-                if not any(neg.conflicts(only=[net, n])[0].values()):
-                    return True
-                neg.rip(n)
-            neg.rip(net)
+            if _then_back(neg, net, r, n):
+                return True
         neg.lay(n, old)
+    return False
+
+
+def _then_back(neg: _Negotiation, net: str, r: NetRoute, n: str) -> bool:
+    """The swap's pair: the lost `net`'s route `r` (with walls, `n` ripped up) laid, then `n`
+    routed with walls. True, both kept, when both route and share nothing; else neither is laid."""
+    if r.failed:
+        return False
+    neg.lay(net, r)
+    rn = neg.route(n, strict=True, explain=False)
+    if not rn.failed:
+        neg.lay(n, rn)
+        if not any(neg.conflicts(only=[net, n])[0].values()):
+            return True
+        neg.rip(n)
+    neg.rip(net)
     return False
 
 
@@ -1197,8 +1197,9 @@ def _stake_row(neg: _Negotiation, lost: dict) -> None:
     (:func:`_stakes`; the routed ones ripped up first). The lost net is routed with walls, then
     the others, nearest first, each with its own stake taken up just before (and again, up to
     :data:`STAKE_ORDERS` orders, with the one left without a way first, the lost net too; a pad
-    the lost net's route finds closed once the stakes are laid joins the closed ones). A staircase that no net finds alone (each neighbour steps onto the grid at its own
-    depth) is laid as the plan found it. Kept only when the lost net and every net that was
+    the lost net's route finds closed once the stakes are laid joins the closed ones, as often).
+    A staircase that no net finds alone (each neighbour steps onto the grid at its own depth) is
+    laid as the plan found it. Kept only when the lost net and every net that was
     routed before route and nothing is shared (the other lost nets that route come back too);
     else every route goes back as it was."""
     saved = neg.fanout
