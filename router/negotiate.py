@@ -41,7 +41,8 @@ from .copper import copper_items, pad_core
 from .grid import RoutingGrid, box_of_core
 from .model import Board, Jumper, Trace, Via
 from .blockage import ANY_ONE, ROUTED
-from .nets import TAKEN, UNNAMED, NetRoute, route_net, terminals
+from .mend import cut, merged
+from .nets import TAKEN, UNNAMED, NetRoute, _block_hole, route_net, terminals
 from .search import STEP
 from .spaces import NetSpaces
 from .tidy import polylines, trim_dangling
@@ -106,6 +107,10 @@ STAKE_MOST = 4
 #: The row stake-out rips up the nets with a planned exit on a lost pad's part whose pads lie within
 #: this many mm of it (our choice: three pads each way at 0.5 mm pitch, two at 0.65).
 STAKE_REACH = 1.5
+#: The mend of a lost supply (_mend_many) rips up and routes again the nets of at most this many pads
+#: near the copper it cut out, and cuts and mends those of more (our choice: angled real-looking board
+#: 3's VCC mends only with its SCL and SDA buses, six pads each, moved too; docs/measurements.md).
+MEND_RIP_MOST = 10
 #: ... and routes them and the lost net in at most this many orders: the lost net, then the nearest
 #: first; then each time the one left without a way first (our choice).
 STAKE_ORDERS = 3
@@ -176,6 +181,8 @@ class _Negotiation:
         self.window = None                         # big boards: mm around a net's pads its searches keep to (WINDOW)
         self.grow = PRESENT_GROW                   # the present factor's growth per pass (raise_prices)
         self._windows: dict = {}
+        self.last: dict[str, NetRoute] = {}        # each net's last route laid that joined all its pads
+        self.mend: dict = {}                       # net -> router.mend.Mend: routed as the missing links only
 
     def zero_hist(self) -> np.ndarray:
         """A history of zeros shaped as ``hist`` (made once; never written)."""
@@ -235,6 +242,8 @@ class _Negotiation:
             off = [ob for ob in items if not all(abs(v / g - round(v / g)) < 1e-6 for v in ob.box)]
             got = r.laid = (grid, net, items, _own_counts(grid, net, r, items), off)
         items = got[2]
+        if not r.failed:
+            self.last[net] = r
         grid.add_soft(items, +1)
         for a, b in r.jumpers:
             grid.add_wire(a, b, +1)
@@ -291,15 +300,22 @@ class _Negotiation:
             if self.fanout is not None and self.fanout.own:
                 space.exit_free = lambda c, net=net: self.fanout.zone_cost(net, c)
                 space.exit_hit = lambda c, net=net: self.fanout.hit_cost(net, c)
-            r = route_net(grid, net, space, self.groups[net], bend=self.bend, via=self.via if via is None else via,
+            m = self.mend.get(net)
+            if m is not None:            # the kept copper's pieces joined (router.mend), its holes kept apart
+                for v in m.kept.vias:
+                    _block_hole(grid, space, grid.point(*v), grid.via_drill)
+            r = route_net(grid, net, space, self.groups[net] if m is None else m.loose,
+                          bend=self.bend, via=self.via if via is None else via,
                           jump=self.jump, others=others, cache=not strict, order=self.ties.get(net, (0, 1, 2, 3)),
                           explain=explain and (strict or not grid.one_layer) and box is None,     # two layers: found once
-                          budget=budget)
+                          budget=budget, pieces=None if m is None else m.pieces)
+            if m is not None:
+                r = merged(m.kept, r)
             if not r.failed:
                 break
         if not strict:
             self.reserve.add(net, [p for g in self.groups[net] for p in g])
-        if r.blind or (r.failed and not strict and not grid.one_layer and budget is None):
+        if net not in self.mend and (r.blind or (r.failed and not strict and not grid.one_layer and budget is None)):
             # no way even with every other net's routed copper passable (two layers: their copper
             # is only a cost here): the fixed copper, the edge or keepouts close it; found once
             self.blind[net] = r.failed
@@ -769,6 +785,8 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
         _stake_row(neg, lost)
     if lost and not _hopeless(neg, lost, beat):
         _fan_with_supplies(neg, lost, beat=beat, in_vain=fan_failed)
+    if lost:
+        _mend_many(neg, lost, in_vain=fan_failed)
     if beat is not None and len(lost) > beat:
         return None, lost, npass, shared_left, set(neg.blind), work
     if polish:
@@ -849,15 +867,7 @@ def _window_nets(neg: _Negotiation, net: str, margin: float, pads=None) -> list[
             c, rad = grid.layout.core_of(p)
             i0, i1, j0, j1 = grid.index_box(box_of_core(c), rad, cells=m)
             mask[j0:j1, i0:i1] = True
-    out = []
-    for n in neg.nets:
-        r = neg.routes.get(n)
-        if n == net or r is None or r.failed:
-            continue
-        cells = neg.own_at[n][0]
-        if len(cells) and mask[cells[:, 1], cells[:, 2]].any():
-            out.append(n)
-    return out
+    return _masked_nets(neg, net, mask)
 
 
 def _priced_route(neg: _Negotiation, net: str) -> NetRoute:
@@ -1363,6 +1373,111 @@ def _fan_with_supplies(neg: _Negotiation, lost: dict, beat: Optional[int] = None
         neg.fanout = saved
 
 
+def _mend_many(neg: _Negotiation, lost: dict, in_vain: Optional[set] = None) -> None:
+    """A lost net of many pads (a supply, ground) mended, after the other local steps, rather than
+    routed again from nothing: its way through the others at :data:`REPAIR_PRICE` (:func:`_priced_route`;
+    its last route laid when there is none) is laid for a moment to find the cells it shares, and is
+    cut there and within :data:`REORDER_WINDOW` of its closed pads (:func:`router.mend.cut`). The
+    pieces kept are joined with walls (:func:`router.nets.route_net`'s ``pieces``). Where no way
+    joins them, the nets of at most :data:`MEND_RIP_MOST` pads with copper within
+    :data:`REORDER_WINDOW` of the cells cut out or of its closed pads, or with a pad in a closed
+    pad's row (:func:`_row_nets`), are ripped up; the nets of more pads there are cut as well, within
+    :data:`REORDER_WINDOW` of those cells and pads, and mended alongside. The closed pads' parts are
+    planned alone (:meth:`_Negotiation.plan_fanout`), and these nets negotiate for
+    :data:`LOCAL_PASSES` passes at the plan's prices (:func:`_fan_negotiation`); what still shares is
+    routed with walls, the lost net first (:func:`_walls_after`), and a ripped-up net left without a
+    way gets a repair of its own (priced). Kept only when every one of them routes and no net shares
+    more than before; else every route goes back as it was. Not made again for a net at the same
+    closed pads where it failed in an earlier whole-board try (`in_vain`, shared with
+    :func:`_fan_with_supplies`, its own keys).
+
+    Why: routed again from nothing with walls, a supply's tree of dozens of pads finds no way on a
+    full board, even with its closed pads left out, where most of its way through the others is
+    still clear of every other net. Angled real-looking board 3 completes so; with the whole supply
+    routed again in this step instead it does not (docs/measurements.md)."""
+    if neg.grid.one_layer:               # (jumper wires are not cut into pieces: not done on one layer)
+        return
+    in_vain = set() if in_vain is None else in_vain
+    g = neg.grid
+    m = int(math.ceil(REORDER_WINDOW / g.pitch - 1e-9))
+    for net in [n for n in neg.nets if n in lost and n not in neg.blind and not _few_pads(neg, n)]:
+        if net in neg.routes:
+            continue
+        closed = _closed_pads(neg, net)
+        key = ("mend",) + _fan_key(net, closed)
+        if key in in_vain:
+            continue
+        old = _priced_route(neg, net)
+        if old.failed:
+            old = neg.last.get(net)
+        if old is None:
+            continue
+        before, _ = neg.conflicts()
+        snap = dict(neg.routes)
+        neg.lay(net, old)
+        _, cells = neg.conflicts(only=[net])
+        neg.rip(net)
+        drop = {tuple(int(v) for v in c) for arr in cells for c in np.asarray(arr).reshape(-1, 3)}
+        mask = np.zeros((g.ny, g.nx), bool)          # round the cells cut out and the closed pads
+        for _, j, i in drop:
+            mask[max(j - m, 0):j + m + 1, max(i - m, 0):i + m + 1] = True
+        for p in closed:
+            c, rad = g.layout.core_of(p)
+            i0, i1, j0, j1 = g.index_box(box_of_core(c), rad, cells=m)
+            mask[j0:j1, i0:i1] = True
+            drop.update(q for q in old.cells if j0 <= q[1] < j1 and i0 <= q[2] < i1)
+        neg.mend[net] = cut(g, old, drop, neg.groups[net])
+        failed: dict = {}
+        saved = neg.fanout
+        try:
+            r = neg.route(net, strict=True, explain=False)
+            if not r.failed:
+                neg.lay(net, r)
+            else:
+                moved = []
+                for n in _masked_nets(neg, net, mask) + _row_nets(neg, net, closed):
+                    if n in lost or n in moved:
+                        continue
+                    if sum(len(q) for q in neg.groups[n]) > MEND_RIP_MOST:
+                        rn = neg.routes[n]
+                        neg.mend[n] = cut(g, rn, {c for c in rn.cells if mask[c[1], c[2]]}, neg.groups[n])
+                    moved.append(n)
+                moved = [n for n in neg.nets if n in set(moved)]
+                for n in moved:
+                    neg.rip(n)
+                names = [net] + moved
+                if closed:
+                    neg.fanout = None
+                    neg.plan_fanout(refs=sorted({p.ref for p in closed}))
+                _fan_negotiation(neg, names)
+                failed = _walls_after(neg, names, must=net)
+                neg.fanout = saved
+                if failed and net not in failed:
+                    _repair(neg, failed, rounds=4 * len(failed) + 4, priced=True)
+        finally:
+            neg.fanout = saved
+            neg.mend.clear()
+        shared, _ = neg.conflicts()
+        if not failed and net in neg.routes and not any(k > before.get(n, 0) for n, k in shared.items()):
+            del lost[net]
+            continue
+        in_vain.add(key)
+        neg.restore(snap)
+
+
+def _masked_nets(neg: _Negotiation, net: str, mask: np.ndarray) -> list[str]:
+    """The routed nets other than `net` (in negotiation order) with a cell where `mask` (ny, nx) is set."""
+    out = []
+    for n in neg.nets:
+        r = neg.routes.get(n)
+        if n == net or r is None or r.failed:
+            continue
+        own = neg.own_at[n][0]
+        if len(own) and mask[own[:, 1], own[:, 2]].any():
+            out.append(n)
+    return out
+
+
 def _row_nets(neg: _Negotiation, net: str, pads: list) -> list[str]:
     """The routed nets (in negotiation order) other than `net` with a pad in the row of one of
     `pads`: a pad of the same part, on the same layers, of the same size, its centre on the line
@@ -1420,7 +1535,10 @@ def _repair(neg: _Negotiation, lost: dict, rounds: int, order: Optional[list] = 
     """Rip-up and reroute for the nets still unrouted: each takes its way through the others
     (at congestion cost; with `priced`, at :data:`REPAIR_PRICE` per cell of theirs and no history,
     :func:`_priced_route`), the nets it then shares cells with are ripped up and rerouted with
-    walls, and whatever fails queues up again (with `priced`, not a net whose way through the others
+    walls (one of more than :data:`LOCAL_MOST_PADS` pads mended: cut where it shares cells and its
+    pieces joined, :mod:`router.mend`; routed again whole only when that finds no way: a supply's
+    whole tree finds none on a full board where the links round the new route do), and whatever
+    fails queues up again (with `priced`, not a net whose way through the others
     cost more than :data:`REPAIR_DEAR` times the board's search states). The best state seen (fewest
     unrouted) is kept."""
     def snapshot():
@@ -1450,10 +1568,13 @@ def _repair(neg: _Negotiation, lost: dict, rounds: int, order: Optional[list] = 
         del lost[net]
         shared, _ = neg.conflicts()
         victims = [n for n in sorted(shared) if n != net]
+        mends = {v: _cut_where_shared(neg, v) for v in victims if not _few_pads(neg, v) and not g.one_layer}
         for v in victims:
             neg.rip(v)
         for v in victims:
-            rv = neg.route(v, strict=True, explain=False)      # its reason is named at the end
+            rv = _mended(neg, v, mends[v]) if v in mends else None
+            if rv is None or rv.failed:
+                rv = neg.route(v, strict=True, explain=False)      # its reason is named at the end
             if rv.failed:
                 lost[v] = rv.failed
                 unexplained.add(v)
@@ -1477,6 +1598,22 @@ def _repair(neg: _Negotiation, lost: dict, rounds: int, order: Optional[list] = 
         lost.update(was_lost)
     _name_or_lay(neg, lost, [n for n in neg.nets if n in unexplained and lost.get(n, "").endswith(UNNAMED)
                              and n not in neg.routes])
+
+
+def _cut_where_shared(neg: _Negotiation, net: str):
+    """`net`'s route (laid) cut at the cells it shares with other nets (:func:`router.mend.cut`)."""
+    _, cells = neg.conflicts(only=[net])
+    drop = {tuple(int(x) for x in c) for arr in cells for c in np.asarray(arr).reshape(-1, 3)}
+    return cut(neg.grid, neg.routes[net], drop, neg.groups[net])
+
+
+def _mended(neg: _Negotiation, net: str, m) -> NetRoute:
+    """`net` (ripped up) routed with walls from the pieces of `m` (:class:`router.mend.Mend`)."""
+    neg.mend[net] = m
+    try:
+        return neg.route(net, strict=True, explain=False)
+    finally:
+        del neg.mend[net]
 
 
 def _name_or_lay(neg: _Negotiation, lost: dict, nets: list) -> None:

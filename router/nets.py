@@ -429,7 +429,8 @@ def _lay_path(grid: RoutingGrid, space: SearchSpace, route: NetRoute, cells: np.
 
 def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[list], *,
               bend: int, via: int, jump: int, others=None, order=(0, 1, 2, 3),
-              explain: bool = False, cache: bool = False, budget: Optional[int] = None) -> NetRoute:
+              explain: bool = False, cache: bool = False, budget: Optional[int] = None,
+              pieces: Optional[list] = None) -> NetRoute:
     """Grow the rectilinear Steiner tree of one net.
 
     Parameters
@@ -462,6 +463,10 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
         does not pay), and the route fails as soon as one search finds nothing within its bound:
         a route the caller would refuse is not searched for to the end. No bound once a via
         place beside a pad becomes a source (its via costs the search nothing).
+    pieces : list of (pads, cells), optional
+        Copper of the net kept from an earlier route (:func:`router.mend.cut`): each piece a
+        terminal of the pads it joins, reached at any of its grid cells (l, j, i) with no stub;
+        `pad_groups` are then the groups no piece holds. The route holds only the new links.
 
     Returns
     -------
@@ -470,10 +475,13 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
         (the copper of the pins that were joined is kept in the route).
     """
     route = NetRoute(net)
+    pieces = pieces or []
     if not grid.one_layer:               # vias inside the net's large surface pads (router.escape)
         from .escape import pad_vias
-        pad_vias(grid, space, net, [p for g in pad_groups for p in g], strict=others is not None)
-    terms = terminals(grid, space, net, pad_groups, others, cache=cache)
+        pad_vias(grid, space, net, [p for g in pad_groups for p in g] + [p for ps, _ in pieces for p in ps],
+                 strict=others is not None)
+    terms = [Terminal(list(ps), {tuple(c): None for c in cells}) for ps, cells in pieces]
+    terms += terminals(grid, space, net, pad_groups, others, cache=cache)
     if len(terms) <= 1:
         return route
     blind = [t for t in terms if not t.cells]
@@ -498,7 +506,11 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
     # (a terminal reached only by escape vias starts no search: a source costs nothing, its via would be free)
     first = min(range(len(terms)), key=lambda k: (_via_only(terms[k]),
                                                   math.hypot(terms[k].pads[0].x - cx, terms[k].pads[0].y - cy), k))
+    if pieces:                           # the largest piece kept (router.mend): the others join it
+        first = max(range(len(pieces)), key=lambda k: (len(terms[k].cells), -k))
     tree: dict = _price_exits(grid, space, terms, first, via, bend)  # cell -> stub to add when a path leaves from it
+    if first < len(pieces):              # every cell of a kept piece is a source, however priced
+        tree = dict(terms[first].cells)
     # the first terminal's via places left out as dearer than its other cells: sources after all
     # when no search from those finds a way (a pad boxed in on its own layer). (Every cell left
     # out, with a fan-out plan, measured worse: real_board(1, 60)'s planned try lost 3 nets, not 0.)
