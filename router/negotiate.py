@@ -183,6 +183,7 @@ class _Negotiation:
         self._windows: dict = {}
         self.last: dict[str, NetRoute] = {}        # each net's last route laid that joined all its pads
         self.mend: dict = {}                       # net -> router.mend.Mend: routed as the missing links only
+        self.mend_victims = False                  # repair mends the nets of many pads in its way (_repair)
 
     def zero_hist(self) -> np.ndarray:
         """A history of zeros shaped as ``hist`` (made once; never written)."""
@@ -623,22 +624,26 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
     start = b.copy()
     best = None
     fan_failed: set = set()          # (lost net, its closed pads) the fan-out with the supplies did not bring back
-    tries = [(k, False, False) for k in range(1 + max(0, int(retries)))]
+    tries = [(k, False, False, None) for k in range(1 + max(0, int(retries)))]
     if fanout_first:
-        tries[0] = (0, True, False)
+        tries[0] = (0, True, False, None)
     elif len(tries) > 1:
         # the first other try: the same net order with the fine-pitch parts fanned out first
         # (router.fanout); made only where the plain first order leaves nets unrouted; the last: the
         # same order with the lanes out of row pads' outer ends kept free of other nets' vias
         # (ExitReserve lanes), made only where every other try leaves nets unrouted; and after it, both
-        # at once (a pad whose planned exit a neighbour's via closes just beyond the row)
-        tries.insert(1, (0, True, False))
-        tries.append((0, False, True))
-        tries.append((0, True, True))
-    for attempt, plan, lanes in tries:
+        # at once (a pad whose planned exit a neighbour's via closes just beyond the row); last, the
+        # first order with repair mending the supplies in its way (router.mend), as a big board's one
+        # try does: a change of course that completed big boards but lost a net on two small ones
+        # that every earlier try completes (docs/measurements.md)
+        tries.insert(1, (0, True, False, None))
+        tries.append((0, False, True, None))
+        tries.append((0, True, True, None))
+        tries.append((0, False, False, True))
+    for attempt, plan, lanes, mend in tries:
         got = _attempt(start, todo_names, seed, attempt, bend, via, jump, passes, progress, polish, every_net,
                        fewer_vias, plan=plan, lanes=lanes, beat=None if best is None else len(best[1]),
-                       fan_failed=fan_failed, classic=classic)
+                       fan_failed=fan_failed, classic=classic, mend=mend)
         if got is None:
             continue                 # nothing to plan: that try would route as the first did
         out_board, lost, npass, shared_left, blind, work = got
@@ -667,7 +672,7 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
 def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend: int, via: int, jump: int,
              passes: Optional[int], progress: bool, polish: bool, every_net: bool = False, fewer: bool = True,
              plan: bool = False, lanes: bool = False, beat: Optional[int] = None,
-             fan_failed: Optional[set] = None, classic: Optional[bool] = None):
+             fan_failed: Optional[set] = None, classic: Optional[bool] = None, mend: Optional[bool] = None):
     """One complete routing of `start`; attempt 0 takes nets shortest first, later attempts a
     shuffled order (each net's half-perimeter scaled by a random factor from the seed). Returns
     the board, the nets lost with their reasons, passes, nets sharing at the end of negotiation,
@@ -682,7 +687,9 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
     `fan_failed`: the (lost net, closed pads) that the fan-out with the supplies did not bring back
     in an earlier try of the same board (:func:`_fan_with_supplies`), shared by the tries.
     `classic`: the classic negotiation (see :func:`route_board`; None: on a board below
-    :data:`BIG_WORK`); `passes` None: :data:`CLASSIC_PASSES` with it, else :data:`DEFAULT_PASSES`."""
+    :data:`BIG_WORK`); `passes` None: :data:`CLASSIC_PASSES` with it, else :data:`DEFAULT_PASSES`.
+    `mend`: repair mends the nets of many pads in its way (:func:`_repair`; None: on a big board,
+    which gets one try only)."""
     b = start.copy()
     grid = RoutingGrid(b)
     groups = _pad_groups(b, grid)
@@ -700,6 +707,7 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
         sizes = [s * math.exp(rng.normal(0.0, 0.35)) for s in sizes]
     order = [n for _, _, n in sorted(zip(sizes, ties, nets))]
     neg = _Negotiation(b, grid, order, groups, bend, via, jump, crowd=fewer, lanes=lanes)
+    neg.mend_victims = big if mend is None else mend
     if classic is None:
         classic = not big
     if classic:                          # every net in every pass, a slower present price, more passes
@@ -1568,7 +1576,8 @@ def _repair(neg: _Negotiation, lost: dict, rounds: int, order: Optional[list] = 
         del lost[net]
         shared, _ = neg.conflicts()
         victims = [n for n in sorted(shared) if n != net]
-        mends = {v: _cut_where_shared(neg, v) for v in victims if not _few_pads(neg, v) and not g.one_layer}
+        mends = {v: _cut_where_shared(neg, v) for v in victims
+                 if neg.mend_victims and not _few_pads(neg, v) and not g.one_layer}
         for v in victims:
             neg.rip(v)
         for v in victims:

@@ -182,13 +182,15 @@ def test_repair_mends_a_supply_in_the_way_and_keeps_the_rest_of_it():
     """P laid with a detour below the row between its first two pads and a bump up to the top
     edge round x = 12, which closes in B's pads (at (10, 11) and (14, 11), B ripped up). Repair
     routes B through the bump; P, in its way, is cut there and joined again along the row: its
-    detour, clear of B, is kept as it was (P routed again whole would straighten it)."""
+    detour, clear of B, is kept as it was (P routed again whole would straighten it: so it is
+    without ``mend_victims``)."""
     b = row()
     grid = RoutingGrid(b)
     neg = _Negotiation(b, grid, ["B", "P"], _pad_groups(b, grid), bend=400, via=800, jump=2000)
     detour = [(1.0, 6.0), (2.0, 6.0), (2.0, 4.0), (4.0, 4.0), (4.0, 6.0)]
     neg.lay("P", _laid(grid, "P", detour + [(11.0, 6.0), (11.0, 11.25), (13.0, 11.25), (13.0, 6.0), (23.0, 6.0)]))
     assert neg.route("B", strict=True, explain=False).failed
+    neg.mend_victims = True               # as on a big board, or in route_board's last try
     lost = {"B": "no way"}
     _repair(neg, lost, rounds=8)
     assert lost == {} and set(neg.routes) == {"B", "P"} and not any(neg.conflicts()[0].values())
@@ -197,3 +199,15 @@ def test_repair_mends_a_supply_in_the_way_and_keeps_the_rest_of_it():
     assert cp.geom_type == "Polygon" and all(cp.intersects(_pad_box(x, 6.0)) for x in P_X)
     assert cb.intersects(_pad_box(10.0, 11.0)) and cb.intersects(_pad_box(14.0, 11.0))
     assert cp.distance(cb) >= 0.25 - TOL
+
+
+def test_without_mend_victims_repair_routes_the_supply_again_whole():
+    b = row()
+    grid = RoutingGrid(b)
+    neg = _Negotiation(b, grid, ["B", "P"], _pad_groups(b, grid), bend=400, via=800, jump=2000)
+    detour = [(1.0, 6.0), (2.0, 6.0), (2.0, 4.0), (4.0, 4.0), (4.0, 6.0)]
+    neg.lay("P", _laid(grid, "P", detour + [(11.0, 6.0), (11.0, 11.25), (13.0, 11.25), (13.0, 6.0), (23.0, 6.0)]))
+    lost = {"B": "no way"}
+    _repair(neg, lost, rounds=8)
+    assert lost == {} and not any(neg.conflicts()[0].values())
+    assert not _laid(grid, "P", detour).edges <= neg.routes["P"].edges

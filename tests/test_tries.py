@@ -86,3 +86,23 @@ def test_the_last_try_plans_the_fan_out_and_prices_the_lanes_at_once(monkeypatch
     assert made == [(0, False, False), (0, True, False), (1, False, False), (2, False, False),
                     (0, False, True), (0, True, True)]
     assert r.failed == {}
+
+
+def test_the_very_last_try_mends_the_supplies_in_repair_s_way(monkeypatch):
+    """After every other try, the first order once more with repair mending the supplies in its
+    way (router.mend), as a big board's one try does; the tries before leave it to the board's
+    size (None). Each try here is a stand-in that loses S4 unless it mends; the board kept is
+    the last try's (common practice: the fewest unrouted nets win)."""
+    made = []
+
+    def stand_in(start, todo, seed, attempt, *a, plan=False, lanes=False, mend=None, **kw):
+        made.append((attempt, plan, lanes, mend))
+        lost = {} if mend else {"S4": "lost by the test"}
+        return start.copy(), lost, 1, 0, set(), 0
+
+    monkeypatch.setattr(negotiate, "_attempt", stand_in)
+    r = negotiate.route_board(quad_on_fine_grid())
+    assert made == [(0, False, False, None), (0, True, False, None), (1, False, False, None),
+                    (2, False, False, None), (0, False, True, None), (0, True, True, None),
+                    (0, False, False, True)]
+    assert r.failed == {}
