@@ -111,6 +111,10 @@ STAKE_REACH = 1.5
 #: near the copper it cut out, and cuts and mends those of more (our choice: angled real-looking board
 #: 3's VCC mends only with its SCL and SDA buses, six pads each, moved too; docs/measurements.md).
 MEND_RIP_MOST = 10
+#: The mend's local negotiation stops at this many times the board's search states (our choice: angled
+#: board 3's VCC mended within 3.3; on the 1,300-pad board of scripts/bench_route.py a mend of SDA that
+#: failed ran to FAN_SWEEPS, 10, and cost 8 of the board's 50 s; docs/measurements.md).
+MEND_SWEEPS = 4
 #: ... and routes them and the lost net in at most this many orders: the lost net, then the nearest
 #: first; then each time the one left without a way first (our choice).
 STAKE_ORDERS = 3
@@ -1382,7 +1386,8 @@ def _fan_with_supplies(neg: _Negotiation, lost: dict, beat: Optional[int] = None
 
 
 def _mend_many(neg: _Negotiation, lost: dict, in_vain: Optional[set] = None) -> None:
-    """A lost net of many pads (a supply, ground) mended, after the other local steps, rather than
+    """A lost net of more than :data:`MEND_RIP_MOST` pads (a supply, ground: one this step would not
+    rip up and route again whole) mended, after the other local steps, rather than
     routed again from nothing: its way through the others at :data:`REPAIR_PRICE` (:func:`_priced_route`;
     its last route laid when there is none) is laid for a moment to find the cells it shares, and is
     cut there and within :data:`REORDER_WINDOW` of its closed pads (:func:`router.mend.cut`). The
@@ -1392,7 +1397,8 @@ def _mend_many(neg: _Negotiation, lost: dict, in_vain: Optional[set] = None) -> 
     pad's row (:func:`_row_nets`), are ripped up; the nets of more pads there are cut as well, within
     :data:`REORDER_WINDOW` of those cells and pads, and mended alongside. The closed pads' parts are
     planned alone (:meth:`_Negotiation.plan_fanout`), and these nets negotiate for
-    :data:`LOCAL_PASSES` passes at the plan's prices (:func:`_fan_negotiation`); what still shares is
+    :data:`LOCAL_PASSES` passes at the plan's prices, within :data:`MEND_SWEEPS` times the board's
+    search states (:func:`_fan_negotiation`); what still shares is
     routed with walls, the lost net first (:func:`_walls_after`), and a ripped-up net left without a
     way gets a repair of its own (priced). Kept only when every one of them routes and no net shares
     more than before; else every route goes back as it was. Not made again for a net at the same
@@ -1408,7 +1414,8 @@ def _mend_many(neg: _Negotiation, lost: dict, in_vain: Optional[set] = None) -> 
     in_vain = set() if in_vain is None else in_vain
     g = neg.grid
     m = int(math.ceil(REORDER_WINDOW / g.pitch - 1e-9))
-    for net in [n for n in neg.nets if n in lost and n not in neg.blind and not _few_pads(neg, n)]:
+    for net in [n for n in neg.nets if n in lost and n not in neg.blind
+                and sum(len(q) for q in neg.groups[n]) > MEND_RIP_MOST]:
         if net in neg.routes:
             continue
         closed = _closed_pads(neg, net)
@@ -1457,7 +1464,7 @@ def _mend_many(neg: _Negotiation, lost: dict, in_vain: Optional[set] = None) -> 
                 if closed:
                     neg.fanout = None
                     neg.plan_fanout(refs=sorted({p.ref for p in closed}))
-                _fan_negotiation(neg, names)
+                _fan_negotiation(neg, names, MEND_SWEEPS)
                 failed = _walls_after(neg, names, must=net)
                 neg.fanout = saved
                 if failed and net not in failed:
@@ -1508,13 +1515,13 @@ def _row_nets(neg: _Negotiation, net: str, pads: list) -> list[str]:
     return [n for n in neg.nets if n in out]
 
 
-def _fan_negotiation(neg: _Negotiation, names: list) -> None:
-    """:func:`_fan_with_supplies`' local negotiation among `names` within :data:`FAN_SWEEPS` times the
+def _fan_negotiation(neg: _Negotiation, names: list, sweeps: float = FAN_SWEEPS) -> None:
+    """:func:`_fan_with_supplies`' local negotiation among `names` within `sweeps` times the
     board's search states (:func:`router.search.work_limit`: a search stops there and fails); a net
     that a search cut short failed for is not taken as blind (``neg.blind`` as it was)."""
     from .search import NDIR, states_expanded, work_limit
     g = neg.grid
-    most = states_expanded() + int(FAN_SWEEPS * g.L * g.ny * g.nx * NDIR)
+    most = states_expanded() + int(sweeps * g.L * g.ny * g.nx * NDIR)
     blind = dict(neg.blind)
     with work_limit(most):
         _negotiate_local(neg, names, LOCAL_PASSES)

@@ -11,6 +11,7 @@ import networkx as nx
 from shapely.geometry import LineString, Point, box
 from shapely.ops import unary_union
 
+from router import negotiate
 from router.grid import RoutingGrid
 from router.mend import cut
 from router.model import Board, Footprint, Keepout, Net, NetClass, Pad, Part, Rules
@@ -119,7 +120,8 @@ def test_the_cut_keeps_two_pieces_with_their_pads_and_no_dangling_end():
             assert any(_pad_box(px, 6.0).distance(Point(x, y)) <= TOL for px in P_X), (x, y)
 
 
-def test_the_mend_moves_the_net_in_the_way_and_keeps_the_pieces():
+def test_the_mend_moves_the_net_in_the_way_and_keeps_the_pieces(monkeypatch):
+    monkeypatch.setattr(negotiate, "MEND_RIP_MOST", 4)      # P's six pads make it a net to mend here
     neg = _setup()
     assert neg.route("P", strict=True, explain=False).failed     # B's U closes the row's way
     way = _priced_route(neg, "P")
@@ -140,10 +142,13 @@ def test_the_mend_moves_the_net_in_the_way_and_keeps_the_pieces():
     assert cp.distance(cb) >= 0.25 - TOL
 
 
-def test_nothing_changes_when_the_mend_finds_no_way():
+def test_nothing_changes_when_the_mend_finds_no_way(monkeypatch):
     """B's pads on either side of the row, each 0.5 mm from an edge: on one layer B and P cannot
     both route, so the mend (P's pieces joined, B moved) cannot keep both, and every route goes back
     as it was."""
+    monkeypatch.setattr(negotiate, "MEND_RIP_MOST", 4)
+    tried = []
+    monkeypatch.setattr(negotiate, "cut", lambda *a: tried.append(a[1].net) or cut(*a))
     b = row()
     b.parts[-2].at, b.parts[-1].at = (12.0, 11.0), (12.0, 1.0)
     grid = RoutingGrid(b)
@@ -153,6 +158,7 @@ def test_nothing_changes_when_the_mend_finds_no_way():
     neg.lay("B", rb)
     lost = {"P": "no way"}
     _mend_many(neg, lost)
+    assert tried and tried[0] == "P"                           # the mend was made
     assert set(lost) == {"P"} and "P" not in neg.routes and neg.routes["B"] is rb
 
 
@@ -211,3 +217,12 @@ def test_without_mend_victims_repair_routes_the_supply_again_whole():
     _repair(neg, lost, rounds=8)
     assert lost == {} and not any(neg.conflicts()[0].values())
     assert not _laid(grid, "P", detour).edges <= neg.routes["P"].edges
+
+
+def test_a_net_the_mend_would_move_whole_is_not_mended():
+    """P of six pads is at most MEND_RIP_MOST (10): a net the mend would rip up and route whole,
+    left to the steps for such nets."""
+    neg = _setup()
+    lost = {"P": "no way"}
+    _mend_many(neg, lost)
+    assert set(lost) == {"P"} and "P" not in neg.routes and isinstance(neg.routes["B"], NetRoute)
