@@ -1550,9 +1550,10 @@ def _repair(neg: _Negotiation, lost: dict, rounds: int, order: Optional[list] = 
     """Rip-up and reroute for the nets still unrouted: each takes its way through the others
     (at congestion cost; with `priced`, at :data:`REPAIR_PRICE` per cell of theirs and no history,
     :func:`_priced_route`), the nets it then shares cells with are ripped up and rerouted with
-    walls (one of more than :data:`LOCAL_MOST_PADS` pads mended: cut where it shares cells and its
-    pieces joined, :mod:`router.mend`; routed again whole only when that finds no way: a supply's
-    whole tree finds none on a full board where the links round the new route do), and whatever
+    walls (with ``neg.mend_victims``, on big boards and in route_board's last try, one of more than
+    :data:`LOCAL_MOST_PADS` pads is mended: cut where it shares cells and its pieces joined,
+    :mod:`router.mend`; routed again whole only when that finds no way: a supply's whole tree finds
+    none on a full board where the links round the new route do), and whatever
     fails queues up again (with `priced`, not a net whose way through the others
     cost more than :data:`REPAIR_DEAR` times the board's search states). The best state seen (fewest
     unrouted) is kept."""
