@@ -1515,13 +1515,14 @@ def _row_nets(neg: _Negotiation, net: str, pads: list) -> list[str]:
     return [n for n in neg.nets if n in out]
 
 
-def _fan_negotiation(neg: _Negotiation, names: list, sweeps: float = FAN_SWEEPS) -> None:
-    """:func:`_fan_with_supplies`' local negotiation among `names` within `sweeps` times the
+def _fan_negotiation(neg: _Negotiation, names: list, sweeps: Optional[float] = None) -> None:
+    """:func:`_fan_with_supplies`' local negotiation among `names` within `sweeps` (None:
+    :data:`FAN_SWEEPS`) times the
     board's search states (:func:`router.search.work_limit`: a search stops there and fails); a net
     that a search cut short failed for is not taken as blind (``neg.blind`` as it was)."""
     from .search import NDIR, states_expanded, work_limit
     g = neg.grid
-    most = states_expanded() + int(sweeps * g.L * g.ny * g.nx * NDIR)
+    most = states_expanded() + int((FAN_SWEEPS if sweeps is None else sweeps) * g.L * g.ny * g.nx * NDIR)
     blind = dict(neg.blind)
     with work_limit(most):
         _negotiate_local(neg, names, LOCAL_PASSES)
