@@ -9,12 +9,13 @@ trimmed back to the next joint or pad, and what is left falls into pieces, each 
 of the net's pads. :func:`router.nets.route_net` then joins the pieces and the pads no piece
 holds (its ``pieces``): only the missing links are searched for.
 
-The pieces are found by a union-find over the copper's end points (grid points, the ends of
-stubs and necks; a via joins its point on both layers). A pad holds a piece when a point of the
-piece on one of the pad's layers lies in the pad's copper (its exact core and radius, within
-:data:`router.units.TOL`). Written here rather than through :mod:`router.connectivity`: that
-module joins a board's copper items by touching shapes, while a route in negotiation is still
-grid edges and stubs with no board around it; the grid's end points join exactly.
+The pieces are found by a union-find (:class:`router.connectivity.UnionFind`) over the copper's
+end points (grid points, the ends of stubs and necks; a via joins its point on both layers). A pad
+holds a piece when a point of the piece on one of the pad's layers lies in the pad's copper (its
+exact core and radius, within :data:`router.units.TOL`). Not through connectivity's joining of
+touching shapes: a route in negotiation is still grid edges and stubs with no board around it, and
+the grid's end points join exactly. Two-layer boards only (the router mends nothing on one layer,
+where jumper wires would have to be cut too).
 """
 from __future__ import annotations
 
@@ -23,6 +24,7 @@ from dataclasses import dataclass
 
 from shapely.geometry import Point as SPoint
 
+from .connectivity import UnionFind
 from .nets import NetRoute
 from .units import TOL
 
@@ -43,33 +45,15 @@ def _key(l: int, p) -> tuple:
     return (l, round(p[0], 5), round(p[1], 5))
 
 
-class _Find:
-    def __init__(self):
-        self.up: dict = {}
-
-    def find(self, a):
-        self.up.setdefault(a, a)
-        while self.up[a] != a:
-            self.up[a] = self.up[self.up[a]]
-            a = self.up[a]
-        return a
-
-    def union(self, a, b) -> None:
-        ra, rb = self.find(a), self.find(b)
-        if ra != rb:
-            self.up[max(ra, rb)] = min(ra, rb)
-
-
 def cut(grid, r: NetRoute, drop: set, groups: list) -> Mend:
-    """`r` (a two-layer route of the net whose pads are `groups`, lists of pads already joined
-    by fixed copper) less its copper at the cells `drop` ((l, j, i)); see the module's text.
+    """`r` (a route on a two-layer board: grid edges, vias, stubs, necks; no jumper wires) of the
+    net whose pads are `groups` (lists of pads already joined by fixed copper), less its copper at
+    the cells `drop` ((l, j, i)); see the module's text.
 
-    A grid edge goes with either end in `drop`, a via with its point on any layer, a stub, neck
-    or jumper with a grid point within half a pitch of it (:meth:`RoutingGrid.near_points`).
-    Ends left dangling (a point with one piece of copper, in no pad of the net) are trimmed back.
+    A grid edge goes with either end in `drop`, a via with its point on any layer, a stub or neck
+    with a grid point within half a pitch of it (:meth:`RoutingGrid.near_points`). Ends left
+    dangling (a point with one piece of copper, in no pad of the net) are trimmed back.
     """
-    net = r.net
-
     def cell_of(l: int, p):
         j = int(round(p[1] / grid.pitch)) - grid.j0
         i = int(round(p[0] / grid.pitch)) - grid.i0
@@ -78,71 +62,54 @@ def cut(grid, r: NetRoute, drop: set, groups: list) -> Mend:
             return c                     # (a stub's point on the grid that the route does not hold is not a cell of it)
         return None
 
-    # every piece of copper: (kind, item, end point keys, grid cells)
+    def near(pts, l) -> set:
+        return {c for a, b in zip(pts, pts[1:]) for c in grid.near_points(a, b, l)}
+
+    # every piece of copper: (kind, item, end point keys, grid cells, cells whose loss takes it out)
     segs = []
     for e in r.edges:
         (l, j, i), (_, j2, i2) = e
-        segs.append(("edge", e, [_key(l, grid.point(j, i)), _key(l, grid.point(j2, i2))], [e[0], e[1]]))
+        segs.append(("edge", e, [_key(l, grid.point(j, i)), _key(l, grid.point(j2, i2))], [e[0], e[1]], ()))
     for v in dict.fromkeys(r.vias):
         p = grid.point(*v)
-        segs.append(("via", v, [_key(l, p) for l in range(grid.L)], [(l, v[0], v[1]) for l in range(grid.L)]))
+        cells = [(l, v[0], v[1]) for l in range(grid.L)]
+        segs.append(("via", v, [_key(l, p) for l in range(grid.L)], cells, ()))
     for s in r.stubs:
         a, b, l = s
-        cells = [c for c in (cell_of(l, a), cell_of(l, b)) if c is not None]
-        segs.append(("stub", s, [_key(l, a), _key(l, b)], cells))
+        segs.append(("stub", s, [_key(l, a), _key(l, b)], [c for c in (cell_of(l, a), cell_of(l, b)) if c],
+                     near((a, b), l)))
     for nk in r.necks:
         pts, l, _ = nk
-        cells = [c for c in (cell_of(l, q) for q in pts) if c is not None]
-        segs.append(("neck", nk, [_key(l, pts[0]), _key(l, pts[-1])], cells))
-    for jw in r.jumpers:
-        a, b = jw
-        cells = [c for c in (cell_of(0, a), cell_of(0, b)) if c is not None]
-        segs.append(("jumper", jw, [_key(0, a), _key(0, b)], cells))
-
-    def hit(kind, item, cells) -> bool:
-        if any(c in drop for c in cells):
-            return True
-        if kind == "stub":
-            return any(c in drop for c in grid.near_points(item[0], item[1], item[2]))
-        if kind == "neck":
-            pts, l, _ = item
-            return any(c in drop for a, b in zip(pts, pts[1:]) for c in grid.near_points(a, b, l))
-        return False
-
-    live = [not hit(kind, item, cells) for kind, item, _, cells in segs]
+        segs.append(("neck", nk, [_key(l, pts[0]), _key(l, pts[-1])], [c for c in (cell_of(l, q) for q in pts) if c],
+                     near(pts, l)))
+    live = [not any(c in drop for c in cells) and not any(c in drop for c in close)
+            for _, _, _, cells, close in segs]
 
     pads = [p for g in groups for p in g]
     shapes = []
     for p in pads:
         core, rad = grid.layout.core_of(p)
-        layers = {grid.layer_index(n) for n in p.layers}
-        shapes.append((core, rad, layers, core.bounds))
-
-    anchored_cache: dict = {}
+        shapes.append((core, rad, {grid.layer_index(n) for n in p.layers}, core.bounds))
+    held: dict = {}
 
     def pads_at(k) -> list:
-        got = anchored_cache.get(k)
+        """The pads (their numbers in `pads`) whose copper holds the end point `k`."""
+        got = held.get(k)
         if got is None:
             l, x, y = k
-            got = []
-            for q, (core, rad, layers, bx) in enumerate(shapes):
-                if l in layers and bx[0] - rad - TOL <= x <= bx[2] + rad + TOL \
-                        and bx[1] - rad - TOL <= y <= bx[3] + rad + TOL \
-                        and core.distance(SPoint(x, y)) <= rad + TOL:
-                    got.append(q)
-            anchored_cache[k] = got
+            got = held[k] = [q for q, (core, rad, layers, bx) in enumerate(shapes)
+                             if l in layers and bx[0] - rad - TOL <= x <= bx[2] + rad + TOL
+                             and bx[1] - rad - TOL <= y <= bx[3] + rad + TOL
+                             and core.distance(SPoint(x, y)) <= rad + TOL]
         return got
 
     # trim the ends left dangling: a point with one live piece of copper, in no pad of the net
     at = defaultdict(list)
-    for s, (_, _, keys, _) in enumerate(segs):
-        for k in keys:
-            at[k].append(s)
     deg = defaultdict(int)
-    for s, (_, _, keys, _) in enumerate(segs):
-        if live[s]:
-            for k in keys:
-                deg[k] += 1
+    for s, seg in enumerate(segs):
+        for k in seg[2]:
+            at[k].append(s)
+            deg[k] += live[s]
     queue = deque(k for k, d in deg.items() if d == 1)
     while queue:
         k = queue.popleft()
@@ -155,67 +122,53 @@ def cut(grid, r: NetRoute, drop: set, groups: list) -> Mend:
             if deg[q] == 1:
                 queue.append(q)
 
-    # the pieces: joined through shared end points, and through the fixed copper of a pad group
-    uf = _Find()
-    for s, (_, _, keys, _) in enumerate(segs):
+    # the pieces: end points joined through their copper, and through a pad group's fixed copper
+    # (one union-find node per point, then one per group)
+    points = {k: n for n, k in enumerate(k for k, d in deg.items() if d > 0)}
+    group_of = {id(p): g for g, grp in enumerate(groups) for p in grp}
+    uf = UnionFind(len(points) + len(groups))
+    for s, seg in enumerate(segs):
         if live[s]:
-            for k in keys[1:]:
-                uf.union(keys[0], k)
-    group_of = {}
-    for g, grp in enumerate(groups):
-        for p in grp:
-            group_of[id(p)] = g
-    holds: dict = defaultdict(set)           # root -> pad numbers
-    for k in list(deg):
-        if deg[k] > 0:
-            for q in pads_at(k):
-                holds[uf.find(k)].add(q)
-    for root, qs in list(holds.items()):     # pieces holding pads of one group are one terminal
-        for q in qs:
-            uf.union(root, (-1 - group_of[id(pads[q])], 0.0, 0.0))
-    held_groups: dict = defaultdict(set)
-    for root, qs in holds.items():
-        for q in qs:
-            held_groups[uf.find(root)].add(group_of[id(pads[q])])
-    cells_of: dict = defaultdict(set)
-    for s, (kind, item, keys, cells) in enumerate(segs):
+            for k in seg[2][1:]:
+                uf.union(points[seg[2][0]], points[k])
+    touched = set()
+    for k, n in points.items():
+        for q in pads_at(k):
+            g = group_of[id(pads[q])]
+            uf.union(n, len(points) + g)
+            touched.add(g)
+    groups_of = defaultdict(set)             # root -> the pad groups its piece holds
+    for g in touched:
+        groups_of[uf.find(len(points) + g)].add(g)
+    cells_of = defaultdict(set)              # root -> the grid cells of its piece
+    for s, seg in enumerate(segs):
         if live[s]:
-            root = uf.find(keys[0])
-            if root in held_groups:              # a piece joined to no pad is left out
-                cells_of[root].update(cells)
-    kept = NetRoute(net)
-    for s, (kind, item, keys, cells) in enumerate(segs):
-        if not live[s] or not cells_of.get(uf.find(keys[0])):
-            continue                             # (a piece with no grid point: its pads are routed to as usual)
+            cells_of[uf.find(points[seg[2][0]])].update(seg[3])
+    kept = NetRoute(r.net)
+    for s, (kind, item, keys, cells, close) in enumerate(segs):
+        root = uf.find(points[keys[0]]) if live[s] else None
+        if root not in groups_of or not cells_of[root]:
+            continue                         # a piece joined to no pad; one with no grid point (its pads: loose)
         if kind == "edge":
             kept.edges.add(item)
         elif kind == "via":
             kept.vias.append(item)
-        elif kind == "stub":
-            kept.stubs.append(item)
-            kept.near.update(grid.near_points(item[0], item[1], item[2]))
-        elif kind == "neck":
-            kept.necks.append(item)
-            pts, l, _ = item
-            for a, b in zip(pts, pts[1:]):
-                kept.near.update(grid.near_points(a, b, l))
         else:
-            kept.jumpers.append(item)
+            (kept.stubs if kind == "stub" else kept.necks).append(item)
+            kept.near.update(close)
         kept.cells.update(cells)
     pieces, used = [], set()
-    for root, gs in held_groups.items():
-        if not cells_of[root]:
-            continue
-        used |= gs
-        pieces.append(([p for g in sorted(gs) for p in groups[g]], sorted(cells_of[root])))
+    for root, gs in groups_of.items():
+        if cells_of[root]:
+            used |= gs
+            pieces.append(([p for g in sorted(gs) for p in groups[g]], sorted(cells_of[root])))
     loose = [grp for g, grp in enumerate(groups) if g not in used]
     return Mend(kept, pieces, loose)
 
 
 def merged(kept: NetRoute, new: NetRoute) -> NetRoute:
     """One route of the kept copper and the links `new` laid between its pieces."""
-    out = NetRoute(new.net, edges=kept.edges | new.edges, stubs=kept.stubs + new.stubs,
-                   vias=list(dict.fromkeys(kept.vias + new.vias)), jumpers=kept.jumpers + new.jumpers,
-                   cells=kept.cells | new.cells, near=kept.near | new.near, failed=new.failed,
-                   blind=new.blind, necks=kept.necks + new.necks, closed=new.closed)
-    return out
+    return NetRoute(new.net, edges=kept.edges | new.edges, stubs=kept.stubs + new.stubs,
+                    vias=list(dict.fromkeys(kept.vias + new.vias)), jumpers=kept.jumpers + new.jumpers,
+                    cells=kept.cells | new.cells, near=kept.near | new.near, failed=new.failed,
+                    blind=new.blind, necks=kept.necks + new.necks, closed=new.closed)

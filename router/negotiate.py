@@ -185,7 +185,6 @@ class _Negotiation:
         self.window = None                         # big boards: mm around a net's pads its searches keep to (WINDOW)
         self.grow = PRESENT_GROW                   # the present factor's growth per pass (raise_prices)
         self._windows: dict = {}
-        self.last: dict[str, NetRoute] = {}        # each net's last route laid that joined all its pads
         self.mend: dict = {}                       # net -> router.mend.Mend: routed as the missing links only
         self.mend_victims = False                  # repair mends the nets of many pads in its way (_repair)
 
@@ -247,8 +246,6 @@ class _Negotiation:
             off = [ob for ob in items if not all(abs(v / g - round(v / g)) < 1e-6 for v in ob.box)]
             got = r.laid = (grid, net, items, _own_counts(grid, net, r, items), off)
         items = got[2]
-        if not r.failed:
-            self.last[net] = r
         grid.add_soft(items, +1)
         for a, b in r.jumpers:
             grid.add_wire(a, b, +1)
@@ -1016,7 +1013,11 @@ def _walls_after(neg: _Negotiation, names: list, must: Optional[str] = None) -> 
 def _few_pads(neg: _Negotiation, net: str) -> bool:
     """Whether `net` has at most :data:`LOCAL_MOST_PADS` pads: a net the local steps (the planned
     re-order, the swap) may rip up and route again; a supply or ground is too dear to."""
-    return sum(len(g) for g in neg.groups[net]) <= LOCAL_MOST_PADS
+    return _pad_count(neg, net) <= LOCAL_MOST_PADS
+
+
+def _pad_count(neg: _Negotiation, net: str) -> int:
+    return sum(len(g) for g in neg.groups[net])
 
 
 def _closed_pads(neg: _Negotiation, net: str) -> list:
@@ -1388,8 +1389,8 @@ def _fan_with_supplies(neg: _Negotiation, lost: dict, beat: Optional[int] = None
 def _mend_many(neg: _Negotiation, lost: dict, in_vain: Optional[set] = None) -> None:
     """A lost net of more than :data:`MEND_RIP_MOST` pads (a supply, ground: one this step would not
     rip up and route again whole) mended, after the other local steps, rather than
-    routed again from nothing: its way through the others at :data:`REPAIR_PRICE` (:func:`_priced_route`;
-    its last route laid when there is none) is laid for a moment to find the cells it shares, and is
+    routed again from nothing: its way through the others at :data:`REPAIR_PRICE` (:func:`_priced_route`)
+    is laid for a moment to find the cells it shares (:func:`_shared_cells`), and is
     cut there and within :data:`REORDER_WINDOW` of its closed pads (:func:`router.mend.cut`). The
     pieces kept are joined with walls (:func:`router.nets.route_net`'s ``pieces``). Where no way
     joins them, the nets of at most :data:`MEND_RIP_MOST` pads with copper within
@@ -1414,8 +1415,7 @@ def _mend_many(neg: _Negotiation, lost: dict, in_vain: Optional[set] = None) -> 
     in_vain = set() if in_vain is None else in_vain
     g = neg.grid
     m = int(math.ceil(REORDER_WINDOW / g.pitch - 1e-9))
-    for net in [n for n in neg.nets if n in lost and n not in neg.blind
-                and sum(len(q) for q in neg.groups[n]) > MEND_RIP_MOST]:
+    for net in [n for n in neg.nets if n in lost and n not in neg.blind and _pad_count(neg, n) > MEND_RIP_MOST]:
         if net in neg.routes:
             continue
         closed = _closed_pads(neg, net)
@@ -1423,16 +1423,13 @@ def _mend_many(neg: _Negotiation, lost: dict, in_vain: Optional[set] = None) -> 
         if key in in_vain:
             continue
         old = _priced_route(neg, net)
-        if old.failed:
-            old = neg.last.get(net)
-        if old is None:
+        if old.failed:                   # no way even through the others: the fixed copper closes it (blind)
             continue
         before, _ = neg.conflicts()
         snap = dict(neg.routes)
         neg.lay(net, old)
-        _, cells = neg.conflicts(only=[net])
+        drop = _shared_cells(neg, net)
         neg.rip(net)
-        drop = {tuple(int(v) for v in c) for arr in cells for c in np.asarray(arr).reshape(-1, 3)}
         mask = np.zeros((g.ny, g.nx), bool)          # round the cells cut out and the closed pads
         for _, j, i in drop:
             mask[max(j - m, 0):j + m + 1, max(i - m, 0):i + m + 1] = True
@@ -1443,34 +1440,13 @@ def _mend_many(neg: _Negotiation, lost: dict, in_vain: Optional[set] = None) -> 
             drop.update(q for q in old.cells if j0 <= q[1] < j1 and i0 <= q[2] < i1)
         neg.mend[net] = cut(g, old, drop, neg.groups[net])
         failed: dict = {}
-        saved = neg.fanout
         try:
             r = neg.route(net, strict=True, explain=False)
             if not r.failed:
                 neg.lay(net, r)
             else:
-                moved = []
-                for n in _masked_nets(neg, net, mask) + _row_nets(neg, net, closed):
-                    if n in lost or n in moved:
-                        continue
-                    if sum(len(q) for q in neg.groups[n]) > MEND_RIP_MOST:
-                        rn = neg.routes[n]
-                        neg.mend[n] = cut(g, rn, {c for c in rn.cells if mask[c[1], c[2]]}, neg.groups[n])
-                    moved.append(n)
-                moved = [n for n in neg.nets if n in set(moved)]
-                for n in moved:
-                    neg.rip(n)
-                names = [net] + moved
-                if closed:
-                    neg.fanout = None
-                    neg.plan_fanout(refs=sorted({p.ref for p in closed}))
-                _fan_negotiation(neg, names, MEND_SWEEPS)
-                failed = _walls_after(neg, names, must=net)
-                neg.fanout = saved
-                if failed and net not in failed:
-                    _repair(neg, failed, rounds=4 * len(failed) + 4, priced=True)
+                failed = _mend_with_moves(neg, net, lost, mask, closed)
         finally:
-            neg.fanout = saved
             neg.mend.clear()
         shared, _ = neg.conflicts()
         if not failed and net in neg.routes and not any(k > before.get(n, 0) for n, k in shared.items()):
@@ -1478,6 +1454,38 @@ def _mend_many(neg: _Negotiation, lost: dict, in_vain: Optional[set] = None) -> 
             continue
         in_vain.add(key)
         neg.restore(snap)
+
+
+def _mend_with_moves(neg: _Negotiation, net: str, lost: dict, mask: np.ndarray, closed: list) -> dict:
+    """:func:`_mend_many`'s second way, `net`'s pieces set (``neg.mend``) and no way joining them with
+    walls: the routed nets with a cell where `mask` is set or a pad in a closed pad's row are
+    ripped up (those of more than :data:`MEND_RIP_MOST` pads cut within `mask` and mended), the
+    `closed` pads' parts planned, and they and `net` negotiate, then routed with walls, then
+    repaired. Returns the nets left without a way (empty: every one routed)."""
+    g = neg.grid
+    moved = set()
+    for n in _masked_nets(neg, net, mask) + _row_nets(neg, net, closed):
+        if n in lost or n in moved:
+            continue
+        if _pad_count(neg, n) > MEND_RIP_MOST:
+            rn = neg.routes[n]
+            neg.mend[n] = cut(g, rn, {c for c in rn.cells if mask[c[1], c[2]]}, neg.groups[n])
+        moved.add(n)
+    names = [net] + [n for n in neg.nets if n in moved]
+    for n in names[1:]:
+        neg.rip(n)
+    saved = neg.fanout
+    try:
+        if closed:
+            neg.fanout = None
+            neg.plan_fanout(refs=sorted({p.ref for p in closed}))
+        _fan_negotiation(neg, names, MEND_SWEEPS)
+        failed = _walls_after(neg, names, must=net)
+    finally:
+        neg.fanout = saved
+    if failed and net not in failed:
+        _repair(neg, failed, rounds=4 * len(failed) + 4, priced=True)
+    return failed
 
 
 def _masked_nets(neg: _Negotiation, net: str, mask: np.ndarray) -> list[str]:
@@ -1618,11 +1626,15 @@ def _repair(neg: _Negotiation, lost: dict, rounds: int, order: Optional[list] = 
                              and n not in neg.routes])
 
 
+def _shared_cells(neg: _Negotiation, net: str) -> set:
+    """The cells (l, j, i) where `net`'s laid route shares with other nets' copper (:meth:`conflicts`)."""
+    _, cells = neg.conflicts(only=[net])
+    return {tuple(int(x) for x in c) for arr in cells for c in np.asarray(arr).reshape(-1, 3)}
+
+
 def _cut_where_shared(neg: _Negotiation, net: str):
     """`net`'s route (laid) cut at the cells it shares with other nets (:func:`router.mend.cut`)."""
-    _, cells = neg.conflicts(only=[net])
-    drop = {tuple(int(x) for x in c) for arr in cells for c in np.asarray(arr).reshape(-1, 3)}
-    return cut(neg.grid, neg.routes[net], drop, neg.groups[net])
+    return cut(neg.grid, neg.routes[net], _shared_cells(neg, net), neg.groups[net])
 
 
 def _mended(neg: _Negotiation, net: str, m) -> NetRoute:

@@ -504,10 +504,11 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
     cx = np.mean([p.x for t in terms for p in t.pads])
     cy = np.mean([p.y for t in terms for p in t.pads])
     # (a terminal reached only by escape vias starts no search: a source costs nothing, its via would be free)
-    first = min(range(len(terms)), key=lambda k: (_via_only(terms[k]),
-                                                  math.hypot(terms[k].pads[0].x - cx, terms[k].pads[0].y - cy), k))
     if pieces:                           # the largest piece kept (router.mend): the others join it
         first = max(range(len(pieces)), key=lambda k: (len(terms[k].cells), -k))
+    else:
+        first = min(range(len(terms)), key=lambda k: (_via_only(terms[k]),
+                                                      math.hypot(terms[k].pads[0].x - cx, terms[k].pads[0].y - cy), k))
     tree: dict = _price_exits(grid, space, terms, first, via, bend)  # cell -> stub to add when a path leaves from it
     if first < len(pieces):              # every cell of a kept piece is a source, however priced
         tree = dict(terms[first].cells)

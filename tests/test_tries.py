@@ -11,6 +11,8 @@ fan-out plan's try loses S4 too, the next order routes every net.
 """
 from __future__ import annotations
 
+import pytest
+
 from router import negotiate
 from router.boardfile import dumps_board
 from router.check import check
@@ -68,41 +70,31 @@ def test_a_losing_try_stops_after_repair_and_the_board_is_the_same(monkeypatch):
     assert [v for v in check(cut.board) if v.rule != "open"] == []
 
 
-def test_the_last_try_plans_the_fan_out_and_prices_the_lanes_at_once(monkeypatch):
-    """After the try with the lanes priced, one more in the first order with the fan-out planned as
-    well: a pad whose planned exit a neighbour's via closes just beyond the row needs both (angled
-    real_board(15, 30): only that try routes every net, docs/measurements.md). Each try here is
-    a stand-in that loses S4 unless it plans and prices the lanes; the board kept is that try's
-    (common practice: the fewest unrouted nets win)."""
-    made = []
-
-    def stand_in(start, todo, seed, attempt, *a, plan=False, lanes=False, **kw):
-        made.append((attempt, plan, lanes))
-        lost = {} if plan and lanes else {"S4": "lost by the test"}
-        return start.copy(), lost, 1, 0, set(), 0
-
-    monkeypatch.setattr(negotiate, "_attempt", stand_in)
-    r = negotiate.route_board(quad_on_fine_grid())
-    assert made == [(0, False, False), (0, True, False), (1, False, False), (2, False, False),
-                    (0, False, True), (0, True, True)]
-    assert r.failed == {}
+_ALL_TRIES = [(0, False, False, None), (0, True, False, None), (1, False, False, None), (2, False, False, None),
+              (0, False, True, None), (0, True, True, None), (0, False, False, True)]
 
 
-def test_the_very_last_try_mends_the_supplies_in_repair_s_way(monkeypatch):
-    """After every other try, the first order once more with repair mending the supplies in its
-    way (router.mend), as a big board's one try does; the tries before leave it to the board's
-    size (None). Each try here is a stand-in that loses S4 unless it mends; the board kept is
-    the last try's (common practice: the fewest unrouted nets win)."""
-    made = []
+@pytest.mark.parametrize("wins, made", [
+    # after the try with the lanes priced, one more in the first order with the fan-out planned as
+    # well: a pad whose planned exit a neighbour's via closes just beyond the row needs both (angled
+    # real_board(15, 30): only that try routes every net, docs/measurements.md)
+    (lambda plan, lanes, mend: plan and lanes, _ALL_TRIES[:6]),
+    # after every other try, the first order once more with repair mending the supplies in its way
+    # (router.mend), as a big board's one try does; the tries before leave it to the board's size (None)
+    (lambda plan, lanes, mend: bool(mend), _ALL_TRIES),
+], ids=["plan-and-lanes", "mend"])
+def test_the_last_tries_and_the_board_kept(monkeypatch, wins, made):
+    """Each try here is a stand-in that loses S4 unless it is the try under test; the tries are
+    made in order up to it, and the board kept is its (common practice: the fewest unrouted nets
+    win)."""
+    seen = []
 
     def stand_in(start, todo, seed, attempt, *a, plan=False, lanes=False, mend=None, **kw):
-        made.append((attempt, plan, lanes, mend))
-        lost = {} if mend else {"S4": "lost by the test"}
+        seen.append((attempt, plan, lanes, mend))
+        lost = {} if wins(plan, lanes, mend) else {"S4": "lost by the test"}
         return start.copy(), lost, 1, 0, set(), 0
 
     monkeypatch.setattr(negotiate, "_attempt", stand_in)
     r = negotiate.route_board(quad_on_fine_grid())
-    assert made == [(0, False, False, None), (0, True, False, None), (1, False, False, None),
-                    (2, False, False, None), (0, False, True, None), (0, True, True, None),
-                    (0, False, False, True)]
+    assert seen == made
     assert r.failed == {}
