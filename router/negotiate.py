@@ -31,7 +31,7 @@ import math
 import time
 from collections import defaultdict
 from dataclasses import dataclass, field
-from typing import Optional
+from typing import Callable, Optional
 
 import numpy as np
 from shapely.geometry import Point as SPoint
@@ -567,7 +567,8 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
         fine-pitch parts fanned out (`fanout_first`) and after them once in the same order with
         the lanes out of fine-pitch row pads' outer ends priced for other nets' vias
         (:class:`router.escape.ExitReserve` with ``lanes``), then once with both, and keep the routing that leaves
-        fewest unrouted (of those, the one with fewest vias);
+        fewest unrouted (of those, the one with fewest vias; a try that loses nets is compared by its
+        vias before polish and the via passes, which are made for the kept try only, :func:`_kept_try`);
         only on boards of at most :data:`BIG_WORK` nets x grid cells (a bigger board relies on
         the local re-order of the nets near an unrouted net's pads instead).
     polish : bool
@@ -641,22 +642,23 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
         tries.append((0, False, True, None))
         tries.append((0, True, True, None))
         tries.append((0, False, False, True))
-    for attempt, plan, lanes, mend in tries:
+    kept: list = []                  # the tries that may be kept: (lost, vias, k, board or _Unfinished, lost, npass, shared)
+    for k, (attempt, plan, lanes, mend) in enumerate(tries):
         got = _attempt(start, todo_names, seed, attempt, bend, via, jump, passes, progress, polish, every_net,
-                       fewer_vias, plan=plan, lanes=lanes, beat=None if best is None else len(best[1]),
-                       fan_failed=fan_failed, classic=classic, mend=mend)
+                       fewer_vias, plan=plan, lanes=lanes, beat=None if best is None else best[0],
+                       fan_failed=fan_failed, classic=classic, mend=mend, finish=False)
         if got is None:
             continue                 # nothing to plan: that try would route as the first did
-        out_board, lost, npass, shared_left, blind, work = got
-        if out_board is None:
-            pass                     # more nets lost than the best try: not finished (it cannot be kept)
-        elif best is None or (len(lost), len(out_board.vias)) < (len(best[1]), len(best[0].vias)):
-            best = (out_board, lost, npass, shared_left)      # fewest unrouted, then fewest vias
-        if not best[1] or set(best[1]) <= set(blind):
+        out, lost, npass, shared_left, blind, work = got
+        if out is not None:          # None: more nets lost than the best try, not finished (it cannot be kept)
+            vias = out.vias + len(start.vias) if isinstance(out, _Unfinished) else len(out.vias)
+            kept.append((len(lost), vias, k, out, lost, npass, shared_left))
+            best = min(kept, key=lambda c: c[:3])        # fewest unrouted, then fewest vias, then the earlier
+        if not best[4] or set(best[4]) <= set(blind):
             break                    # complete, or only pads no exit reaches are left: another order cannot help
         if work > BIG_WORK:
             break                    # a big board: the local re-order in _attempt, not the whole board again
-    b, lost, npass, shared_left = best
+    b, lost, npass, shared_left = _kept_try(kept)
     failed.update(lost)
     result = RouteResult(b, _figures(b), {n: failed[n] for n in [m.name for m in b.nets] if n in failed},
                          time.perf_counter() - t0, npass, shared_left)
@@ -670,10 +672,28 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
     return result
 
 
+def _kept_try(kept: list) -> tuple:
+    """The try route_board keeps, of `kept` ((lost, vias, k, board or :class:`_Unfinished`, lost
+    nets, passes, nets sharing) each): the fewest lost nets, then the fewest vias, then the earlier.
+    Only that one is finished; the exact check at its end may lose a net more, and then the next in
+    line is finished too, until no try left could lose fewer. Returns (board, lost nets, passes,
+    nets sharing)."""
+    done = []
+    for c in sorted(kept, key=lambda c: c[:3]):
+        if done and min(d[0] for d in done) <= c[0]:
+            break                    # finishing never routes a lost net: this one cannot lose fewer
+        out, lost = c[3], c[4]
+        board = out.finish() if isinstance(out, _Unfinished) else out
+        done.append((len(lost), len(board.vias), c[2], board, lost, c[5], c[6]))
+    best = min(done, key=lambda d: d[:3])
+    return best[3], best[4], best[5], best[6]
+
+
 def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend: int, via: int, jump: int,
              passes: Optional[int], progress: bool, polish: bool, every_net: bool = False, fewer: bool = True,
              plan: bool = False, lanes: bool = False, beat: Optional[int] = None,
-             fan_failed: Optional[set] = None, classic: Optional[bool] = None, mend: Optional[bool] = None):
+             fan_failed: Optional[set] = None, classic: Optional[bool] = None, mend: Optional[bool] = None,
+             finish: bool = True):
     """One complete routing of `start`; attempt 0 takes nets shortest first, later attempts a
     shuffled order (each net's half-perimeter scaled by a random factor from the seed). Returns
     the board, the nets lost with their reasons, passes, nets sharing at the end of negotiation,
@@ -690,7 +710,9 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
     `classic`: the classic negotiation (see :func:`route_board`; None: on a board below
     :data:`BIG_WORK`); `passes` None: :data:`CLASSIC_PASSES` with it, else :data:`DEFAULT_PASSES`.
     `mend`: repair mends the nets of many pads in its way (:func:`_repair`; None: on a big board,
-    which gets one try only)."""
+    which gets one try only). Without `finish`, a try that loses nets returns an :class:`_Unfinished`
+    in place of the board: polish, the via passes and the exact check are made only for the try
+    route_board keeps (they never route a lost net)."""
     b = start.copy()
     grid = RoutingGrid(b)
     groups = _pad_groups(b, grid)
@@ -798,19 +820,36 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
         _mend_many(neg, lost, in_vain=fan_failed)
     if beat is not None and len(lost) > beat:
         return None, lost, npass, shared_left, set(neg.blind), work
-    if polish:
-        _polish(neg, order)
-    if fewer and grid.L == 2:            # a pass that takes out vias a net can do without (router.viapass)
-        _fewer_vias(neg, order, _cost(VIA_TRADE, grid.pitch))
-        _move_blockers(neg, order, _cost(VIA_TRADE, grid.pitch), near=MOVE_NEAR if big else None)
-    for net in [n for n in order if n in lost and n not in neg.blind]:    # which nets' copper, by name
-        if TAKEN in lost[net]:
-            lost[net] = _name_takers(neg, net, lost[net])
-        elif ROUTED in lost[net]:
-            lost[net] = _name_routed(neg, net, lost[net])
-    _write(b, grid, neg, order)
-    _settle(b, start, lost, order)
-    return b, lost, npass, shared_left, set(neg.blind), work
+
+    def finished() -> Board:
+        if polish:
+            _polish(neg, order)
+        if fewer and grid.L == 2:            # a pass that takes out vias a net can do without (router.viapass)
+            _fewer_vias(neg, order, _cost(VIA_TRADE, grid.pitch))
+            _move_blockers(neg, order, _cost(VIA_TRADE, grid.pitch), near=MOVE_NEAR if big else None)
+        for net in [n for n in order if n in lost and n not in neg.blind]:    # which nets' copper, by name
+            if TAKEN in lost[net]:
+                lost[net] = _name_takers(neg, net, lost[net])
+            elif ROUTED in lost[net]:
+                lost[net] = _name_routed(neg, net, lost[net])
+        _write(b, grid, neg, order)
+        _settle(b, start, lost, order)
+        return b
+
+    if lost and not finish:              # finished only if it is the try kept (route_board)
+        return _Unfinished(finished, sum(len(r.vias) for r in neg.routes.values())), lost, npass, shared_left, \
+            set(neg.blind), work
+    return finished(), lost, npass, shared_left, set(neg.blind), work
+
+
+@dataclass
+class _Unfinished:
+    """A try that lost nets, stopped before polish, the via passes, the naming of what closes its
+    lost nets and the exact check (:func:`_attempt` with ``finish=False``): `finish()` makes them and
+    returns the written board (the exact check may add lost nets, to the try's own dict); `vias`:
+    its routed vias so far."""
+    finish: Callable[[], Board]
+    vias: int
 
 
 def _route_bends(grid: RoutingGrid, r: NetRoute) -> int:

@@ -1,7 +1,7 @@
 """The whole-board tries of route_board: a try that loses more nets after repair and the swap than
 an earlier try is not finished (polish and the via passes never route a lost net and the exact
-check only takes nets out, so it could not be the kept one), and the board written is the one every try
-finished would give.
+check only takes nets out, so it could not be the kept one); a try that loses nets is finished only
+if it is the one kept; and the board written is the one every try finished would give.
 
 Outside references: the same routing with every try finished, compared byte for byte (common
 practice: a cut that must not change the result is checked against the result without it);
@@ -31,7 +31,7 @@ def _routed(monkeypatch, finish_all: bool):
 
     def watched_attempt(*a, **kw):
         if finish_all:
-            kw["beat"] = None
+            kw["beat"], kw["finish"] = None, True
         polished, n = len(calls), len(repairs)
         out = attempt(*a, **kw)
         if out is not None:
@@ -61,7 +61,8 @@ def _routed(monkeypatch, finish_all: bool):
 
 def test_a_losing_try_stops_after_repair_and_the_board_is_the_same(monkeypatch):
     cut, tries = _routed(monkeypatch, finish_all=False)
-    assert [(lost, done) for _, lost, done in tries] == [(1, True), (2, False), (0, True)]
+    # the first try loses S4 and waits unfinished; the third routes every net and is the one finished
+    assert [(lost, done) for _, lost, done in tries] == [(1, False), (2, False), (0, True)]
     assert [beat for beat, _, _ in tries] == [None, 1, 1]
     full, tries = _routed(monkeypatch, finish_all=True)
     assert [(lost, done) for _, lost, done in tries] == [(1, True), (2, True), (0, True)]
@@ -98,3 +99,40 @@ def test_the_last_tries_and_the_board_kept(monkeypatch, wins, made):
     r = negotiate.route_board(quad_on_fine_grid())
     assert seen == made
     assert r.failed == {}
+
+
+class _Later:
+    """A stand-in for an unfinished try (negotiate._Unfinished): finishing it may lose `more` nets."""
+
+    def __init__(self, lost: dict, vias: int, more: int = 0):
+        self.lost, self.vias, self.more, self.made = lost, vias, more, False
+
+    def finish(self):
+        from router.model import Board
+        self.made = True
+        for k in range(self.more):
+            self.lost[f"X{k}"] = "its route broke the clearance rule on the exact check"
+        b = Board("t", [(0.0, 0.0), (1.0, 0.0), (1.0, 1.0)])
+        b.vias = []
+        return b
+
+
+def _kept(tries):
+    return [(len(t.lost), t.vias, k, negotiate._Unfinished(t.finish, t.vias), t.lost, 1, 0) for k, t in enumerate(tries)]
+
+
+def test_only_the_kept_try_is_finished():
+    """Fewest lost nets, then fewest vias (common practice): the second try is kept and only it is
+    finished."""
+    a, b, c = _Later({"S1": ""}, 30), _Later({"S2": ""}, 20), _Later({"S1": "", "S2": ""}, 5)
+    board, lost, *_ = negotiate._kept_try(_kept([a, b, c]))
+    assert lost is b.lost and (a.made, b.made, c.made) == (False, True, False)
+
+
+def test_a_try_the_exact_check_makes_lose_more_gives_way_to_the_next():
+    """The kept try's exact check takes a net out: the next try in line, which loses no more before
+    it is finished, is finished too and kept; the one after, losing two already, is not finished."""
+    a, b, c = _Later({"S1": ""}, 10, more=1), _Later({"S2": ""}, 20), _Later({"S1": "", "S2": ""}, 5)
+    board, lost, *_ = negotiate._kept_try(_kept([a, b, c]))
+    assert lost is b.lost and (a.made, b.made, c.made) == (True, True, False)
+    assert set(a.lost) == {"S1", "X0"}
