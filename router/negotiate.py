@@ -130,6 +130,10 @@ REPAIR_DEAR = 0.5
 #: (router.viapass.MOVE_NEAR). Smaller boards keep the fuller search (our choice, see
 #: docs/measurements.md for what each costs and gives).
 BIG_WORK = 20_000_000
+#: How many tries route_board holds unfinished at once (each holds its grid and search arrays): the
+#: one in line to be kept and one more, finished only when the exact check of the first takes a net
+#: out (_kept_try). Our choice: memory of at most two grids beside the try being routed.
+KEEP_TRIES = 2
 #: On a big board a net's searches at congestion cost keep to the grid within this many mm of the
 #: box around its pads, and search the whole board only when no way is found there (our choice:
 #: late in negotiation a shared cell costs hundreds of grid steps, and a search whose targets lie
@@ -653,7 +657,12 @@ def route_board(board: Board, bend_penalty: Optional[float] = None, via_penalty:
         if out is not None:          # None: more nets lost than the best try, not finished (it cannot be kept)
             vias = out.vias + len(start.vias) if isinstance(out, _Unfinished) else len(out.vias)
             kept.append((len(lost), vias, k, out, lost, npass, shared_left))
-            best = min(kept, key=lambda c: c[:3])        # fewest unrouted, then fewest vias, then the earlier
+            # fewest unrouted, then fewest vias, then the earlier; an unfinished try holds its grid, so
+            # only the first KEEP_TRIES in line are kept (the next is finished only when the exact
+            # check takes a net out of the first, _kept_try)
+            kept = sorted(kept, key=lambda c: c[:3])[:KEEP_TRIES]
+            best = kept[0]
+        got = out = None             # a try left out of `kept` is let go before the next is routed
         if not best[4] or set(best[4]) <= set(blind):
             break                    # complete, or only pads no exit reaches are left: another order cannot help
         if work > BIG_WORK:

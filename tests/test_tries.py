@@ -136,3 +136,30 @@ def test_a_try_the_exact_check_makes_lose_more_gives_way_to_the_next():
     board, lost, *_ = negotiate._kept_try(_kept([a, b, c]))
     assert lost is b.lost and (a.made, b.made, c.made) == (True, True, False)
     assert set(a.lost) == {"S1", "X0"}
+
+
+def test_route_board_finishes_only_the_try_it_keeps(monkeypatch):
+    """Every try a stand-in losing S4 with its own vias so far (the third fewest): route_board holds at
+    most KEEP_TRIES of them unfinished and finishes only the third, which it keeps (common practice:
+    fewest unrouted, then fewest vias)."""
+    import weakref
+    made, held, alive = [], [], []
+
+    def stand_in(start, todo, seed, attempt, *a, plan=False, lanes=False, mend=None, finish=True, **kw):
+        alive.append(sum(1 for w in held if w() is not None))     # the earlier tries still held
+        k = len(made)
+        vias = [9, 7, 3, 8, 5, 6, 4][k]
+        made.append([vias, False])
+
+        def finished(k=k, b=start.copy()):
+            made[k][1] = True
+            return b
+        out = negotiate._Unfinished(finished, vias)
+        held.append(weakref.ref(out))
+        return out, {"S4": "lost by the test"}, 1, 0, set(), 0
+
+    monkeypatch.setattr(negotiate, "_attempt", stand_in)
+    r = negotiate.route_board(quad_on_fine_grid())
+    assert len(made) == len(_ALL_TRIES) and [v for v, done in made if done] == [3]
+    assert max(alive) == negotiate.KEEP_TRIES
+    assert set(r.failed) == {"S4"}
