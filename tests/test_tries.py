@@ -139,7 +139,7 @@ def test_a_try_the_exact_check_makes_lose_more_gives_way_to_the_next():
 
 
 def test_route_board_finishes_only_the_try_it_keeps(monkeypatch):
-    """Every try a stand-in losing S4 with its own vias so far (the third fewest): route_board holds at
+    """Every try a stand-in losing S4 with its own vias so far (the third try the fewest): route_board holds at
     most KEEP_TRIES of them unfinished and finishes only the third, which it keeps (common practice:
     fewest unrouted, then fewest vias)."""
     import weakref
