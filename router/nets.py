@@ -510,8 +510,8 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
         first = min(range(len(terms)), key=lambda k: (_via_only(terms[k]),
                                                       math.hypot(terms[k].pads[0].x - cx, terms[k].pads[0].y - cy), k))
     tree: dict = _price_exits(grid, space, terms, first, via, bend)  # cell -> stub to add when a path leaves from it
-    if first < len(pieces):              # every cell of a kept piece is a source, however priced
-        tree = dict(terms[first].cells)
+    if first < len(pieces):              # every cell of a kept piece is a source, however priced (the call
+        tree = dict(terms[first].cells)  # above is still what prices the other terminals' exits)
     # the first terminal's via places left out as dearer than its other cells: sources after all
     # when no search from those finds a way (a pad boxed in on its own layer). (Every cell left
     # out, with a fan-out plan, measured worse: real_board(1, 60)'s planned try lost 3 nets, not 0.)
