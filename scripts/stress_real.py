@@ -108,6 +108,30 @@ def run_baseline(path: Path, text: str, tmp: Path, seed: int):
     return figures(loads_board(out.read_text()), seconds)
 
 
+def same_task(made, base: dict, args, tmp: Path, seed: int, rounds: int = 3):
+    """Both routers on `made` cut down to the nets the baseline completed (`base` its figures on the
+    whole board): (nets, today's routed, today's vias, baseline's routed, baseline's vias), cut again
+    while the baseline leaves a net of the cut board, at most `rounds` times; None when no net is left.
+    The nets cut out keep their pads as copper of no net, so both route round the same obstacles."""
+    import copy
+    joined = base["joined"]
+    for _ in range(rounds):
+        cut = copy.deepcopy(made)
+        cut.nets = [n for n in cut.nets if n.name in joined]
+        if not cut.nets:
+            return None
+        text = dumps_board(cut)
+        b = run_baseline(args.baseline, text, tmp, seed)
+        if "error" in b:
+            return None
+        if b["routed"] == b["nets"]:
+            break
+        joined = b["joined"]
+    r = route_board(loads_board(text), seed=0, via_penalty=args.via_penalty)
+    o = figures(r.board, 0.0)
+    return (len(cut.nets), o["routed"], o["vias"], b["routed"], b["vias"])
+
+
 def _generated_size(nets: int) -> tuple:
     """bench_route's board size for a generated board of `nets` nets."""
     for most, size in ((10, (30.0, 25.0)), (25, (45.0, 35.0)), (50, (60.0, 45.0)), (80, (80.0, 60.0))):
@@ -161,6 +185,10 @@ def main(argv=None) -> int:
                     help="router.boardgen's generated boards instead (sizes as bench_route's: 10 nets 30 x 25 mm, "
                          "25 nets 45 x 35, 50 nets 60 x 45, 80 nets 80 x 60, else 100 x 80): boards both routers "
                          "route completely, so vias compare net for net")
+    ap.add_argument("--same-task", action="store_true",
+                    help="also route, by both routers, each board cut down to the nets the baseline completes "
+                         "(its unrouted nets' pads left as netless copper, cut again until it completes them "
+                         "all), and compare vias on that one task")
     ap.add_argument("--via-penalty", type=float, default=None, metavar="V",
                     help="today's router with this via penalty in mm (route --via-penalty); the baseline "
                          "keeps its default")
@@ -179,6 +207,7 @@ def main(argv=None) -> int:
     print("-" * len(head))
     tot = {"ours": [0, 0, 0, 0, 0.0, 0, 0.0], "base": [0, 0, 0, 0, 0.0, 0, 0.0]}
     both = [0, 0, 0]                     # nets both routed, today's vias on them, the baseline's
+    same = [0, 0, 0, 0, 0]               # same task: nets, today's routed, vias, the baseline's routed, vias
     clean = True
     with tempfile.TemporaryDirectory() as td:
         tmp = Path(td)
@@ -221,6 +250,13 @@ def main(argv=None) -> int:
             print(line, flush=True)
             for n, why in r.failed.items():      # today's unrouted nets and why (route's `failed`)
                 print(f"      unrouted {n}: {why}", flush=True)
+            if args.same_task and not args.no_baseline and "error" not in base:
+                task = same_task(made, base, args, tmp, seed)
+                if task is not None:
+                    print(f"      same task: {task[0]} nets | today {task[1]}/{task[0]}, {task[2]} vias"
+                          f" | baseline {task[3]}/{task[0]}, {task[4]} vias", flush=True)
+                    for i, x in enumerate(task):
+                        same[i] += x
     o, b = tot["ours"], tot["base"]
     print("-" * len(head))
     print(f"today:    {o[0]}/{o[1]} nets routed, {o[2]} violations, {o[3]} vias, {o[5]} bends, "
@@ -233,6 +269,10 @@ def main(argv=None) -> int:
         if both[2]:
             print(f"on the {both[0]} nets both routed: vias today {both[1]}, baseline {both[2]}, "
                   f"ratio {both[1] / both[2]:.2f}")
+        if same[0]:
+            print(f"same task ({same[0]} nets, the boards cut down to the nets the baseline completes): "
+                  f"today {same[1]}/{same[0]} routed, {same[2]} vias; baseline {same[3]}/{same[0]} routed, "
+                  f"{same[4]} vias" + (f"; ratio {same[2] / same[4]:.2f}" if same[4] else ""))
     print("every board complete and clean" if clean else "NOT every board complete and clean")
     return 0 if clean else 1
 
