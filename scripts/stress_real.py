@@ -4,6 +4,7 @@ Usage::
 
     python scripts/stress_real.py (--seeds A B [--nets N ...] | --boards SEED:NETS ...) [--baseline DIR | --no-baseline]
                                   [--commit REV] [--save DIR] [--angled] [--generated] [--grid MM] [--mil] [--via-penalty V]
+                                  [--same-task]
 
 Each seed in ``A .. B-1`` makes one board with ``real_board(seed, nets)`` (the nets cycle through
 ``--nets``, default 30 60 100 150 200; ``--boards 6:120 17:100`` routes just those boards; ``--grid``
@@ -23,12 +24,23 @@ whose pads all lie on one layer, which could route with none; esc: escape vias b
 with today's and the baseline's vias on just those nets, as a router that leaves hard nets unrouted
 also leaves their vias out)
 
-each followed by today's unrouted nets with their reasons, and a totals line. The exit status is 0
+each followed by today's unrouted nets with their reasons, and a totals line.
+
+``--same-task`` gives both routers one task they both complete: each board cut down to the nets the
+baseline routed (the others' pads stay on their parts as copper of no net; cut again, at most three
+times, while the baseline leaves a net of the cut board), routed by both, with a line
+
+    same task: nets | today routed, vias | baseline routed, vias
+
+under the board and the vias of both on it in the totals. On the whole board the nets only today's
+router reaches (fine-pitch pads) take room the others crossed in before, so the nets both routed
+there are not the same task. The exit status is 0
 when every board routes completely with no violation.
 """
 from __future__ import annotations
 
 import argparse
+import copy
 import json
 import os
 import re
@@ -108,26 +120,32 @@ def run_baseline(path: Path, text: str, tmp: Path, seed: int):
     return figures(loads_board(out.read_text()), seconds)
 
 
-def same_task(made, base: dict, args, tmp: Path, seed: int, rounds: int = 3):
-    """Both routers on `made` cut down to the nets the baseline completed (`base` its figures on the
-    whole board): (nets, today's routed, today's vias, baseline's routed, baseline's vias), cut again
-    while the baseline leaves a net of the cut board, at most `rounds` times; None when no net is left.
-    The nets cut out keep their pads as copper of no net, so both route round the same obstacles."""
-    import copy
+def cut_board(made, keep):
+    """A copy of `made` with only the nets named in `keep`; the pads of the others stay on their parts
+    as copper of no net, so a router of the cut board goes round the same obstacles."""
+    cut = copy.deepcopy(made)
+    cut.nets = [n for n in cut.nets if n.name in keep]
+    return cut
+
+
+def same_task(made, base: dict, baseline: Path, tmp: Path, seed: int, via_penalty=None, rounds: int = 3):
+    """Both routers on `made` cut down to the nets the baseline (the checkout at `baseline`) completed,
+    `base` being its figures on the whole board: (nets, today's routed, today's vias, the baseline's
+    routed, its vias). Cut again while the baseline leaves a net of the cut board, at most `rounds`
+    times; None when no net is left or the baseline fails."""
     joined = base["joined"]
     for _ in range(rounds):
-        cut = copy.deepcopy(made)
-        cut.nets = [n for n in cut.nets if n.name in joined]
+        cut = cut_board(made, joined)
         if not cut.nets:
             return None
         text = dumps_board(cut)
-        b = run_baseline(args.baseline, text, tmp, seed)
+        b = run_baseline(baseline, text, tmp, seed)
         if "error" in b:
             return None
         if b["routed"] == b["nets"]:
             break
         joined = b["joined"]
-    r = route_board(loads_board(text), seed=0, via_penalty=args.via_penalty)
+    r = route_board(loads_board(text), seed=0, via_penalty=via_penalty)
     o = figures(r.board, 0.0)
     return (len(cut.nets), o["routed"], o["vias"], b["routed"], b["vias"])
 
@@ -251,7 +269,7 @@ def main(argv=None) -> int:
             for n, why in r.failed.items():      # today's unrouted nets and why (route's `failed`)
                 print(f"      unrouted {n}: {why}", flush=True)
             if args.same_task and not args.no_baseline and "error" not in base:
-                task = same_task(made, base, args, tmp, seed)
+                task = same_task(made, base, args.baseline, tmp, seed, args.via_penalty)
                 if task is not None:
                     print(f"      same task: {task[0]} nets | today {task[1]}/{task[0]}, {task[2]} vias"
                           f" | baseline {task[3]}/{task[0]}, {task[4]} vias", flush=True)
