@@ -261,6 +261,15 @@ class _Negotiation:
         self.off_grid[net] = list(got[4])
         self.spaces.lay(net, items, self.off_grid[net], +1)
 
+    def partial(self, net: str) -> NetRoute:
+        """`net`, which cannot be completed, joined as far as it goes with every other net's copper as
+        walls (:func:`router.nets.route_net` with ``partial``): the pads it reaches, not its lost
+        pads, so a user completes it by hand or in a later ``route`` from the copper kept."""
+        extra = self.reserve.extra_for(net)
+        space, others = self.spaces.space(self, net, True, extra)
+        return route_net(self.grid, net, space, self.groups[net], bend=self.bend, via=self.via, jump=self.jump,
+                         others=others, order=self.ties.get(net, (0, 1, 2, 3)), explain=False, partial=True)
+
     def rip(self, net: str) -> None:
         r = self.routes.pop(net, None)
         if r is None:
@@ -841,7 +850,8 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
                 lost[net] = _name_takers(neg, net, lost[net])
             elif ROUTED in lost[net]:
                 lost[net] = _name_routed(neg, net, lost[net])
-        _write(b, grid, neg, order)
+        kept = _partial_copper(neg, [n for n in order if n in lost])
+        _write(b, grid, neg, order, partial=kept)
         _settle(b, start, lost, order)
         return b
 
@@ -1824,11 +1834,30 @@ def _anchor_test(grid: RoutingGrid, net: str, r: NetRoute):
     return anchored
 
 
-def _write(b: Board, grid: RoutingGrid, neg: _Negotiation, order: list[str]) -> None:
-    """Write each routed net's copper into the board: polylines, vias, jumpers."""
+def _partial_copper(neg: _Negotiation, lost: list[str]) -> set:
+    """The lost nets of three pad groups or more that keep the copper joining the pads they reach
+    (:meth:`_Negotiation.partial`, laid one after the other, each a wall to the next): a supply that
+    misses one pad of thirty is written with the twenty-nine joined, not left out whole. Their
+    reasons stay; the exact check takes the copper out again where it breaks a rule (:func:`_settle`)."""
+    kept = set()
+    for net in lost:
+        if len(neg.groups[net]) < 3:
+            continue
+        if net in neg.routes:
+            neg.rip(net)
+        r = neg.partial(net)
+        if r.edges or r.stubs or r.necks or r.jumpers:
+            neg.lay(net, r)
+            kept.add(net)
+    return kept
+
+
+def _write(b: Board, grid: RoutingGrid, neg: _Negotiation, order: list[str], partial: frozenset = frozenset()) -> None:
+    """Write each routed net's copper into the board: polylines, vias, jumpers; and the copper of the
+    lost nets in `partial` (:func:`_partial_copper`)."""
     for net in order:
         r = neg.routes.get(net)
-        if r is None or r.failed:
+        if r is None or (r.failed and net not in partial):
             continue
         width = neg.width(net)
         per_layer = defaultdict(list)          # unit steps, so that a T junction is a shared point
@@ -1867,16 +1896,18 @@ def _settle(b: Board, original: Board, failed: dict, order: list[str]) -> None:
             if v.rule not in _GEOMETRY_RULES or (v.rule, v.message) in known:
                 continue
             for n in v.nets:
-                if n in new_nets and n not in failed and _has_new(b, n, before_t, before_v, before_j):
+                if n in new_nets and _has_new(b, n, before_t, before_v, before_j):
                     bad.setdefault(n, (v.rule, v.at))
                     break
         if not bad:
             break
-        # take out the last-routed offender first; others may be clean without it
-        net = max(bad, key=lambda n: order.index(n))
+        # take out a lost net's partial copper first (_partial_copper), then the last-routed offender;
+        # others may be clean without it
+        net = max(bad, key=lambda n: (n in failed, order.index(n)))
         rule, at = bad[net]
         where = f" near ({at[0]:.2f}, {at[1]:.2f})" if at else ""
-        failed[net] = f"its route broke the {rule} rule{where} on the exact check; left unrouted"
+        if net not in failed:
+            failed[net] = f"its route broke the {rule} rule{where} on the exact check; left unrouted"
         b.traces = b.traces[:before_t] + [t for t in b.traces[before_t:] if t.net != net]
         b.vias = b.vias[:before_v] + [v for v in b.vias[before_v:] if v.net != net]
         b.jumpers = b.jumpers[:before_j] + [j for j in b.jumpers[before_j:] if j.net != net]

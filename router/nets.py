@@ -430,7 +430,7 @@ def _lay_path(grid: RoutingGrid, space: SearchSpace, route: NetRoute, cells: np.
 def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[list], *,
               bend: int, via: int, jump: int, others=None, order=(0, 1, 2, 3),
               explain: bool = False, cache: bool = False, budget: Optional[int] = None,
-              pieces: Optional[list] = None) -> NetRoute:
+              pieces: Optional[list] = None, partial: bool = False) -> NetRoute:
     """Grow the rectilinear Steiner tree of one net.
 
     Parameters
@@ -467,6 +467,11 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
         Copper of the net kept from an earlier route (:func:`router.mend.cut`): each piece a
         terminal of the pads it joins, reached at any of its grid cells (l, j, i) with no stub;
         `pad_groups` are then the groups no piece holds. The route holds only the new links.
+    partial : bool
+        For a net that cannot be completed: join what can be joined. A pad with no way to the grid
+        is left out, and the terminals the tree cannot reach grow trees of their own (each as
+        far as it goes), so the route holds every link there is; ``failed`` still says why the
+        net is not complete.
 
     Returns
     -------
@@ -485,6 +490,14 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
     if len(terms) <= 1:
         return route
     blind = [t for t in terms if not t.cells]
+    if blind and partial:
+        why = f"pad {blind[0].name} has no open grid point within reach for a {grid.profile_of(net).width:g} mm trace"
+        if len(terms) - len(blind) < 2:
+            return NetRoute(net, failed=why)
+        route = _grown_apart(grid, net, space, [t for t in terms if t.cells], bend=bend, via=via, jump=jump,
+                             others=others, order=order)
+        route.failed = route.failed or why
+        return route
     if blind and others is not None and terminals(grid, grid.space_for(net), net, [blind[0].pads])[0].cells:
         # walls of other nets' routed copper, not the fixed copper, take every exit (asked of the
         # fixed copper's own space: the walled space has the routed copper's cells closed too)
@@ -572,6 +585,16 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
                 route.failed += ": " + closed_by(grid, net, space, sources, targets)
             else:
                 route.failed += UNNAMED
+            if partial and len(left) > 1:        # the terminals this tree cannot reach, joined to each other
+                rest = _grown_apart(grid, net, space, [terms[k] for k in left], bend=bend, via=via, jump=jump,
+                                    others=others, order=order)
+                route.edges |= rest.edges
+                route.stubs += rest.stubs
+                route.vias = list(dict.fromkeys(route.vias + rest.vias))
+                route.jumpers += rest.jumpers
+                route.cells |= rest.cells
+                route.near |= rest.near
+                route.necks += rest.necks
             return route
         start = tuple(int(v) for v in path.cells[0])
         end = tuple(int(v) for v in path.cells[-1])
@@ -610,6 +633,12 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
         spare = {}
         near.grow(new + [c for q in joined for c in terms[q].cells])
     return route
+
+
+def _grown_apart(grid, net, space, terms: list, **kw) -> NetRoute:
+    """:func:`route_net` with ``partial`` over the pads of `terms` (Terminals with a way to the grid;
+    their accesses are found again, the same search space)."""
+    return route_net(grid, net, space, [t.pads for t in terms], partial=True, **kw)
 
 
 class _SortedCells:
