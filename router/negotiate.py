@@ -851,7 +851,7 @@ def _attempt(start: Board, todo_names: list[str], seed: int, attempt: int, bend:
             elif ROUTED in lost[net]:
                 lost[net] = _name_routed(neg, net, lost[net])
         kept = _partial_copper(neg, [n for n in order if n in lost])
-        _write(b, grid, neg, order, partial=kept)
+        _write(b, grid, neg, order, partial=frozenset(kept))
         _settle(b, start, lost, order)
         return b
 
@@ -1852,7 +1852,8 @@ def _partial_copper(neg: _Negotiation, lost: list[str]) -> set:
     return kept
 
 
-def _write(b: Board, grid: RoutingGrid, neg: _Negotiation, order: list[str], partial: frozenset = frozenset()) -> None:
+def _write(b: Board, grid: RoutingGrid, neg: _Negotiation, order: list[str],
+           partial: frozenset = frozenset()) -> None:
     """Write each routed net's copper into the board: polylines, vias, jumpers; and the copper of the
     lost nets in `partial` (:func:`_partial_copper`)."""
     for net in order:
@@ -1895,7 +1896,8 @@ def _settle(b: Board, original: Board, failed: dict, order: list[str]) -> None:
         for v in check(b):
             if v.rule not in _GEOMETRY_RULES or (v.rule, v.message) in known:
                 continue
-            for n in v.nets:
+            # a lost net's partial copper (_partial_copper) is blamed before the routed net it meets
+            for n in sorted(v.nets, key=lambda n: n not in failed):
                 if n in new_nets and _has_new(b, n, before_t, before_v, before_j):
                     bad.setdefault(n, (v.rule, v.at))
                     break

@@ -55,3 +55,24 @@ def test_a_net_of_two_pads_gets_no_copper():
     r = route_board(b, seed=0)
     assert set(r.failed) == {"P"}
     assert not any(t.net == "P" for t in r.board.traces) and not any(v.net == "P" for v in r.board.vias)
+
+
+def test_the_exact_check_takes_out_partial_copper_before_a_routed_net():
+    # a lost net's partial copper that meets a routed net's copper: the partial copper goes, the routed
+    # net stays, and the lost net keeps its own reason (negotiate._settle); the lost net is named Z so
+    # that it comes after the routed net Q in the violation's nets
+    import copy
+    from router.model import Trace
+    from router.negotiate import _settle
+    original = _board()
+    original.nets = [Net("Z", ["A.1", "B.1", "C.1"]), Net("Q", ["D.1", "E.1"])]
+    b = copy.deepcopy(original)
+    b.traces = [Trace("Q", "top", 0.25, [(3.0, 10.0), (3.0, 12.5), (17.0, 12.5), (17.0, 10.0)]),   # Q routed
+                Trace("Z", "top", 0.25, [(3.0, 3.0), (5.0, 3.0), (5.0, 12.3)])]      # too close to Q's trace
+    assert {tuple(v.nets) for v in check(b) if v.rule != "open"} == {("Q", "Z")}
+    for order in (["Z", "Q"], ["Q", "Z"]):
+        got = copy.deepcopy(b)
+        failed = {"Z": "pad C.1 has no open grid point within reach"}
+        _settle(got, original, failed, order)
+        assert [t.net for t in got.traces] == ["Q"]
+        assert failed == {"Z": "pad C.1 has no open grid point within reach"}
