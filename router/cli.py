@@ -54,6 +54,18 @@ def cmd_place(args) -> int:
     return EXIT_OK
 
 
+def _pins_joined(board, nets) -> dict:
+    """net -> (pins its largest piece of copper joins, its pins): what a net that stays unrouted
+    keeps (router.negotiate keeps the copper of a lost net of three pads or more)."""
+    from .connectivity import net_groups
+    groups = net_groups(board)
+    out = {}
+    for net in nets:
+        gs = groups.get(net) or []
+        out[net] = (max((len(g) for g in gs), default=0), len(set().union(*gs)) if gs else 0)
+    return out
+
+
 def cmd_route(args) -> int:
     from . import load_board, save_board, route
     from .cautions import cautions
@@ -78,7 +90,9 @@ def cmd_route(args) -> int:
         figs = dict(result.figures)
         figs["totals"] = dict(figs["totals"], seconds=round(result.seconds, 3))
         if result.failed:
-            figs["failed"] = [{"net": n, "reason": r} for n, r in result.failed.items()]
+            joined = _pins_joined(result.board, result.failed)
+            figs["failed"] = [{"net": n, "reason": r, "pins_joined": joined[n][0], "pins": joined[n][1]}
+                              for n, r in result.failed.items()]
         if result.poured:
             figs["poured"] = [{"net": n, "layer": la, "pads_joined": j, "not_joined": m}
                               for n, la, j, m in result.poured]
@@ -96,8 +110,11 @@ def cmd_route(args) -> int:
             print(removed.sentence())
         print(f"routed {t['routed']} of {t['nets']} nets in {result.seconds:.1f} s: "
               f"{t['bends']} bends, {t['length']:.1f} mm, {t['vias']} vias, {t['jumpers']} jumpers")
+        joined = _pins_joined(result.board, result.failed)
         for net, reason in result.failed.items():
-            print(f"  not routed: {net}: {reason}")
+            most, pins = joined[net]
+            kept = f"; its copper joins {most} of its {pins} pins (kept in the file)" if most > 1 else ""
+            print(f"  not routed: {net}: {reason}{kept}")
         for net, layer, joined, missed in result.poured:      # router.pour: which pads need traces, and why
             print(f"  pour of {net} on {layer} joins {joined} of {joined + len(missed)} pads"
                   + (":" if missed else ""))

@@ -76,3 +76,16 @@ def test_the_exact_check_takes_out_partial_copper_before_a_routed_net():
         _settle(got, original, failed, order)
         assert [t.net for t in got.traces] == ["Q"]
         assert failed == {"Z": "pad C.1 has no open grid point within reach"}
+
+
+def test_route_says_how_many_pins_the_kept_copper_joins(tmp_path, capsys):
+    import json
+    from router.cli import main
+    src, out = tmp_path / "walled.toml", tmp_path / "routed.toml"
+    src.write_text(dumps_board(_board()))
+    assert main(["route", str(src), "-o", str(out)]) == 1                  # P stays unrouted
+    text = capsys.readouterr().out
+    assert "not routed: P:" in text and "its copper joins 2 of its 3 pins (kept in the file)" in text
+    assert main(["route", str(src), "-o", str(out), "--json"]) == 1
+    failed = json.loads(capsys.readouterr().out)["failed"]
+    assert failed == [{"net": "P", "reason": failed[0]["reason"], "pins_joined": 2, "pins": 3}]
