@@ -90,8 +90,8 @@ def cmd_route(args) -> int:
         figs = dict(result.figures)
         figs["totals"] = dict(figs["totals"], seconds=round(result.seconds, 3))
         if result.failed:
-            joined = _pins_joined(result.board, result.failed)
-            figs["failed"] = [{"net": n, "reason": r, "pins_joined": joined[n][0], "pins": joined[n][1]}
+            kept_pins = _pins_joined(result.board, result.failed)
+            figs["failed"] = [{"net": n, "reason": r, "pins_joined": kept_pins[n][0], "pins": kept_pins[n][1]}
                               for n, r in result.failed.items()]
         if result.poured:
             figs["poured"] = [{"net": n, "layer": la, "pads_joined": j, "not_joined": m}
@@ -110,9 +110,9 @@ def cmd_route(args) -> int:
             print(removed.sentence())
         print(f"routed {t['routed']} of {t['nets']} nets in {result.seconds:.1f} s: "
               f"{t['bends']} bends, {t['length']:.1f} mm, {t['vias']} vias, {t['jumpers']} jumpers")
-        joined = _pins_joined(result.board, result.failed)
+        kept_pins = _pins_joined(result.board, result.failed)
         for net, reason in result.failed.items():
-            most, pins = joined[net]
+            most, pins = kept_pins[net]
             kept = f"; its copper joins {most} of its {pins} pins (kept in the file)" if most > 1 else ""
             print(f"  not routed: {net}: {reason}{kept}")
         for net, layer, joined, missed in result.poured:      # router.pour: which pads need traces, and why
