@@ -1445,8 +1445,8 @@ def _fan_with_supplies(neg: _Negotiation, lost: dict, beat: Optional[int] = None
 
 
 def _mend_many(neg: _Negotiation, lost: dict, in_vain: Optional[set] = None) -> None:
-    """A lost net of more than :data:`MEND_RIP_MOST` pads (a supply, ground: one this step would not
-    rip up and route again whole) mended, after the other local steps, rather than
+    """A lost net of more than :data:`LOCAL_MOST_PADS` pads (a supply, ground, a bus along the parts:
+    the nets the swap and the fan-out with the supplies leave out) mended, after the other local steps, rather than
     routed again from nothing: its way through the others at :data:`REPAIR_PRICE` (:func:`_priced_route`)
     is laid for a moment to find the cells it shares (:func:`_shared_cells`), and is
     cut there and within :data:`REORDER_WINDOW` of its closed pads (:func:`router.mend.cut`). The
@@ -1467,13 +1467,16 @@ def _mend_many(neg: _Negotiation, lost: dict, in_vain: Optional[set] = None) -> 
     Why: routed again from nothing with walls, a supply's tree of dozens of pads finds no way on a
     full board, even with its closed pads left out, where most of its way through the others is
     still clear of every other net. Angled real-looking board 3 completes so; with the whole supply
-    routed again in this step instead it does not (docs/measurements.md)."""
+    routed again in this step instead it does not (docs/measurements.md). A bus of nine pads across
+    a 170-net board (real-looking board 109's SDA and SCL) came back only when mended too: before,
+    nets of five to ten pads fell between the swap's few pads and the mend's supplies, and only
+    repair tried them."""
     if neg.grid.one_layer:               # (jumper wires are not cut into pieces: not done on one layer)
         return
     in_vain = set() if in_vain is None else in_vain
     g = neg.grid
     m = int(math.ceil(REORDER_WINDOW / g.pitch - 1e-9))
-    for net in [n for n in neg.nets if n in lost and n not in neg.blind and _pad_count(neg, n) > MEND_RIP_MOST]:
+    for net in [n for n in neg.nets if n in lost and n not in neg.blind and _pad_count(neg, n) > LOCAL_MOST_PADS]:
         if net in neg.routes:
             continue
         closed = _closed_pads(neg, net)

@@ -120,8 +120,8 @@ def test_the_cut_keeps_two_pieces_with_their_pads_and_no_dangling_end():
             assert any(_pad_box(px, 6.0).distance(Point(x, y)) <= TOL for px in P_X), (x, y)
 
 
-def test_the_mend_moves_the_net_in_the_way_and_keeps_the_pieces(monkeypatch):
-    monkeypatch.setattr(negotiate, "MEND_RIP_MOST", 4)      # P's six pads make it a net to mend here
+def test_the_mend_moves_the_net_in_the_way_and_keeps_the_pieces():
+    # P's six pads are more than LOCAL_MOST_PADS (4): a net the swap leaves out, so it is mended
     neg = _setup()
     assert neg.route("P", strict=True, explain=False).failed     # B's U closes the row's way
     way = _priced_route(neg, "P")
@@ -146,7 +146,6 @@ def test_nothing_changes_when_the_mend_finds_no_way(monkeypatch):
     """B's pads on either side of the row, each 0.5 mm from an edge: on one layer B and P cannot
     both route, so the mend (P's pieces joined, B moved) cannot keep both, and every route goes back
     as it was."""
-    monkeypatch.setattr(negotiate, "MEND_RIP_MOST", 4)
     tried = []
     monkeypatch.setattr(negotiate, "cut", lambda *a: tried.append(a[1].net) or cut(*a))
     b = row()
@@ -219,9 +218,10 @@ def test_without_mend_victims_repair_routes_the_supply_again_whole():
     assert not _laid(grid, "P", detour).edges <= neg.routes["P"].edges
 
 
-def test_a_net_the_mend_would_move_whole_is_not_mended():
-    """P of six pads is at most MEND_RIP_MOST (10): a net the mend would rip up and route whole,
-    left to the steps for such nets."""
+def test_a_net_of_few_pads_is_not_mended(monkeypatch):
+    """A lost net of at most LOCAL_MOST_PADS pads is left to the swap and the fan-out, which rip it
+    up and route it whole: here LOCAL_MOST_PADS is raised to P's six pads, and the mend leaves P."""
+    monkeypatch.setattr(negotiate, "LOCAL_MOST_PADS", 6)
     neg = _setup()
     u = neg.routes["B"]
     lost = {"P": "no way"}
