@@ -20,7 +20,7 @@ where jumper wires would have to be cut too).
 from __future__ import annotations
 
 from collections import defaultdict, deque
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 from shapely.geometry import Point as SPoint
 
@@ -167,8 +167,5 @@ def cut(grid, r: NetRoute, drop: set, groups: list) -> Mend:
 
 
 def merged(kept: NetRoute, new: NetRoute) -> NetRoute:
-    """One route of the kept copper and the links `new` laid between its pieces."""
-    return NetRoute(new.net, edges=kept.edges | new.edges, stubs=kept.stubs + new.stubs,
-                    vias=list(dict.fromkeys(kept.vias + new.vias)), jumpers=kept.jumpers + new.jumpers,
-                    cells=kept.cells | new.cells, near=kept.near | new.near, failed=new.failed,
-                    blind=new.blind, necks=kept.necks + new.necks, closed=new.closed)
+    """One route of the kept copper and the links `new` laid between its pieces (`new`'s name and failure)."""
+    return replace(kept.plus(new), net=new.net, failed=new.failed, blind=new.blind, closed=new.closed)

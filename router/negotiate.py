@@ -261,15 +261,6 @@ class _Negotiation:
         self.off_grid[net] = list(got[4])
         self.spaces.lay(net, items, self.off_grid[net], +1)
 
-    def partial(self, net: str) -> NetRoute:
-        """`net`, which cannot be completed, joined as far as it goes with every other net's copper as
-        walls (:func:`router.nets.route_net` with ``partial``): the pads it reaches, not its lost
-        pads, so a user completes it by hand or in a later ``route`` from the copper kept."""
-        extra = self.reserve.extra_for(net)
-        space, others = self.spaces.space(self, net, True, extra)
-        return route_net(self.grid, net, space, self.groups[net], bend=self.bend, via=self.via, jump=self.jump,
-                         others=others, order=self.ties.get(net, (0, 1, 2, 3)), explain=False, partial=True)
-
     def rip(self, net: str) -> None:
         r = self.routes.pop(net, None)
         if r is None:
@@ -294,12 +285,14 @@ class _Negotiation:
                 self.lay(n, snap[n])
 
     def route(self, net: str, strict: bool = False, via: Optional[int] = None, explain: bool = True,
-              budget: Optional[int] = None) -> NetRoute:
+              budget: Optional[int] = None, partial: bool = False) -> NetRoute:
         """`net` routed in the negotiation's present state; with `strict`, other nets' copper as
         walls. `budget`: see :func:`router.nets.route_net` (a route that fails for it says
-        nothing about the fixed copper: not marked blind)."""
+        nothing about the fixed copper: not marked blind). `partial` (a net that cannot be
+        completed, with `strict`): joined as far as it goes, its pads with no way to the grid left
+        out (:func:`router.nets.route_net`), so a user completes it by hand or in a later ``route``."""
         grid = self.grid
-        if net in self.blind:            # a pad with no way to the grid is found once, not every pass
+        if net in self.blind and not partial:    # a pad with no way to the grid is found once, not every pass
             return NetRoute(net, failed=self.blind[net], blind=True)
         extra = self.reserve.extra_for(net)
         if self.fanout is not None:
@@ -323,7 +316,7 @@ class _Negotiation:
                           bend=self.bend, via=self.via if via is None else via,
                           jump=self.jump, others=others, cache=not strict, order=self.ties.get(net, (0, 1, 2, 3)),
                           explain=explain and (strict or not grid.one_layer) and box is None,     # two layers: found once
-                          budget=budget, pieces=None if m is None else m.pieces)
+                          budget=budget, pieces=None if m is None else m.pieces, partial=partial)
             if m is not None:
                 r = merged(m.kept, r)
             if not r.failed:
@@ -1839,7 +1832,7 @@ def _anchor_test(grid: RoutingGrid, net: str, r: NetRoute):
 
 def _partial_copper(neg: _Negotiation, lost: list[str]) -> set:
     """The lost nets of three pad groups or more that keep the copper joining the pads they reach
-    (:meth:`_Negotiation.partial`, laid one after the other, each a wall to the next): a supply that
+    (:meth:`_Negotiation.route` with ``partial``, laid one after the other, each a wall to the next): a supply that
     misses one pad of thirty is written with the twenty-nine joined, not left out whole. Their
     reasons stay; the exact check takes the copper out again where it breaks a rule (:func:`_settle`)."""
     kept = set()
@@ -1848,7 +1841,7 @@ def _partial_copper(neg: _Negotiation, lost: list[str]) -> set:
             continue
         if net in neg.routes:
             neg.rip(net)
-        r = neg.partial(net)
+        r = neg.route(net, strict=True, explain=False, partial=True)
         if r.edges or r.stubs or r.necks or r.jumpers:
             neg.lay(net, r)
             kept.add(net)

@@ -86,6 +86,14 @@ class NetRoute:
     def via_points(self, grid: RoutingGrid):
         return [grid.point(j, i) for j, i in self.vias]
 
+    def plus(self, other: "NetRoute") -> "NetRoute":
+        """One route of this route's copper and `other`'s (this one's first), with this one's name
+        and failure."""
+        return NetRoute(self.net, edges=self.edges | other.edges, stubs=self.stubs + other.stubs,
+                        vias=list(dict.fromkeys(self.vias + other.vias)), jumpers=self.jumpers + other.jumpers,
+                        cells=self.cells | other.cells, near=self.near | other.near, failed=self.failed,
+                        blind=self.blind, necks=self.necks + other.necks, closed=self.closed)
+
 
 def _access(grid: RoutingGrid, space: SearchSpace, net: str, pad, others=None) -> dict:
     """Access cells of one pad: inside its copper, or one straight stub away, or (a pad no grid
@@ -586,15 +594,8 @@ def route_net(grid: RoutingGrid, net: str, space: SearchSpace, pad_groups: list[
             else:
                 route.failed += UNNAMED
             if partial and len(left) > 1:        # the terminals this tree cannot reach, joined to each other
-                rest = _grown_apart(grid, net, space, [terms[k] for k in left], bend=bend, via=via, jump=jump,
-                                    others=others, order=order)
-                route.edges |= rest.edges
-                route.stubs += rest.stubs
-                route.vias = list(dict.fromkeys(route.vias + rest.vias))
-                route.jumpers += rest.jumpers
-                route.cells |= rest.cells
-                route.near |= rest.near
-                route.necks += rest.necks
+                route = route.plus(_grown_apart(grid, net, space, [terms[k] for k in left], bend=bend, via=via,
+                                                jump=jump, others=others, order=order))
             return route
         start = tuple(int(v) for v in path.cells[0])
         end = tuple(int(v) for v in path.cells[-1])

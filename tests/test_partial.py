@@ -49,12 +49,24 @@ def test_the_copper_kept_is_kept_by_the_next_route():
     assert kept == now                                  # nothing of it taken out, nothing added
 
 
-def test_a_net_of_two_pads_gets_no_copper():
+def test_a_net_of_two_pads_is_not_searched_again(monkeypatch):
+    """A lost net of two pads has nothing to keep (its one link is what failed): no partial route is
+    searched for it, and it gets no copper."""
+    from router import negotiate
+    asked = []
+    route_net = negotiate.route_net
+    monkeypatch.setattr(negotiate, "route_net",
+                        lambda *a, **kw: asked.append((a[1], kw.get("partial"))) or route_net(*a, **kw))
     b = _board()
     b.nets = [Net("P", ["A.1", "C.1"]), Net("Q", ["D.1", "E.1"])]
     r = route_board(b, seed=0)
     assert set(r.failed) == {"P"}
+    assert ("P", True) not in asked and ("P", False) in asked
     assert not any(t.net == "P" for t in r.board.traces) and not any(v.net == "P" for v in r.board.vias)
+    b = _board()                                                  # the three-pad net is searched so
+    asked.clear()
+    route_board(b, seed=0)
+    assert ("P", True) in asked
 
 
 def test_the_exact_check_takes_out_partial_copper_before_a_routed_net():
